@@ -1,0 +1,604 @@
+using System.Globalization;
+using DischargeGuard.Rules.Model;
+using UnitsNet;
+
+namespace DischargeGuard.Rules.Evaluation;
+
+/// <summary>
+/// Turns a stage's temperatures, equipment and service into findings, a verdict and the governing finding.
+/// Pure: no I/O, no clock; the rule set is immutable, so evaluations in flight are unaffected by reloads.
+/// </summary>
+public static class RuleEngine
+{
+    private const double CelsiusOffset = 273.15;
+
+    /// <summary>Evaluates every stage of a train and forms the overall verdict.</summary>
+    /// <param name="rules">The effective rule set (from <c>Resolve(siteId, assetId)</c>).</param>
+    /// <param name="stages">The stages.</param>
+    /// <param name="envelope">Optional envelope calculator, called with each stage's governing quantity and limit.</param>
+    /// <returns>Findings per stage, verdicts, digest and layers.</returns>
+    public static EvaluationResult Evaluate(EffectiveRuleSet rules, IReadOnlyList<StageFacts> stages, IEnvelopeCalculator? envelope = null)
+    {
+        ArgumentNullException.ThrowIfNull(rules);
+        ArgumentNullException.ThrowIfNull(stages);
+        var results = new StageResult[stages.Count];
+        var overall = Verdict.Pass;
+        for (var i = 0; i < stages.Count; i++)
+        {
+            results[i] = EvaluateStage(rules, stages[i], envelope);
+            if (results[i].Verdict > overall)
+            {
+                overall = results[i].Verdict;
+            }
+        }
+
+        return new EvaluationResult(overall, results, rules.Digest, rules.Layers);
+    }
+
+    /// <summary>Evaluates one stage.</summary>
+    /// <param name="rules">The effective rule set.</param>
+    /// <param name="stage">The stage.</param>
+    /// <param name="envelope">Optional envelope calculator.</param>
+    /// <returns>The stage result.</returns>
+    public static StageResult EvaluateStage(EffectiveRuleSet rules, StageFacts stage, IEnvelopeCalculator? envelope = null)
+    {
+        ArgumentNullException.ThrowIfNull(rules);
+        ArgumentNullException.ThrowIfNull(stage);
+        Validate(rules, stage);
+
+        var detected = ServiceClassDetector.Detect(rules, stage.GasMolarMass, stage.OxygenMoleFraction);
+        var classes = detected.Count == 0 ? stage.DeclaredServiceClasses : stage.DeclaredServiceClasses.Union(detected, StringComparer.Ordinal).ToArray();
+        var type = stage.CompressorTypeId is null ? null : rules.CompressorTypes[stage.CompressorTypeId];
+        var lubricant = stage.LubricantId is null ? null : rules.Lubricants[stage.LubricantId];
+        var findings = new List<Finding>(rules.Rules.Count);
+        List<NotChecked>? notChecked = null;
+        RuleDefinition? setPointRule = null;
+
+        foreach (var rule in rules.Rules)
+        {
+            var missing = Applies(rule.AppliesTo, stage, classes, lubricant, out var applies);
+            if (!applies)
+            {
+                continue;
+            }
+
+            if (missing is not null)
+            {
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [missing], $"The rule applies only when '{missing}' is known; supply it to have the rule checked."));
+                continue;
+            }
+
+            if (rule.SetPoints is not null)
+            {
+                setPointRule = rule;
+                continue;
+            }
+
+            var finding = Check(rules, rule, stage, lubricant, ref notChecked);
+            if (finding is not null)
+            {
+                findings.Add(finding);
+            }
+        }
+
+        if (setPointRule is not null)
+        {
+            if (stage.NormalOperatingDischarge is { } normal)
+            {
+                findings.Add(ProposeSetPoints(setPointRule, normal, findings));
+            }
+            else
+            {
+                (notChecked ??= []).Add(new NotChecked(setPointRule.Id, setPointRule.Title, ["normalOperatingDischargeTemperature"],
+                    "Set points are proposed from the normal operating discharge temperature; supply it to get a proposal."));
+            }
+        }
+
+        if (stage.EfficiencyDefaulted && type is not null)
+        {
+            findings.Add(new Finding
+            {
+                RuleId = "ENGINE-DEFAULT-EFFICIENCY",
+                Title = "Efficiency taken from the compressor-type catalogue",
+                Severity = Severity.Info,
+                RuleSeverity = Severity.Info,
+                Quantity = CheckedQuantity.Estimated,
+                Basis = type.EfficiencyBasis,
+                Layer = "default",
+                Message = "The request gave no efficiency, so the estimated discharge temperature uses the catalogue default for this compressor type. Use the manufacturer's value where one exists.",
+                Detail = type.DefaultEfficiency is { } eff
+                    ? string.Create(CultureInfo.InvariantCulture, $"{type.EfficiencyKind.ToString().ToLowerInvariant()} efficiency {eff:0.00} for '{type.Id}'")
+                    : string.Create(CultureInfo.InvariantCulture, $"no efficiency applies to '{type.Id}'"),
+            });
+        }
+
+        var verdict = Verdict.Pass;
+        Finding? governing = null;
+        foreach (var f in findings)
+        {
+            if (f.Severity == Severity.Violation)
+            {
+                verdict = Verdict.Fail;
+            }
+            else if (f.Severity == Severity.Warning && verdict == Verdict.Pass)
+            {
+                verdict = Verdict.Review;
+            }
+
+            if (f.RuleSeverity == Severity.Violation && f.Margin is { } m && IsBetterGoverning(f, m, governing))
+            {
+                governing = f;
+            }
+        }
+
+        EnvelopeEstimate? env = null;
+        if (envelope is not null && governing is not null)
+        {
+            env = Envelope(envelope, stage, governing);
+        }
+
+        return new StageResult(stage.StageIndex, verdict, findings, notChecked ?? (IReadOnlyList<NotChecked>)[], rules.Disabled, classes, detected, governing, env);
+    }
+
+    private static bool IsBetterGoverning(Finding candidate, Reading margin, Finding? current)
+    {
+        if (current is null)
+        {
+            return true;
+        }
+
+        // Kelvin margins and ratio margins cannot be compared; a temperature limit governs over a ratio limit.
+        var candTemp = margin.Dimension != QuantityDimension.Ratio;
+        var curTemp = current.Margin!.Value.Dimension != QuantityDimension.Ratio;
+        if (candTemp != curTemp)
+        {
+            return candTemp;
+        }
+
+        return margin.SiValue < current.Margin.Value.SiValue;
+    }
+
+    private static EnvelopeEstimate Envelope(IEnvelopeCalculator calculator, StageFacts stage, Finding governing)
+    {
+        if (governing.Quantity is CheckedQuantity.Isentropic or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.PressureRatio)
+        {
+            var (p, t) = calculator.Compute(stage, governing.Quantity, governing.Limit!.Value);
+            return new EnvelopeEstimate(governing.RuleId, governing.Quantity, governing.Limit.Value, p, t);
+        }
+
+        return new EnvelopeEstimate(governing.RuleId, governing.Quantity, governing.Limit!.Value,
+            new EnvelopeBound<Pressure>(EnvelopeStatus.NotComputableForQuantity, null),
+            new EnvelopeBound<Temperature>(EnvelopeStatus.NotComputableForQuantity, null));
+    }
+
+    private static void Validate(EffectiveRuleSet rules, StageFacts stage)
+    {
+        static void Positive(double v, string name)
+        {
+            if (!double.IsFinite(v) || v <= 0)
+            {
+                throw new ArgumentOutOfRangeException(nameof(stage), v, $"{name} must be positive and finite.");
+            }
+        }
+
+        Positive(stage.SuctionTemperature.Kelvins, nameof(StageFacts.SuctionTemperature));
+        Positive(stage.Isentropic.Kelvins, nameof(StageFacts.Isentropic));
+        Positive(stage.Estimated.Kelvins, nameof(StageFacts.Estimated));
+        Positive(stage.EstimatedUpperBound.Kelvins, nameof(StageFacts.EstimatedUpperBound));
+        Positive(stage.SuctionPressure.Pascals, nameof(StageFacts.SuctionPressure));
+        Positive(stage.DischargePressure.Pascals, nameof(StageFacts.DischargePressure));
+        foreach (var t in new[] { stage.MeasuredDischarge, stage.NormalOperatingDischarge, stage.JacketCoolantInlet, stage.DischargeWaterDewPoint })
+        {
+            if (t is { } v)
+            {
+                Positive(v.Kelvins, "An optional temperature");
+            }
+        }
+
+        static void Known<T>(IReadOnlyDictionary<string, T> catalogue, string? id, string what)
+        {
+            if (id is not null && !catalogue.ContainsKey(id))
+            {
+                throw new ArgumentOutOfRangeException(nameof(stage), id, $"Unknown {what} '{id}'; known: {string.Join(", ", catalogue.Keys.Order(StringComparer.Ordinal))}.");
+            }
+        }
+
+        Known(rules.CompressorTypes, stage.CompressorTypeId, "compressor type");
+        Known(rules.Lubricants, stage.LubricantId, "lubricant");
+        Known(rules.Materials, stage.ValveMaterialId, "valve material");
+        Known(rules.Materials, stage.SealMaterialId, "seal material");
+        foreach (var c in stage.DeclaredServiceClasses)
+        {
+            Known(rules.ServiceClasses, c, "service class");
+        }
+    }
+
+    /// <summary>Returns the missing input that prevents checking, or null; <paramref name="applies"/> false when the rule does not apply.</summary>
+    private static string? Applies(AppliesTo a, StageFacts s, IReadOnlyList<string> classes, Lubricant? lubricant, out bool applies)
+    {
+        applies = false;
+        string? missing = null;
+        if (a.CompressorTypes.Count > 0 || a.NotCompressorTypes.Count > 0)
+        {
+            if (s.CompressorTypeId is null)
+            {
+                missing ??= "compressorType";
+            }
+            else if ((a.CompressorTypes.Count > 0 && !Contains(a.CompressorTypes, s.CompressorTypeId)) || Contains(a.NotCompressorTypes, s.CompressorTypeId))
+            {
+                return null;
+            }
+        }
+
+        if (a.ServiceClasses.Count > 0 && !Any(a.ServiceClasses, classes))
+        {
+            return null;
+        }
+
+        if (a.NotServiceClasses.Count > 0 && Any(a.NotServiceClasses, classes))
+        {
+            return null;
+        }
+
+        if (a.StagePositions.Count > 0 && !a.StagePositions.Contains(s.Position))
+        {
+            return null;
+        }
+
+        if (a.BaseStocks.Count > 0)
+        {
+            if (lubricant is null)
+            {
+                missing ??= "lubricant";
+            }
+            else if (!Contains(a.BaseStocks, lubricant.BaseStock))
+            {
+                return null;
+            }
+        }
+
+        if (a.ValveMaterials.Count > 0)
+        {
+            if (s.ValveMaterialId is null)
+            {
+                missing ??= "valveMaterial";
+            }
+            else if (!Contains(a.ValveMaterials, s.ValveMaterialId))
+            {
+                return null;
+            }
+        }
+
+        if (a.SealMaterials.Count > 0)
+        {
+            if (s.SealMaterialId is null)
+            {
+                missing ??= "sealMaterial";
+            }
+            else if (!Contains(a.SealMaterials, s.SealMaterialId))
+            {
+                return null;
+            }
+        }
+
+        if (a.UnloadedRunning is { } wanted)
+        {
+            if (s.UnloadedRunning is null)
+            {
+                missing ??= "unloadedRunning";
+            }
+            else if (s.UnloadedRunning != wanted)
+            {
+                return null;
+            }
+        }
+
+        applies = true;
+        return missing;
+    }
+
+    private static bool Contains(IReadOnlyList<string> list, string value)
+    {
+        for (var i = 0; i < list.Count; i++)
+        {
+            if (string.Equals(list[i], value, StringComparison.Ordinal))
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    private static bool Any(IReadOnlyList<string> wanted, IReadOnlyList<string> have)
+    {
+        for (var i = 0; i < have.Count; i++)
+        {
+            if (Contains(wanted, have[i]))
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    private static (double? Value, string? Missing) ValueOf(CheckedQuantity q, StageFacts s) => q switch
+    {
+        CheckedQuantity.Isentropic => (s.Isentropic.Kelvins, null),
+        CheckedQuantity.Estimated => (s.Estimated.Kelvins, null),
+        CheckedQuantity.EstimatedUpperBound => (s.EstimatedUpperBound.Kelvins, null),
+        CheckedQuantity.Measured => (s.MeasuredDischarge?.Kelvins, "measuredDischargeTemperature"),
+        CheckedQuantity.MeasuredMinusPredicted => (s.MeasuredDischarge is { } m ? m.Kelvins - s.Estimated.Kelvins : null, "measuredDischargeTemperature"),
+        CheckedQuantity.PressureRatio => (s.PressureRatio, null),
+        CheckedQuantity.TemperatureRise => (s.Estimated.Kelvins - s.SuctionTemperature.Kelvins, null),
+        CheckedQuantity.JacketCoolantInlet => (s.JacketCoolantInlet?.Kelvins, "jacketCoolantInletTemperature"),
+        CheckedQuantity.NormalOperating => (s.NormalOperatingDischarge?.Kelvins, "normalOperatingDischargeTemperature"),
+        _ => throw new ArgumentOutOfRangeException(nameof(q), q, "Unknown quantity."),
+    };
+
+    private enum LimitOutcome
+    {
+        Ok,
+        Missing,
+        NotApplicable,
+    }
+
+    private static LimitOutcome ResolveLimit(EffectiveRuleSet rules, RuleLimit limit, StageFacts s, Lubricant? lubricant, out double value, out string? missing)
+    {
+        value = 0;
+        missing = null;
+        double? b;
+        switch (limit.Source)
+        {
+            case LimitSource.Absolute:
+                value = limit.Absolute!.Value;
+                return LimitOutcome.Ok;
+            case LimitSource.GreaterOfFixedAndFractionOfPredicted:
+                value = Math.Max(limit.AtLeastKelvin, limit.FractionOfPredicted * s.Estimated.Kelvins);
+                return LimitOutcome.Ok;
+            case LimitSource.LubricantRatedMaxDischarge or LimitSource.LubricantAutoignition or LimitSource.LubricantFlashPoint:
+                if (lubricant is null)
+                {
+                    missing = "lubricant";
+                    return LimitOutcome.Missing;
+                }
+
+                (b, missing) = limit.Source switch
+                {
+                    LimitSource.LubricantRatedMaxDischarge => (lubricant.RatedMaxDischarge?.Kelvins, $"lubricants[{lubricant.Id}].ratedMaxDischarge"),
+                    LimitSource.LubricantAutoignition => (lubricant.AutoignitionTemperature?.Kelvins, $"lubricants[{lubricant.Id}].autoignitionTemperature"),
+                    _ => (lubricant.FlashPoint?.Kelvins, $"lubricants[{lubricant.Id}].flashPoint"),
+                };
+                break;
+            case LimitSource.ValveMaterialLimit or LimitSource.SealMaterialLimit:
+                var id = limit.Source == LimitSource.ValveMaterialLimit ? s.ValveMaterialId : s.SealMaterialId;
+                if (id is null)
+                {
+                    missing = limit.Source == LimitSource.ValveMaterialLimit ? "valveMaterial" : "sealMaterial";
+                    return LimitOutcome.Missing;
+                }
+
+                b = rules.Materials[id].ContinuousLimit?.Kelvins;
+                if (b is null)
+                {
+                    // The catalogue states deliberately that no temperature check applies (e.g. metal plates).
+                    return LimitOutcome.NotApplicable;
+                }
+
+                break;
+            case LimitSource.InputSuctionTemperature:
+                b = s.SuctionTemperature.Kelvins;
+                break;
+            case LimitSource.InputDischargeWaterDewPoint:
+                b = s.DischargeWaterDewPoint?.Kelvins;
+                missing = "dischargeWaterDewPoint";
+                break;
+            default:
+                throw new ArgumentOutOfRangeException(nameof(limit), limit.Source, "Unknown limit source.");
+        }
+
+        if (b is null)
+        {
+            return LimitOutcome.Missing;
+        }
+
+        missing = null;
+        value = b.Value - limit.DeratingForPressureKelvin - limit.MarginKelvin + limit.PlusKelvin;
+        return LimitOutcome.Ok;
+    }
+
+    private static Finding? Check(EffectiveRuleSet rules, RuleDefinition rule, StageFacts s, Lubricant? lubricant, ref List<NotChecked>? notChecked)
+    {
+        var dim = rule.Quantities[0].Dimension();
+        var marginDim = dim == QuantityDimension.Ratio ? QuantityDimension.Ratio : QuantityDimension.TemperatureDifference;
+
+        // Pick the available quantity with the smallest margin (or the first available when there is no limit).
+        double limitValue = 0;
+        var hasLimit = false;
+        if (rule.Limit is not null)
+        {
+            var outcome = ResolveLimit(rules, rule.Limit, s, lubricant, out limitValue, out var limitMissing);
+            if (outcome == LimitOutcome.NotApplicable)
+            {
+                return null;
+            }
+
+            if (outcome == LimitOutcome.Missing)
+            {
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [limitMissing!], $"The limit needs '{limitMissing}'; supply it to have the rule checked."));
+                return null;
+            }
+
+            hasLimit = true;
+        }
+
+        CheckedQuantity? best = null;
+        double bestValue = 0, bestMargin = double.PositiveInfinity;
+        string[]? missingQ = null;
+        foreach (var q in rule.Quantities)
+        {
+            var (v, miss) = ValueOf(q, s);
+            if (v is null)
+            {
+                missingQ = missingQ is null ? [miss!] : [.. missingQ, miss!];
+                continue;
+            }
+
+            var margin = hasLimit ? (rule.Direction == LimitDirection.Upper ? limitValue - v.Value : v.Value - limitValue) : 0;
+            if (best is null || margin < bestMargin)
+            {
+                best = q;
+                bestValue = v.Value;
+                bestMargin = margin;
+            }
+        }
+
+        if (best is null)
+        {
+            if (!(rule.RequiresSignedLimit && !hasLimit))
+            {
+                var distinct = missingQ!.Distinct(StringComparer.Ordinal).ToArray();
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, distinct,
+                    $"The rule checks {string.Join(" or ", rule.Quantities.Select(q => q.ToName()))}; supply {string.Join(", ", distinct)} to have it checked."));
+                return null;
+            }
+        }
+
+        var value = best is null ? (Reading?)null : new Reading(dim, bestValue);
+        var quantity = best ?? rule.Quantities[0];
+        if (rule.RequiresSignedLimit && !hasLimit)
+        {
+            return new Finding
+            {
+                RuleId = rule.Id,
+                Title = rule.Title,
+                Severity = Severity.Violation,
+                RuleSeverity = Severity.Violation,
+                Quantity = quantity,
+                Value = value,
+                Basis = rule.Basis,
+                Layer = rule.LimitLayer,
+                Message = rule.Message,
+                Detail = "no limit set for this special service; an engineer must set and sign off the limit in a site or asset layer",
+            };
+        }
+
+        if (!hasLimit)
+        {
+            return new Finding
+            {
+                RuleId = rule.Id,
+                Title = rule.Title,
+                Severity = Severity.Info,
+                RuleSeverity = rule.Severity,
+                Quantity = quantity,
+                Value = value,
+                Basis = rule.Basis,
+                Layer = rule.LimitLayer,
+                Message = rule.Message,
+                Detail = string.Create(CultureInfo.InvariantCulture, $"{quantity.ToName()} {value}"),
+            };
+        }
+
+        Severity severity;
+        if (bestMargin < 0)
+        {
+            severity = rule.Severity;
+        }
+        else if (rule.WarningBand > 0 && bestMargin < rule.WarningBand)
+        {
+            severity = rule.Severity == Severity.Violation ? Severity.Warning : Severity.Info;
+        }
+        else
+        {
+            severity = Severity.Pass;
+        }
+
+        var limit = new Reading(dim, limitValue);
+        var marginReading = new Reading(marginDim, bestMargin);
+        var op = rule.Direction == LimitDirection.Upper ? (bestMargin < 0 ? ">" : "<=") : (bestMargin < 0 ? "<" : ">=");
+        return new Finding
+        {
+            RuleId = rule.Id,
+            Title = rule.Title,
+            Severity = severity,
+            RuleSeverity = rule.Severity,
+            Quantity = quantity,
+            Value = value,
+            Limit = limit,
+            Margin = marginReading,
+            Direction = rule.Direction,
+            Basis = rule.Basis,
+            Layer = rule.LimitLayer,
+            LoosenedReason = rule.LoosenedReason,
+            SignOff = rule.SignOff,
+            Message = rule.Message,
+            Detail = string.Create(CultureInfo.InvariantCulture, $"{quantity.ToName()} {value} {op} limit {limit} (margin {marginReading}; set by {rule.LimitLayer})"),
+        };
+    }
+
+    private static Finding ProposeSetPoints(RuleDefinition rule, Temperature normal, List<Finding> findings)
+    {
+        var nK = normal.Kelvins;
+        var nC = nK - CelsiusOffset;
+
+        // Percent steps are taken on the Celsius reading: smaller than on the Fahrenheit reading above -40 °C, so more cautious.
+        static double Step(SetPointStep s, double celsius) => Math.Max(0, Math.Min(s.Fraction * celsius, s.AtMostKelvin));
+        var alarm = nK + Step(rule.SetPoints!.Alarm, nC);
+        var trip = nK + Step(rule.SetPoints.Trip, nC);
+
+        Finding? cap = null;
+        foreach (var f in findings)
+        {
+            if (f.RuleSeverity == Severity.Violation && f.Limit is { Dimension: QuantityDimension.Temperature } l && f.Quantity.IsDischargeTemperature()
+                && f.Direction == LimitDirection.Upper && (cap is null || l.SiValue < cap.Limit!.Value.SiValue))
+            {
+                cap = f;
+            }
+        }
+
+        var capped = false;
+        var severity = Severity.Info;
+        var detail = "";
+        if (cap is not null)
+        {
+            var capK = cap.Limit!.Value.SiValue;
+            if (trip > capK)
+            {
+                trip = capK;
+                capped = true;
+            }
+
+            if (alarm > trip)
+            {
+                alarm = trip;
+                capped = true;
+            }
+
+            if (nK >= capK)
+            {
+                severity = Severity.Warning;
+                detail = string.Create(CultureInfo.InvariantCulture, $"; normal operating {new Reading(QuantityDimension.Temperature, nK)} is at or above the fail limit of {cap.RuleId}, so no set point can sit between them");
+            }
+        }
+
+        var proposal = new SetPointProposal(normal, Temperature.FromKelvins(alarm), Temperature.FromKelvins(trip), cap?.RuleId, cap?.Limit?.Temperature, capped);
+        return new Finding
+        {
+            RuleId = rule.Id,
+            Title = rule.Title,
+            Severity = severity,
+            RuleSeverity = rule.Severity,
+            Quantity = CheckedQuantity.NormalOperating,
+            Value = new Reading(QuantityDimension.Temperature, nK),
+            Basis = rule.Basis,
+            Layer = rule.LimitLayer,
+            LoosenedReason = rule.LoosenedReason,
+            Message = rule.Message,
+            Detail = string.Create(CultureInfo.InvariantCulture, $"proposed alarm {new Reading(QuantityDimension.Temperature, alarm)}, trip {new Reading(QuantityDimension.Temperature, trip)}")
+                + (cap is null ? "" : string.Create(CultureInfo.InvariantCulture, $" (capped at the fail limit {cap.Limit} of {cap.RuleId})")) + detail,
+            SetPoints = proposal,
+        };
+    }
+}

@@ -1,0 +1,58 @@
+using DischargeGuard.Rules.Model;
+using UnitsNet;
+
+namespace DischargeGuard.Rules.Evaluation;
+
+/// <summary>
+/// What the engine knows about one stage: the Thermo results, the stage's equipment and service, and the
+/// optional field inputs. A null optional field means "input absent": rules that need it are listed as not checked.
+/// Temperatures are absolute; pressures are absolute.
+/// </summary>
+public sealed record StageFacts
+{
+    /// <summary>0-based stage index in the train.</summary>
+    public required int StageIndex { get; init; }
+    /// <summary>Position in the train.</summary>
+    public required StagePosition Position { get; init; }
+    /// <summary>Compressor type id from the catalogue.</summary>
+    public string? CompressorTypeId { get; init; }
+    /// <summary>Lubricant id from the catalogue (null when unknown or not lubricated).</summary>
+    public string? LubricantId { get; init; }
+    /// <summary>Valve material id.</summary>
+    public string? ValveMaterialId { get; init; }
+    /// <summary>Gas-wetted seal material id.</summary>
+    public string? SealMaterialId { get; init; }
+    /// <summary>Service classes the caller declares (chlorine, acetylene, sour, CO2, air, hydrocarbon, …).</summary>
+    public IReadOnlyList<string> DeclaredServiceClasses { get; init; } = [];
+    /// <summary>Gas molar mass, for hydrogen-rich detection.</summary>
+    public MolarMass? GasMolarMass { get; init; }
+    /// <summary>O2 mole fraction, for oxygen-rich detection.</summary>
+    public Ratio? OxygenMoleFraction { get; init; }
+    /// <summary>Suction temperature.</summary>
+    public required Temperature SuctionTemperature { get; init; }
+    /// <summary>Suction pressure, absolute.</summary>
+    public required Pressure SuctionPressure { get; init; }
+    /// <summary>Discharge pressure, absolute.</summary>
+    public required Pressure DischargePressure { get; init; }
+    /// <summary>Ideal (η = 1) discharge temperature.</summary>
+    public required Temperature Isentropic { get; init; }
+    /// <summary>Discharge temperature with the stage efficiency.</summary>
+    public required Temperature Estimated { get; init; }
+    /// <summary>Upper bound of the discharge temperature.</summary>
+    public required Temperature EstimatedUpperBound { get; init; }
+    /// <summary>True when the efficiency came from the compressor-type catalogue because the request gave none.</summary>
+    public bool EfficiencyDefaulted { get; init; }
+    /// <summary>Measured discharge temperature.</summary>
+    public Temperature? MeasuredDischarge { get; init; }
+    /// <summary>Normal operating discharge temperature (for the set-point proposal).</summary>
+    public Temperature? NormalOperatingDischarge { get; init; }
+    /// <summary>Jacket coolant inlet temperature.</summary>
+    public Temperature? JacketCoolantInlet { get; init; }
+    /// <summary>Whether the stage runs unloaded for long periods.</summary>
+    public bool? UnloadedRunning { get; init; }
+    /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
+    public Temperature? DischargeWaterDewPoint { get; init; }
+
+    /// <summary>Pressure ratio on absolute pressures.</summary>
+    public double PressureRatio => DischargePressure.Pascals / SuctionPressure.Pascals;
+}

@@ -1,0 +1,593 @@
+using System.Globalization;
+using DischargeGuard.Rules.Model;
+using DischargeGuard.Rules.Units;
+using UnitsNet;
+using YamlDotNet.Core;
+using YamlDotNet.RepresentationModel;
+
+namespace DischargeGuard.Rules.Loading;
+
+/// <summary>
+/// Reads one rule file (YAML) into a <see cref="RuleLayer"/>, strictly: unknown keys, wrong types, missing
+/// units and duplicate ids are errors naming file, line, column and key. Pure: takes text, not a path.
+/// </summary>
+public static class RuleFileParser
+{
+    private static readonly string[] TopKeys = ["schemaVersion", "layer", "serviceClasses", "lubricants", "materials", "compressorTypes", "rules", "overrides"];
+    private static readonly string[] LayerKeys = ["kind", "id", "site", "title", "description", "owner"];
+    private static readonly string[] ServiceKeys = ["id", "title", "detection", "threshold", "basis"];
+    private static readonly string[] LubricantKeys = ["id", "title", "baseStock", "class", "flashPoint", "autoignitionTemperature", "ratedMaxDischarge", "basis"];
+    private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "basis"];
+    private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound"];
+    private static readonly string[] EfficiencyKeys = ["kind", "value", "basis"];
+    private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "setPoints"];
+    private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning"];
+    private static readonly string[] CatalogueLimitKeys = ["from", "deratingForPressure", "margin", "plus"];
+    private static readonly string[] GreaterOfKeys = ["atLeast", "fractionOfPredicted"];
+    private static readonly string[] SetPointKeys = ["alarm", "trip"];
+    private static readonly string[] StepKeys = ["fraction", "atMost"];
+    private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "approvedBy", "approvedOn", "reference"];
+
+    /// <summary>The only format version this loader reads.</summary>
+    public const int SchemaVersion = 1;
+
+    /// <summary>Parses a rule file; throws <see cref="RuleFileException"/> with every error found.</summary>
+    /// <param name="fileName">Name used in errors (relative to the rules directory).</param>
+    /// <param name="yaml">The file's text.</param>
+    /// <param name="expectedKind">The layer kind the file's place implies, or null to accept the declared kind.</param>
+    /// <returns>The layer, with its digest.</returns>
+    public static RuleLayer Parse(string fileName, string yaml, LayerKind? expectedKind = null)
+    {
+        ArgumentNullException.ThrowIfNull(fileName);
+        ArgumentNullException.ThrowIfNull(yaml);
+        var ctx = new Context(fileName);
+        var layer = ParseCore(ctx, yaml, expectedKind);
+        if (ctx.Errors.Count > 0 || layer is null)
+        {
+            throw new RuleFileException(ctx.Errors);
+        }
+
+        return layer with { Digest = CanonicalForm.Digest(CanonicalForm.OfLayer(layer)) };
+    }
+
+    private static RuleLayer? ParseCore(Context ctx, string yaml, LayerKind? expectedKind)
+    {
+        var stream = new YamlStream();
+        try
+        {
+            stream.Load(new StringReader(yaml));
+        }
+        catch (YamlException ex)
+        {
+            var msg = ex.InnerException is ArgumentException ? "Duplicate key: " + ex.Message : ex.Message;
+            ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, ex.Start.Line, ex.Start.Column, "", msg));
+            return null;
+        }
+
+        if (stream.Documents.Count != 1 || stream.Documents[0].RootNode is not YamlMappingNode root)
+        {
+            ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.WrongType, ctx.File, 1, 1, "", "A rule file is one YAML document whose top level is a mapping."));
+            return null;
+        }
+
+        var top = ctx.Map(root, "", TopKeys);
+        var version = ctx.Int(top, "schemaVersion", "schemaVersion", required: true);
+        if (version is not null and not SchemaVersion)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, top.Get("schemaVersion")!, "schemaVersion", string.Create(CultureInfo.InvariantCulture, $"Only schemaVersion {SchemaVersion} is understood."));
+        }
+
+        var layerNode = ctx.Mapping(top, "layer", "layer", required: true);
+        LayerKind kind = LayerKind.Default;
+        string id = "default";
+        string? site = null, title = null;
+        if (layerNode is not null)
+        {
+            var l = ctx.Map(layerNode, "layer", LayerKeys);
+            var kindText = ctx.Enum(l, "kind", "layer.kind", ["default", "site", "asset"], required: true);
+            kind = kindText switch { "site" => LayerKind.Site, "asset" => LayerKind.Asset, _ => LayerKind.Default };
+            id = ctx.Text(l, "id", "layer.id", required: true) ?? "default";
+            site = ctx.Text(l, "site", "layer.site");
+            title = ctx.Text(l, "title", "layer.title");
+            ctx.Text(l, "description", "layer.description");
+            ctx.Text(l, "owner", "layer.owner");
+            if (expectedKind is { } ek && kindText is not null && ek != kind)
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, l.Get("kind")!, "layer.kind", $"This file's place implies a {ek.ToString().ToLowerInvariant()} layer, but it declares '{kindText}'.");
+            }
+
+            if (kind == LayerKind.Default && id != "default" && l.Get("id") is { } idNode)
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, idNode, "layer.id", "The default layer's id is 'default'.");
+            }
+
+            if (site is not null && kind != LayerKind.Asset)
+            {
+                ctx.Add(RuleFileErrorKind.UnknownKey, l.Key("site")!, "layer.site", "Only an asset layer names its site.");
+            }
+        }
+
+        var ids = new Dictionary<string, string>(StringComparer.Ordinal);
+        var services = ctx.List(top, "serviceClasses", n => ParseService(ctx, n.Node, n.Path, ids));
+        var lubricants = ctx.List(top, "lubricants", n => ParseLubricant(ctx, n.Node, n.Path, ids));
+        var materials = ctx.List(top, "materials", n => ParseMaterial(ctx, n.Node, n.Path, ids));
+        var types = ctx.List(top, "compressorTypes", n => ParseType(ctx, n.Node, n.Path, ids));
+        var ruleIds = new Dictionary<string, string>(StringComparer.Ordinal);
+        var rules = ctx.List(top, "rules", n => ParseRule(ctx, n.Node, n.Path, ruleIds));
+        var overrides = ctx.List(top, "overrides", n => ParseOverride(ctx, n.Node, n.Path));
+        if (kind == LayerKind.Default && top.Get("overrides") is { } ov)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, ov, "overrides", "The default layer defines rules; only site and asset layers override them.");
+        }
+
+        var seenOverrides = new HashSet<string>(StringComparer.Ordinal);
+        foreach (var o in overrides)
+        {
+            if (!seenOverrides.Add(o.RuleId))
+            {
+                ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.DuplicateId, ctx.File, o.Location.Line, o.Location.Column, "overrides.rule", $"Rule '{o.RuleId}' is overridden twice in this file; merge the two entries."));
+            }
+        }
+
+        return new RuleLayer
+        {
+            File = ctx.File,
+            Kind = kind,
+            Id = id,
+            Site = site,
+            Title = title,
+            ServiceClasses = services,
+            Lubricants = lubricants,
+            Materials = materials,
+            CompressorTypes = types,
+            Rules = rules,
+            Overrides = overrides,
+            IdLocations = ctx.IdLocations,
+        };
+    }
+
+    private static string? Id(Context ctx, MapView m, string path, Dictionary<string, string> ids)
+    {
+        var id = ctx.Text(m, "id", path + ".id", required: true);
+        if (id is null)
+        {
+            return null;
+        }
+
+        if (!IsValidId(id))
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("id")!, path + ".id", $"Id '{id}' must be letters, digits, '-', '_' or '.', starting with a letter or digit.");
+        }
+
+        if (ids.TryGetValue(id, out var first))
+        {
+            ctx.Add(RuleFileErrorKind.DuplicateId, m.Get("id")!, path + ".id", $"Id '{id}' is already used at {first}.");
+        }
+        else
+        {
+            ids[id] = path;
+            ctx.IdLocations[path.Split('[')[0] + "/" + id] = ctx.Loc(m.Get("id")!);
+        }
+
+        return id;
+    }
+
+    internal static bool IsValidId(string id) =>
+        id.Length > 0 && id.Length <= 64 && char.IsAsciiLetterOrDigit(id[0]) && id.All(c => char.IsAsciiLetterOrDigit(c) || c is '-' or '_' or '.');
+
+    private static ServiceClass? ParseService(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, ServiceKeys);
+        var id = Id(ctx, m, path, ids);
+        var title = ctx.Text(m, "title", path + ".title", required: true);
+        var detection = ctx.Enum(m, "detection", path + ".detection", ["declared", "molarMassAtMost", "oxygenFractionAbove"], required: true);
+        var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        MolarMass? mm = null;
+        Ratio? o2 = null;
+        if (detection == "molarMassAtMost")
+        {
+            mm = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.MolarMass, required: true) is { } q ? (MolarMass)q : null;
+        }
+        else if (detection == "oxygenFractionAbove")
+        {
+            o2 = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.Fraction, required: true) is { } q ? (Ratio)q : null;
+        }
+        else if (m.Get("threshold") is { } t)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, t, path + ".threshold", "A declared service class has no detection threshold.");
+        }
+
+        if (id is null || title is null || detection is null || basis is null)
+        {
+            return null;
+        }
+
+        var det = detection switch { "molarMassAtMost" => ServiceDetection.MolarMassAtMost, "oxygenFractionAbove" => ServiceDetection.OxygenFractionAbove, _ => ServiceDetection.Declared };
+        return new ServiceClass(id, title, det, mm, o2, basis);
+    }
+
+    private static Lubricant? ParseLubricant(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, LubricantKeys);
+        var id = Id(ctx, m, path, ids);
+        var title = ctx.Text(m, "title", path + ".title", required: true);
+        var baseStock = ctx.Enum(m, "baseStock", path + ".baseStock", ["mineral", "pao", "diester", "polyolester", "pag", "silicone", "phosphate-ester", "other-synthetic"], required: true);
+        var cls = ctx.Text(m, "class", path + ".class");
+        var flash = ctx.Temperature(m, "flashPoint", path + ".flashPoint");
+        var ait = ctx.Temperature(m, "autoignitionTemperature", path + ".autoignitionTemperature");
+        var rated = ctx.Temperature(m, "ratedMaxDischarge", path + ".ratedMaxDischarge");
+        var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        return id is null || title is null || baseStock is null || basis is null ? null : new Lubricant(id, title, baseStock, cls, flash, ait, rated, basis);
+    }
+
+    private static Material? ParseMaterial(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, MaterialKeys);
+        var id = Id(ctx, m, path, ids);
+        var title = ctx.Text(m, "title", path + ".title", required: true);
+        var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal"], required: true);
+        var limit = ctx.Temperature(m, "continuousLimit", path + ".continuousLimit");
+        var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        return id is null || title is null || use is null || basis is null ? null
+            : new Material(id, title, use == "seal" ? MaterialUse.Seal : MaterialUse.Valve, limit, basis);
+    }
+
+    private static CompressorType? ParseType(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, TypeKeys);
+        var id = Id(ctx, m, path, ids);
+        var title = ctx.Text(m, "title", path + ".title", required: true);
+        var family = ctx.Enum(m, "family", path + ".family", ["reciprocating", "screw", "centrifugal", "axial", "scroll", "vane", "other"], required: true);
+        var lubricated = ctx.Bool(m, "lubricated", path + ".lubricated", required: true);
+        var upper = ctx.Bool(m, "predictionIsUpperBound", path + ".predictionIsUpperBound") ?? false;
+        var effNode = ctx.Mapping(m, "efficiency", path + ".efficiency", required: true);
+        EfficiencyKind kind = EfficiencyKind.NotApplicable;
+        double? value = null;
+        string? basis = null;
+        if (effNode is not null)
+        {
+            var e = ctx.Map(effNode, path + ".efficiency", EfficiencyKeys);
+            var k = ctx.Enum(e, "kind", path + ".efficiency.kind", ["isentropic", "polytropic", "notApplicable"], required: true);
+            kind = k switch { "isentropic" => EfficiencyKind.Isentropic, "polytropic" => EfficiencyKind.Polytropic, _ => EfficiencyKind.NotApplicable };
+            value = ctx.Number(e, "value", path + ".efficiency.value", required: kind != EfficiencyKind.NotApplicable);
+            if (value is { } v && (v <= 0 || v > 1))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, e.Get("value")!, path + ".efficiency.value", "An efficiency is a number in (0, 1].");
+            }
+
+            if (kind == EfficiencyKind.NotApplicable && e.Get("value") is { } vn)
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, vn, path + ".efficiency.value", "An efficiency of kind notApplicable has no value.");
+            }
+
+            basis = ctx.Text(e, "basis", path + ".efficiency.basis", required: true);
+        }
+
+        return id is null || title is null || family is null || lubricated is null || basis is null ? null
+            : new CompressorType(id, title, family, lubricated.Value, kind, value, basis, upper);
+    }
+
+    private static RuleDefinition? ParseRule(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, RuleKeys);
+        var id = Id(ctx, m, path, ids);
+        var title = ctx.Text(m, "title", path + ".title", required: true);
+        var applies = ParseAppliesTo(ctx, m, path + ".appliesTo");
+        var quantities = ParseQuantities(ctx, m, path + ".quantity");
+        var dirText = ctx.Enum(m, "direction", path + ".direction", ["upper", "lower"]);
+        var direction = dirText == "lower" ? LimitDirection.Lower : LimitDirection.Upper;
+        var severityText = ctx.Enum(m, "severity", path + ".severity", ["info", "warning", "violation"], required: true);
+        var severity = severityText switch { "warning" => Severity.Warning, "violation" => Severity.Violation, _ => Severity.Info };
+        var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        var message = ctx.Text(m, "message", path + ".message", required: true);
+        var signed = ctx.Bool(m, "requiresSignedLimit", path + ".requiresSignedLimit") ?? false;
+        var dimension = quantities is { Count: > 0 } ? quantities[0].Dimension() : QuantityDimension.Temperature;
+        if (quantities is { Count: > 1 } && quantities.Any(q => q.Dimension() != dimension))
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("quantity")!, path + ".quantity", "All quantities of one rule must have the same dimension.");
+        }
+
+        var limit = m.Get("limit") is not null ? ParseLimit(ctx, m, path + ".limit", dimension) : null;
+        var band = m.Get("warningBand") is not null ? ParseBand(ctx, m, path + ".warningBand", dimension) : 0;
+        SetPointSpec? setPoints = null;
+        if (ctx.Mapping(m, "setPoints", path + ".setPoints") is { } sp)
+        {
+            var s = ctx.Map(sp, path + ".setPoints", SetPointKeys);
+            var alarm = ParseStep(ctx, s, "alarm", path + ".setPoints.alarm");
+            var trip = ParseStep(ctx, s, "trip", path + ".setPoints.trip");
+            if (alarm is not null && trip is not null)
+            {
+                setPoints = new SetPointSpec(alarm, trip);
+            }
+        }
+
+        if (severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
+        {
+            ctx.Add(RuleFileErrorKind.MissingKey, m.Key("severity") ?? mapNode, path + ".limit", "A warning or violation rule needs a limit (or requiresSignedLimit: true).");
+        }
+
+        if (signed && limit is not null)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("limit")!, path + ".limit", "A rule that requires a signed limit has no limit of its own; a site or asset layer sets it with approvedBy and approvedOn.");
+        }
+
+        if (limit is not null && severity == Severity.Info)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("severity")!, path + ".severity", "A rule with a limit is a warning or a violation rule.");
+        }
+
+        if (id is null || title is null || quantities is null || severityText is null || basis is null || message is null)
+        {
+            return null;
+        }
+
+        return new RuleDefinition
+        {
+            Id = id,
+            Title = title,
+            AppliesTo = applies ?? new AppliesTo(),
+            Quantities = quantities,
+            Direction = direction,
+            Limit = limit,
+            WarningBand = band,
+            Severity = severity,
+            Basis = basis,
+            Message = message,
+            RequiresSignedLimit = signed,
+            SetPoints = setPoints,
+            Location = ctx.Loc(mapNode),
+        };
+    }
+
+    private static SetPointStep? ParseStep(Context ctx, MapView parent, string key, string path)
+    {
+        if (ctx.Mapping(parent, key, path, required: true) is not { } node)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(node, path, StepKeys);
+        var fraction = ctx.Quantity(m, "fraction", path + ".fraction", QuantityKind.Fraction, required: true);
+        var atMost = ctx.Quantity(m, "atMost", path + ".atMost", QuantityKind.TemperatureDifference, required: true);
+        return fraction is null || atMost is null ? null
+            : new SetPointStep(((Ratio)fraction).DecimalFractions, ((TemperatureDelta)atMost).Kelvins);
+    }
+
+    private static AppliesTo? ParseAppliesTo(Context ctx, MapView rule, string path)
+    {
+        if (ctx.Mapping(rule, "appliesTo", path) is not { } node)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(node, path, AppliesKeys);
+        var positions = new List<StagePosition>();
+        foreach (var p in ctx.TextList(m, "stagePositions", path + ".stagePositions") ?? [])
+        {
+            switch (p.Text)
+            {
+                case "only": positions.Add(StagePosition.Only); break;
+                case "first": positions.Add(StagePosition.First); break;
+                case "intermediate": positions.Add(StagePosition.Intermediate); break;
+                case "last": positions.Add(StagePosition.Last); break;
+                default:
+                    ctx.Add(RuleFileErrorKind.BadValue, p.Node, path + ".stagePositions", $"'{p.Text}' is not a stage position; use only, first, intermediate or last.");
+                    break;
+            }
+        }
+
+        return new AppliesTo
+        {
+            CompressorTypes = Texts(ctx.TextList(m, "compressorTypes", path + ".compressorTypes")),
+            NotCompressorTypes = Texts(ctx.TextList(m, "notCompressorTypes", path + ".notCompressorTypes")),
+            ServiceClasses = Texts(ctx.TextList(m, "serviceClasses", path + ".serviceClasses")),
+            NotServiceClasses = Texts(ctx.TextList(m, "notServiceClasses", path + ".notServiceClasses")),
+            BaseStocks = Texts(ctx.TextList(m, "baseStocks", path + ".baseStocks")),
+            ValveMaterials = Texts(ctx.TextList(m, "valveMaterials", path + ".valveMaterials")),
+            SealMaterials = Texts(ctx.TextList(m, "sealMaterials", path + ".sealMaterials")),
+            StagePositions = positions,
+            UnloadedRunning = ctx.Bool(m, "unloadedRunning", path + ".unloadedRunning"),
+        };
+    }
+
+    private static string[] Texts(List<(string Text, YamlNode Node)>? list) => list?.Select(x => x.Text).ToArray() ?? [];
+
+    private static List<CheckedQuantity>? ParseQuantities(Context ctx, MapView m, string path)
+    {
+        var node = m.Get("quantity");
+        if (node is null)
+        {
+            ctx.Add(RuleFileErrorKind.MissingKey, m.Node, path, "Every rule names the quantity it checks: " + string.Join(", ", CheckedQuantityNames.All) + ".");
+            return null;
+        }
+
+        var items = node switch
+        {
+            YamlScalarNode s => [(s.Value ?? string.Empty, (YamlNode)s)],
+            YamlSequenceNode seq => seq.Children.Select(c => (c is YamlScalarNode sc ? sc.Value ?? string.Empty : "\u0000", c)).ToList(),
+            _ => null,
+        };
+        if (items is null || items.Count == 0)
+        {
+            ctx.Add(RuleFileErrorKind.WrongType, node, path, "The quantity is a name or a list of names.");
+            return null;
+        }
+
+        var result = new List<CheckedQuantity>();
+        foreach (var (text, n) in items)
+        {
+            if (CheckedQuantityNames.TryParse(text, out var q))
+            {
+                result.Add(q);
+            }
+            else
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, n, path, $"'{text}' is not a checkable quantity; use one of: {string.Join(", ", CheckedQuantityNames.All)}.");
+            }
+        }
+
+        return result.Count == items.Count ? result : null;
+    }
+
+    internal static RuleLimit? ParseLimit(Context ctx, MapView parent, string path, QuantityDimension dimension)
+    {
+        var node = parent.Get("limit")!;
+        if (node is YamlScalarNode)
+        {
+            switch (dimension)
+            {
+                case QuantityDimension.Ratio:
+                    return ctx.Number(parent, "limit", path, required: true) is { } r ? new RuleLimit(LimitSource.Absolute, r) : null;
+                case QuantityDimension.TemperatureDifference:
+                    return ctx.Quantity(parent, "limit", path, QuantityKind.TemperatureDifference, required: true) is TemperatureDelta d ? new RuleLimit(LimitSource.Absolute, d.Kelvins) : null;
+                default:
+                    return ctx.Temperature(parent, "limit", path) is { } t ? new RuleLimit(LimitSource.Absolute, t.Kelvins) : null;
+            }
+        }
+
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        if (mapNode.Children.Keys.OfType<YamlScalarNode>().Any(k => k.Value == "greaterOf"))
+        {
+            var outer = ctx.Map(mapNode, path, ["greaterOf"]);
+            if (ctx.Mapping(outer, "greaterOf", path + ".greaterOf", required: true) is not { } g)
+            {
+                return null;
+            }
+
+            var gm = ctx.Map(g, path + ".greaterOf", GreaterOfKeys);
+            var atLeast = ctx.Quantity(gm, "atLeast", path + ".greaterOf.atLeast", QuantityKind.TemperatureDifference, required: true);
+            var fraction = ctx.Quantity(gm, "fractionOfPredicted", path + ".greaterOf.fractionOfPredicted", QuantityKind.Fraction, required: true);
+            return atLeast is null || fraction is null ? null
+                : new RuleLimit(LimitSource.GreaterOfFixedAndFractionOfPredicted, AtLeastKelvin: ((TemperatureDelta)atLeast).Kelvins, FractionOfPredicted: ((Ratio)fraction).DecimalFractions);
+        }
+
+        var m = ctx.Map(mapNode, path, CatalogueLimitKeys);
+        var from = ctx.Enum(m, "from", path + ".from",
+            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint"], required: true);
+        double Delta(string key) => ctx.Quantity(m, key, path + "." + key, QuantityKind.TemperatureDifference) is TemperatureDelta d ? d.Kelvins : 0;
+        var derating = Delta("deratingForPressure");
+        var margin = Delta("margin");
+        var plus = Delta("plus");
+        if (dimension != QuantityDimension.Temperature)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, mapNode, path, "A limit taken from a catalogue or an input is a temperature; the rule's quantity must be a temperature.");
+        }
+
+        var source = from switch
+        {
+            "lubricant.ratedMaxDischarge" => LimitSource.LubricantRatedMaxDischarge,
+            "lubricant.autoignitionTemperature" => LimitSource.LubricantAutoignition,
+            "lubricant.flashPoint" => LimitSource.LubricantFlashPoint,
+            "valveMaterial.continuousLimit" => LimitSource.ValveMaterialLimit,
+            "sealMaterial.continuousLimit" => LimitSource.SealMaterialLimit,
+            "input.suctionTemperature" => LimitSource.InputSuctionTemperature,
+            "input.dischargeWaterDewPoint" => LimitSource.InputDischargeWaterDewPoint,
+            _ => (LimitSource?)null,
+        };
+        return source is null ? null : new RuleLimit(source.Value, null, derating, margin, plus);
+    }
+
+    internal static double ParseBand(Context ctx, MapView parent, string path, QuantityDimension dimension)
+    {
+        double band;
+        if (dimension == QuantityDimension.Ratio)
+        {
+            band = ctx.Number(parent, "warningBand", path, required: true) ?? 0;
+        }
+        else
+        {
+            band = ctx.Quantity(parent, "warningBand", path, QuantityKind.TemperatureDifference, required: true) is TemperatureDelta d ? d.Kelvins : 0;
+        }
+
+        if (band < 0)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, parent.Get("warningBand")!, path, "A warning band is not negative.");
+        }
+
+        return band;
+    }
+
+    private static RuleOverride? ParseOverride(Context ctx, YamlNode node, string path)
+    {
+        if (ctx.AsMapping(node, path) is not { } mapNode)
+        {
+            return null;
+        }
+
+        var m = ctx.Map(mapNode, path, OverrideKeys);
+        var ruleId = ctx.Text(m, "rule", path + ".rule", required: true);
+        var disabled = ctx.Bool(m, "disabled", path + ".disabled") ?? false;
+        var reason = ctx.Text(m, "reason", path + ".reason");
+        var approvedBy = ctx.Text(m, "approvedBy", path + ".approvedBy");
+        var approvedOnText = ctx.Text(m, "approvedOn", path + ".approvedOn");
+        var reference = ctx.Text(m, "reference", path + ".reference");
+        DateOnly? approvedOn = null;
+        if (approvedOnText is not null)
+        {
+            if (DateOnly.TryParseExact(approvedOnText, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out var d))
+            {
+                approvedOn = d;
+            }
+            else
+            {
+                ctx.Add(RuleFileErrorKind.WrongType, m.Get("approvedOn")!, path + ".approvedOn", "A date is written yyyy-MM-dd.");
+            }
+        }
+
+        if (reason is not null && string.IsNullOrWhiteSpace(reason))
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("reason")!, path + ".reason", "A reason is not blank.");
+            reason = null;
+        }
+
+        if ((approvedBy is null) != (approvedOn is null) && approvedOnText is null == approvedOn is null)
+        {
+            ctx.Add(RuleFileErrorKind.MissingKey, mapNode, path + (approvedBy is null ? ".approvedBy" : ".approvedOn"), "A sign-off has both approvedBy and approvedOn.");
+        }
+
+        if (ruleId is null)
+        {
+            return null;
+        }
+
+        // The limit's form depends on the rule's quantity, known only at merge time: keep the raw node.
+        return new RuleOverride
+        {
+            RuleId = ruleId,
+            Disabled = disabled,
+            Reason = reason,
+            SignOff = approvedBy is not null && approvedOn is not null ? new SignOff(approvedBy, approvedOn.Value, reference) : null,
+            Location = ctx.Loc(mapNode),
+            Raw = m,
+        };
+    }
+}

@@ -1,0 +1,267 @@
+using System.Globalization;
+using UnitsNet;
+
+namespace DischargeGuard.Rules.Model;
+
+/// <summary>Where something was written: file (as the loader names it), 1-based line and column.</summary>
+/// <param name="File">The file name relative to the rules directory, or the name given to the loader.</param>
+/// <param name="Line">1-based line.</param>
+/// <param name="Column">1-based column.</param>
+public sealed record SourceLocation(string File, long Line, long Column)
+{
+    /// <inheritdoc />
+    public override string ToString() => string.Create(CultureInfo.InvariantCulture, $"{File}:{Line}:{Column}");
+}
+
+/// <summary>A lubricant in the catalogue.</summary>
+/// <param name="Id">Stable id.</param>
+/// <param name="Title">Human title.</param>
+/// <param name="BaseStock">Base stock (mineral, pao, diester, polyolester, pag, silicone, phosphate-ester).</param>
+/// <param name="Class">Classification (e.g. "DIN 51506 VDL", "ISO 6743-3 DAB").</param>
+/// <param name="FlashPoint">Flash point (open cup), if known.</param>
+/// <param name="AutoignitionTemperature">Autoignition temperature at 1 atm, if known.</param>
+/// <param name="RatedMaxDischarge">Maximum discharge temperature the class or maker rates the oil for, if known.</param>
+/// <param name="Basis">Where the numbers come from.</param>
+public sealed record Lubricant(string Id, string Title, string BaseStock, string? Class, Temperature? FlashPoint,
+    Temperature? AutoignitionTemperature, Temperature? RatedMaxDischarge, string Basis);
+
+/// <summary>What a material is used for.</summary>
+public enum MaterialUse
+{
+    /// <summary>Valve plates, rings, poppets.</summary>
+    Valve,
+    /// <summary>Gas-wetted seal elastomers (O-rings).</summary>
+    Seal,
+}
+
+/// <summary>A valve or seal material in the catalogue.</summary>
+/// <param name="Id">Stable id.</param>
+/// <param name="Title">Human title.</param>
+/// <param name="Use">Valve or seal.</param>
+/// <param name="ContinuousLimit">Continuous-service temperature limit; null means no temperature check applies (e.g. metal plates).</param>
+/// <param name="Basis">Where the number comes from.</param>
+public sealed record Material(string Id, string Title, MaterialUse Use, Temperature? ContinuousLimit, string Basis);
+
+/// <summary>How a default efficiency is defined.</summary>
+public enum EfficiencyKind
+{
+    /// <summary>Isentropic (adiabatic) efficiency.</summary>
+    Isentropic,
+    /// <summary>Polytropic efficiency.</summary>
+    Polytropic,
+    /// <summary>No efficiency applies (oil-flooded screws: the oil sets the temperature).</summary>
+    NotApplicable,
+}
+
+/// <summary>A compressor type in the catalogue.</summary>
+/// <param name="Id">Stable id.</param>
+/// <param name="Title">Human title.</param>
+/// <param name="Family">reciprocating, screw, centrifugal, scroll, vane, …</param>
+/// <param name="Lubricated">Whether the gas path is lubricated.</param>
+/// <param name="EfficiencyKind">Kind of the default efficiency.</param>
+/// <param name="DefaultEfficiency">The efficiency used when a request gives none (0–1], null when not applicable.</param>
+/// <param name="EfficiencyBasis">Where the default efficiency comes from.</param>
+/// <param name="PredictionIsUpperBound">Whether an adiabatic prediction is only an upper bound for this type (oil-flooded screws).</param>
+public sealed record CompressorType(string Id, string Title, string Family, bool Lubricated, EfficiencyKind EfficiencyKind,
+    double? DefaultEfficiency, string EfficiencyBasis, bool PredictionIsUpperBound);
+
+/// <summary>How a service class is recognised.</summary>
+public enum ServiceDetection
+{
+    /// <summary>The caller declares it.</summary>
+    Declared,
+    /// <summary>Detected when the gas molar mass is at or below a threshold.</summary>
+    MolarMassAtMost,
+    /// <summary>Detected when the O2 mole fraction is above a threshold.</summary>
+    OxygenFractionAbove,
+}
+
+/// <summary>A service class in the catalogue.</summary>
+/// <param name="Id">Stable id.</param>
+/// <param name="Title">Human title.</param>
+/// <param name="Detection">How it is recognised.</param>
+/// <param name="MolarMassThreshold">Threshold for <see cref="ServiceDetection.MolarMassAtMost"/>.</param>
+/// <param name="OxygenFractionThreshold">Threshold for <see cref="ServiceDetection.OxygenFractionAbove"/>.</param>
+/// <param name="Basis">Where the threshold comes from.</param>
+public sealed record ServiceClass(string Id, string Title, ServiceDetection Detection, MolarMass? MolarMassThreshold,
+    Ratio? OxygenFractionThreshold, string Basis);
+
+/// <summary>What a rule applies to. Empty lists mean "any". All criteria must hold.</summary>
+public sealed record AppliesTo
+{
+    /// <summary>Compressor type ids (any of).</summary>
+    public IReadOnlyList<string> CompressorTypes { get; init; } = [];
+    /// <summary>Compressor type ids excluded.</summary>
+    public IReadOnlyList<string> NotCompressorTypes { get; init; } = [];
+    /// <summary>Service class ids (any of).</summary>
+    public IReadOnlyList<string> ServiceClasses { get; init; } = [];
+    /// <summary>Service class ids excluded.</summary>
+    public IReadOnlyList<string> NotServiceClasses { get; init; } = [];
+    /// <summary>Lubricant base stocks (any of).</summary>
+    public IReadOnlyList<string> BaseStocks { get; init; } = [];
+    /// <summary>Valve material ids (any of).</summary>
+    public IReadOnlyList<string> ValveMaterials { get; init; } = [];
+    /// <summary>Seal material ids (any of).</summary>
+    public IReadOnlyList<string> SealMaterials { get; init; } = [];
+    /// <summary>Stage positions (any of).</summary>
+    public IReadOnlyList<StagePosition> StagePositions { get; init; } = [];
+    /// <summary>When set, the rule applies only when the unloaded-running flag has this value (the flag is then a required input).</summary>
+    public bool? UnloadedRunning { get; init; }
+}
+
+/// <summary>Where a catalogue- or input-derived limit takes its base value from.</summary>
+public enum LimitSource
+{
+    /// <summary>An absolute value written in the rule.</summary>
+    Absolute,
+    /// <summary>lubricant.ratedMaxDischarge</summary>
+    LubricantRatedMaxDischarge,
+    /// <summary>lubricant.autoignitionTemperature (at 1 atm)</summary>
+    LubricantAutoignition,
+    /// <summary>lubricant.flashPoint</summary>
+    LubricantFlashPoint,
+    /// <summary>valveMaterial.continuousLimit</summary>
+    ValveMaterialLimit,
+    /// <summary>sealMaterial.continuousLimit</summary>
+    SealMaterialLimit,
+    /// <summary>input.suctionTemperature</summary>
+    InputSuctionTemperature,
+    /// <summary>input.dischargeWaterDewPoint</summary>
+    InputDischargeWaterDewPoint,
+    /// <summary>max(atLeast, fraction × estimated absolute temperature) — the deviation rule.</summary>
+    GreaterOfFixedAndFractionOfPredicted,
+}
+
+/// <summary>
+/// A rule's limit. Values are SI: kelvin for temperatures and temperature differences, plain numbers for ratios.
+/// The effective limit is base − deratingForPressure − margin + plus (catalogue and input sources),
+/// the absolute value, or max(atLeast, fraction × T_estimated) for the deviation form.
+/// </summary>
+/// <param name="Source">Where the base value comes from.</param>
+/// <param name="Absolute">The absolute value (K or ratio) when <paramref name="Source"/> is Absolute.</param>
+/// <param name="DeratingForPressureKelvin">Subtracted for the effect of pressure (autoignition).</param>
+/// <param name="MarginKelvin">Subtracted as a safety margin.</param>
+/// <param name="PlusKelvin">Added (input-derived lower limits).</param>
+/// <param name="AtLeastKelvin">Deviation form: the fixed part.</param>
+/// <param name="FractionOfPredicted">Deviation form: fraction of the estimated absolute temperature.</param>
+public sealed record RuleLimit(LimitSource Source, double? Absolute = null, double DeratingForPressureKelvin = 0, double MarginKelvin = 0,
+    double PlusKelvin = 0, double AtLeastKelvin = 0, double FractionOfPredicted = 0)
+{
+    /// <summary>The offset from the base value (for comparisons between two limits from the same source).</summary>
+    public double Offset => Source == LimitSource.Absolute ? Absolute ?? 0 : PlusKelvin - DeratingForPressureKelvin - MarginKelvin;
+}
+
+/// <summary>One set-point step: normal + min(fraction × normal in °C, atMost).</summary>
+/// <param name="Fraction">Fraction of the normal temperature on the Celsius scale.</param>
+/// <param name="AtMostKelvin">Cap on the step.</param>
+public sealed record SetPointStep(double Fraction, double AtMostKelvin);
+
+/// <summary>The set-point proposal form of a rule.</summary>
+/// <param name="Alarm">Alarm step.</param>
+/// <param name="Trip">Trip step.</param>
+public sealed record SetPointSpec(SetPointStep Alarm, SetPointStep Trip);
+
+/// <summary>An engineer's sign-off on a limit that the defaults leave unset (special services).</summary>
+/// <param name="ApprovedBy">Name or staff id of the approving engineer.</param>
+/// <param name="ApprovedOn">Date of approval.</param>
+/// <param name="Reference">Document or management-of-change reference, optional.</param>
+public sealed record SignOff(string ApprovedBy, DateOnly ApprovedOn, string? Reference);
+
+/// <summary>A rule as written in one layer, or as merged.</summary>
+public sealed record RuleDefinition
+{
+    /// <summary>Stable id (e.g. R-API618-GEN).</summary>
+    public required string Id { get; init; }
+    /// <summary>Title.</summary>
+    public required string Title { get; init; }
+    /// <summary>What it applies to.</summary>
+    public required AppliesTo AppliesTo { get; init; }
+    /// <summary>The quantities checked; when several, each available one is checked and the smallest margin reported.</summary>
+    public required IReadOnlyList<CheckedQuantity> Quantities { get; init; }
+    /// <summary>Upper or lower limit.</summary>
+    public LimitDirection Direction { get; init; } = LimitDirection.Upper;
+    /// <summary>The limit; null for notes, set-point proposals and limits that a site or asset layer must set.</summary>
+    public RuleLimit? Limit { get; init; }
+    /// <summary>Warning band inside the limit (K, or a ratio), 0 for none.</summary>
+    public double WarningBand { get; init; }
+    /// <summary>The most severe outcome of the rule.</summary>
+    public required Severity Severity { get; init; }
+    /// <summary>The basis: standard and clause, handbook, "common practice, no single source", or "from memory — verify".</summary>
+    public required string Basis { get; init; }
+    /// <summary>The message, which defers to local codes and the manufacturer.</summary>
+    public required string Message { get; init; }
+    /// <summary>True when no default limit exists and a site or asset layer must set and sign off one.</summary>
+    public bool RequiresSignedLimit { get; init; }
+    /// <summary>The set-point proposal form, for R-SETPOINTS.</summary>
+    public SetPointSpec? SetPoints { get; init; }
+    /// <summary>The layer that set the effective limit.</summary>
+    public string LimitLayer { get; init; } = "default";
+    /// <summary>Why the limit was loosened, when a layer loosened it.</summary>
+    public string? LoosenedReason { get; init; }
+    /// <summary>The sign-off of a limit a layer set on a special-service rule.</summary>
+    public SignOff? SignOff { get; init; }
+    /// <summary>Where it was defined.</summary>
+    public SourceLocation? Location { get; init; }
+}
+
+/// <summary>A change a site or asset layer makes to a rule defined below it.</summary>
+public sealed record RuleOverride
+{
+    /// <summary>The rule id.</summary>
+    public required string RuleId { get; init; }
+    /// <summary>A new limit, or null to keep.</summary>
+    public RuleLimit? Limit { get; init; }
+    /// <summary>A new warning band, or null to keep.</summary>
+    public double? WarningBand { get; init; }
+    /// <summary>Disable the rule (needs a reason).</summary>
+    public bool Disabled { get; init; }
+    /// <summary>Why: required to loosen or disable.</summary>
+    public string? Reason { get; init; }
+    /// <summary>Sign-off, required when setting a limit on a special-service rule.</summary>
+    public SignOff? SignOff { get; init; }
+    /// <summary>Where the override was written.</summary>
+    public required SourceLocation Location { get; init; }
+
+    /// <summary>The raw mapping: the limit's form depends on the rule's quantity, known only when layers merge.</summary>
+    internal Loading.MapView? Raw { get; init; }
+}
+
+/// <summary>A rule disabled by a layer.</summary>
+/// <param name="RuleId">The rule.</param>
+/// <param name="Layer">The layer that disabled it.</param>
+/// <param name="Reason">Why.</param>
+public sealed record DisabledRule(string RuleId, string Layer, string Reason);
+
+/// <summary>One parsed rule file.</summary>
+public sealed record RuleLayer
+{
+    /// <summary>File name as given to the loader.</summary>
+    public required string File { get; init; }
+    /// <summary>Default, site or asset.</summary>
+    public required LayerKind Kind { get; init; }
+    /// <summary>"default", the site id, or the asset tag.</summary>
+    public required string Id { get; init; }
+    /// <summary>For an asset layer, the site it belongs to (optional).</summary>
+    public string? Site { get; init; }
+    /// <summary>Title.</summary>
+    public string? Title { get; init; }
+    /// <summary>The layer's name as findings show it: "default", "site:&lt;id&gt;", "asset:&lt;tag&gt;".</summary>
+    public string Name => Kind switch { LayerKind.Default => "default", LayerKind.Site => "site:" + Id, _ => "asset:" + Id };
+    /// <summary>Service classes defined here.</summary>
+    public IReadOnlyList<ServiceClass> ServiceClasses { get; init; } = [];
+    /// <summary>Lubricants defined here.</summary>
+    public IReadOnlyList<Lubricant> Lubricants { get; init; } = [];
+    /// <summary>Materials defined here.</summary>
+    public IReadOnlyList<Material> Materials { get; init; } = [];
+    /// <summary>Compressor types defined here.</summary>
+    public IReadOnlyList<CompressorType> CompressorTypes { get; init; } = [];
+    /// <summary>Rules defined here.</summary>
+    public IReadOnlyList<RuleDefinition> Rules { get; init; } = [];
+    /// <summary>Overrides of rules below.</summary>
+    public IReadOnlyList<RuleOverride> Overrides { get; init; } = [];
+    /// <summary>SHA-256 (lower-case hex) of this layer's canonical form.</summary>
+    public string Digest { get; init; } = string.Empty;
+
+    /// <summary>Where each id was written, keyed "section/id" (e.g. "rules/R-AIT").</summary>
+    internal IReadOnlyDictionary<string, SourceLocation> IdLocations { get; init; } = new Dictionary<string, SourceLocation>();
+}
