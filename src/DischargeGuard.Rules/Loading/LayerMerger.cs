@@ -118,7 +118,7 @@ public static class LayerMerger
 
             if (o.Reason is null)
             {
-                Err(errors, RuleFileErrorKind.LayeringViolation, layer, o.Location, "overrides.reason", $"Disabling '{o.RuleId}' needs a reason.");
+                Err(errors, RuleFileErrorKind.LayeringViolation, layer, KeyLoc(layer, o, "disabled"), "overrides.reason", $"Disabling '{o.RuleId}' needs a reason.");
                 return;
             }
 
@@ -167,7 +167,7 @@ public static class LayerMerger
             if (cmp > 0 && o.Reason is null)
             {
                 var how = cmp == 2 ? "is not comparable with the one below it, so it may loosen it" : "loosens it";
-                Err(errors, RuleFileErrorKind.LayeringViolation, layer, raw!.Key("limit")?.Start is { } s ? new SourceLocation(layer.File, s.Line, s.Column) : o.Location, "overrides.reason",
+                Err(errors, RuleFileErrorKind.LayeringViolation, layer, KeyLoc(layer, o, "limit"), "overrides.reason",
                     $"The new limit of '{o.RuleId}' {how}; loosening needs a reason (for example the manufacturer's data sheet that allows it).");
                 return;
             }
@@ -190,7 +190,7 @@ public static class LayerMerger
         {
             if (newBand < rule.WarningBand && o.Reason is null)
             {
-                Err(errors, RuleFileErrorKind.LayeringViolation, layer, o.Location, "overrides.reason", $"Narrowing the warning band of '{o.RuleId}' loosens it; it needs a reason.");
+                Err(errors, RuleFileErrorKind.LayeringViolation, layer, KeyLoc(layer, o, "warningBand"), "overrides.reason", $"Narrowing the warning band of '{o.RuleId}' loosens it; it needs a reason.");
                 return;
             }
 
@@ -265,6 +265,9 @@ public static class LayerMerger
             Check(r.AppliesTo.BaseStocks, BaseStocks.ToHashSet(StringComparer.Ordinal), "baseStocks", "base stock");
         }
     }
+
+    private static SourceLocation KeyLoc(RuleLayer layer, RuleOverride o, string key) =>
+        o.Raw?.Key(key) is { } k ? new SourceLocation(layer.File, k.Start.Line, k.Start.Column) : o.Location;
 
     private static void Err(List<RuleFileError> errors, RuleFileErrorKind kind, RuleLayer layer, SourceLocation? loc, string key, string message) =>
         errors.Add(new RuleFileError(kind, layer.File, loc?.Line ?? 0, loc?.Column ?? 0, key, message));

@@ -1,0 +1,257 @@
+using DischargeGuard.Rules.Evaluation;
+using DischargeGuard.Rules.Model;
+using UnitsNet;
+using static DischargeGuard.Rules.Tests.Facts;
+
+namespace DischargeGuard.Rules.Tests;
+
+/// <summary>Every shipped rule: a case that triggers it, a case just inside (boundary ± 0.01), and a missing-input case.</summary>
+public class DefaultRulesTests
+{
+    private const double Step = 0.01; // K, or ratio units for R-RATIO
+
+    /// <summary>A boundary case: the facts with the checked value set to <c>value</c>, the limit, and outcomes either side.</summary>
+    private sealed record Boundary(Func<double, StageFacts> At, double Limit, LimitDirection Direction, Severity Beyond, Severity JustInside);
+
+    // Limits in kelvin (or ratio). Each value's source is in the comment; the same marks are in rules/default.yaml.
+    private static readonly Dictionary<string, Boundary> Cases = new()
+    {
+        // 150 °C (300 °F): API 618 5th ed. predicted discharge limit — from memory — verify (shared domain survey, (c) high).
+        ["R-API618-GEN"] = new(v => Quiet() with { Isentropic = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // 135 °C (275 °F) for hydrogen-rich (MW <= 12): API 618 5th ed. — from memory — verify ((c) high).
+        ["R-API618-H2"] = new(v => Quiet() with { Isentropic = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // 177 °C (350 °F) practical ceiling for packaged field units — common practice, no single source ((b)).
+        ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // 350 °F = 176.67 °C: Bloch & Hoefner (1996) p.382 "limit operating temperature to 350 °F" ((a)); the file rounds to 177 °C.
+        ["R-AIR-RECIP"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["air"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // DIN 51506 VB/VBL 140 °C (284 °F) — from memory — verify ((c) med).
+        ["R-LUBE-CLASS"] = new(v => Quiet() with { Estimated = K(v), LubricantId = "mineral-vbl" }, 413.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // AIT 360 °C − 140 K (GAPS GAP.3.1.1: up to 250 °F lower at pressure, (a)) − 50 K margin (common practice) = 170 °C.
+        ["R-AIT"] = new(v => Quiet() with { Estimated = K(v), LubricantId = "mineral-vdl" }, 443.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Flash point 200 °C − 30 K = 170 °C — from memory — verify ((c) low); warning only.
+        ["R-FLASH-SOFT"] = new(v => Quiet() with { Estimated = K(v), LubricantId = "mineral-vdl" }, 443.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Mineral oil deposits above about 150 °C — common practice, no single source ((b)); warning only.
+        ["R-DEPOSIT"] = new(v => Quiet() with { Estimated = K(v), LubricantId = "mineral-vdl" }, 423.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // PEEK plates about 400 °F (204 °C): Bloch & Hoefner p.148 ((a)).
+        ["R-VALVE-MAT"] = new(v => Quiet() with { Estimated = K(v), ValveMaterialId = "peek" }, 477.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // FKM standard compound 200 °C: seal supplier elastomer table ((a)).
+        ["R-ELASTOMER"] = new(v => Quiet() with { Estimated = K(v), SealMaterialId = "fkm" }, 473.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Oil-flooded screw trip 120 °C (248 °F): screw high-discharge-temperature guides ((a) low-authority).
+        ["R-SCREW-FLOODED"] = new(v => Quiet("screw-oil-flooded") with { MeasuredDischarge = K(v) }, 393.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Dew point 60 °C + 10 K margin — common practice ((b)), cf. Brun & Kurz p.288 10 K rule ((a)).
+        ["R-SCREW-DEWPOINT"] = new(v => Quiet("screw-oil-flooded") with { MeasuredDischarge = K(v), DischargeWaterDewPoint = C(60) }, 343.15, LimitDirection.Lower, Severity.Warning, Severity.Pass),
+        // max(10 K, 5 % of 423.15 K) = 21.1575 K — thresholds common practice, no single source ((b)); B&H p.336 ((a)) for the meaning.
+        ["R-DEVIATION"] = new(v => Quiet() with { Estimated = C(150), MeasuredDischarge = K(423.15 + v) }, 21.1575, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Ratio 4.0 per recip stage — common practice, no single source ((b)).
+        ["R-RATIO"] = new(v => Quiet() with { DischargePressure = Pressure.FromBars(10 * v) }, 4.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Coolant inlet >= gas inlet + 5 K (9 °F): API 618-2007 §5.7.3 as restated in a project specification ((a)). Suction 30 °C.
+        ["R-COOLING-JACKET"] = new(v => Quiet() with { JacketCoolantInlet = K(v) }, 308.15, LimitDirection.Lower, Severity.Warning, Severity.Pass),
+        // Unloaded running and discharge > 100 °C (212 °F): API 618-2007 §5.7.2 as restated ((a)).
+        ["R-COOLING-UNLOADED"] = new(v => Quiet() with { Estimated = K(v), UnloadedRunning = true }, 373.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Unloaded running and rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so estimated = 303.15 K + rise.
+        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Estimated = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+    };
+
+    /// <summary>Facts with the rule's input removed, and the input the result must name.</summary>
+    private static readonly Dictionary<string, (StageFacts Facts, string Missing)> MissingCases = new()
+    {
+        ["R-API618-GEN"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
+        ["R-API618-H2"] = (Quiet() with { CompressorTypeId = null, GasMolarMass = MolarMass.FromGramsPerMole(8) }, "compressorType"),
+        ["R-FIELD-HC"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["hydrocarbon"] }, "compressorType"),
+        ["R-AIR-RECIP"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["air"] }, "compressorType"),
+        ["R-LUBE-CLASS"] = (Quiet(), "lubricant"),
+        ["R-AIT"] = (Quiet(), "lubricant"),
+        ["R-FLASH-SOFT"] = (Quiet(), "lubricant"),
+        ["R-DEPOSIT"] = (Quiet(), "lubricant"),
+        ["R-VALVE-MAT"] = (Quiet(), "valveMaterial"),
+        ["R-ELASTOMER"] = (Quiet(), "sealMaterial"),
+        ["R-SCREW-PREDICTION"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
+        ["R-SCREW-FLOODED"] = (Quiet("screw-oil-flooded"), "measuredDischargeTemperature"),
+        ["R-SCREW-DEWPOINT"] = (Quiet("screw-oil-flooded") with { MeasuredDischarge = C(80) }, "dischargeWaterDewPoint"),
+        ["R-DEVIATION"] = (Quiet(), "measuredDischargeTemperature"),
+        ["R-SETPOINTS"] = (Quiet(), "normalOperatingDischargeTemperature"),
+        ["R-RATIO"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
+        ["R-COOLING-JACKET"] = (Quiet(), "jacketCoolantInletTemperature"),
+        ["R-COOLING-UNLOADED"] = (Quiet(), "unloadedRunning"),
+        ["R-COOLING-UNLOADED-RISE"] = (Quiet(), "unloadedRunning"),
+        ["R-SPECIAL-O2"] = (Quiet() with { CompressorTypeId = null, OxygenMoleFraction = Ratio.FromPercent(30) }, ""),
+        ["R-SPECIAL-CL2"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["chlorine"] }, ""),
+        ["R-SPECIAL-C2H2"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["acetylene"] }, ""),
+    };
+
+    public static TheoryData<string> BoundaryRules() => new(Cases.Keys.Order(StringComparer.Ordinal));
+
+    public static TheoryData<string> MissingRules() => new(MissingCases.Keys.Order(StringComparer.Ordinal));
+
+    private static StageResult Evaluate(StageFacts facts) => RuleEngine.EvaluateStage(Repo.Defaults, facts);
+
+    [Fact]
+    public void DefaultFile_WhenLoaded_EveryRuleHasATriggerOrSpecialCase()
+    {
+        // Guards the tables: a shipped rule added without tests fails here.
+        var covered = Cases.Keys.Concat(["R-SCREW-PREDICTION", "R-SETPOINTS", "R-SPECIAL-O2", "R-SPECIAL-CL2", "R-SPECIAL-C2H2"]).ToHashSet();
+        Assert.Equal(covered.Order(), Repo.Defaults.Rules.Select(r => r.Id).Order());
+        Assert.Equal(covered.Order(), MissingCases.Keys.Order());
+    }
+
+    [Theory]
+    [MemberData(nameof(BoundaryRules))]
+    public void DefaultRule_WhenJustBeyondLimit_Triggers(string ruleId)
+    {
+        var c = Cases[ruleId];
+        var beyond = c.Direction == LimitDirection.Upper ? c.Limit + Step : c.Limit - Step;
+        var f = Evaluate(c.At(beyond)).Find(ruleId);
+        Assert.Equal(c.Beyond, f.Severity);
+        AssertEx.Close(c.Limit, f.Limit!.Value.SiValue, 1e-9, ruleId + " limit");
+        AssertEx.Close(-Step, f.Margin!.Value.SiValue, 1e-6, ruleId + " margin");
+        Assert.Equal("default", f.Layer);
+    }
+
+    [Theory]
+    [MemberData(nameof(BoundaryRules))]
+    public void DefaultRule_WhenJustInsideLimit_DoesNotTrigger(string ruleId)
+    {
+        var c = Cases[ruleId];
+        var inside = c.Direction == LimitDirection.Upper ? c.Limit - Step : c.Limit + Step;
+        var f = Evaluate(c.At(inside)).Find(ruleId);
+        Assert.Equal(c.JustInside, f.Severity);
+        AssertEx.Close(Step, f.Margin!.Value.SiValue, 1e-6, ruleId + " margin");
+    }
+
+    [Theory]
+    [MemberData(nameof(MissingRules))]
+    public void DefaultRule_WhenInputMissing_ListedAsNotCheckedOrSpecialViolation(string ruleId)
+    {
+        var (facts, missing) = MissingCases[ruleId];
+        var result = Evaluate(facts);
+        if (missing.Length == 0)
+        {
+            // Special services: no input is missing, the limit is; they never pass on defaults.
+            var f = result.Find(ruleId);
+            Assert.Equal(Severity.Violation, f.Severity);
+            Assert.Null(f.Limit);
+            Assert.Contains("sign off", f.Message, StringComparison.Ordinal);
+            Assert.Equal(Verdict.Fail, result.Verdict);
+            return;
+        }
+
+        Assert.DoesNotContain(result.Findings, f => f.RuleId == ruleId);
+        var nc = Assert.Single(result.NotChecked, n => n.RuleId == ruleId);
+        Assert.Contains(missing, nc.MissingInputs);
+    }
+
+    [Fact]
+    public void HydrogenRich_WhenMolarMassAtThreshold_IsDetected()
+    {
+        // Threshold MW <= 12 g/mol: API 618 5th ed. hydrogen-rich service — from memory — verify ((c) high).
+        Assert.Contains("hydrogen-rich", ServiceClassDetector.Detect(Repo.Defaults, MolarMass.FromGramsPerMole(12.0), null));
+        Assert.DoesNotContain("hydrogen-rich", ServiceClassDetector.Detect(Repo.Defaults, MolarMass.FromGramsPerMole(12.01), null));
+        // Air, 28.96 g/mol (ISO 2533 standard atmosphere), is not hydrogen-rich.
+        Assert.Empty(ServiceClassDetector.Detect(Repo.Defaults, MolarMass.FromGramsPerMole(28.9644), Ratio.FromPercent(20.95)));
+    }
+
+    [Fact]
+    public void HydrogenRich_WhenDetected_GovernsAt135C()
+    {
+        // 140 °C predicted: inside 150 °C (R-API618-GEN) but beyond 135 °C (R-API618-H2) — both (c) high, from memory — verify.
+        var result = Evaluate(Quiet() with { Isentropic = C(140), GasMolarMass = MolarMass.FromGramsPerMole(10) });
+        Assert.Equal("R-API618-H2", result.Governing!.RuleId);
+        AssertEx.Close(-5.0, result.Governing.Margin!.Value.SiValue, 1e-9, "margin");
+        Assert.Contains("hydrogen-rich", result.DetectedServiceClasses);
+    }
+
+    [Fact]
+    public void OxygenRich_WhenAboveThreshold_IsDetected()
+    {
+        // 23.5 % O2 oxygen-enriched threshold — from memory — verify; air is 20.95 % O2 (ISO 2533).
+        Assert.Contains("oxygen-rich", ServiceClassDetector.Detect(Repo.Defaults, null, Ratio.FromPercent(23.6)));
+        Assert.DoesNotContain("oxygen-rich", ServiceClassDetector.Detect(Repo.Defaults, null, Ratio.FromPercent(23.5)));
+    }
+
+    [Theory]
+    // AIT(p) ≈ AIT(1 atm) − 140 K (GAPS GAP.3.1.1, "up to 250 °F lower", (a)); limit = AIT(p) − 50 K (common practice).
+    // Mineral AIT 360 °C (B&H p.379 "about 750 °F or more", (a); general mineral-oil range 360 °C) → 170 °C; diester 400 °C → 210 °C; PAO 340 °C → 150 °C.
+    [InlineData("mineral-vdl", 170.0)]
+    [InlineData("diester-vdl", 210.0)]
+    [InlineData("pao-dab", 150.0)]
+    public void Autoignition_WhenDeratedForPressure_LimitIsAitMinus190K(string lubricant, double limitCelsius)
+    {
+        var f = Evaluate(Quiet() with { LubricantId = lubricant }).Find("R-AIT");
+        AssertEx.Close(limitCelsius + 273.15, f.Limit!.Value.SiValue, 1e-9, "AIT limit");
+    }
+
+    [Fact]
+    public void Autoignition_WhenBreachedByMeasuredOnly_UsesMeasured()
+    {
+        var f = Evaluate(Quiet() with { LubricantId = "mineral-vdl", MeasuredDischarge = C(175) }).Find("R-AIT");
+        Assert.Equal(CheckedQuantity.Measured, f.Quantity);
+        Assert.Equal(Severity.Violation, f.Severity);
+        AssertEx.Close(-5.0, f.Margin!.Value.SiValue, 1e-9, "margin");
+    }
+
+    [Theory]
+    // Deviation limit = max(10 K, 5 % of the predicted absolute temperature) — common practice, no single source ((b)).
+    // 5 % of 423.15 K = 21.1575 K governs at 150 °C; at 190 K (below 200 K) the 10 K floor governs.
+    [InlineData(423.15, 21.1575)]
+    [InlineData(400.0, 20.0)]
+    [InlineData(190.0, 10.0)]
+    public void Deviation_WhenMeasuredAbovePredicted_LimitIsGreaterOf10KAnd5Percent(double estimatedKelvin, double limitKelvin)
+    {
+        var f = Evaluate(Quiet() with { Isentropic = K(estimatedKelvin - 5), Estimated = K(estimatedKelvin), SuctionTemperature = K(150), MeasuredDischarge = K(estimatedKelvin + limitKelvin + 0.5) }).Find("R-DEVIATION");
+        AssertEx.Close(limitKelvin, f.Limit!.Value.SiValue, 1e-9, "deviation limit");
+        Assert.Equal(Severity.Warning, f.Severity);
+        Assert.Equal(QuantityDimension.TemperatureDifference, f.Value!.Value.Dimension);
+    }
+
+    [Fact]
+    public void OilFloodedScrew_WhenMeasuredMissing_SaysPredictionIsUpperBoundAndNotChecked()
+    {
+        // The adiabatic prediction (200 °C here) would fail every temperature rule; for oil-flooded screws it is only an upper bound.
+        var result = Evaluate(Quiet("screw-oil-flooded") with { EstimatedUpperBound = C(200), Estimated = C(200), Isentropic = C(200), LubricantId = "pao-dab" });
+        Assert.Equal(Severity.Info, result.Find("R-SCREW-PREDICTION").Severity);
+        Assert.Contains(result.NotChecked, n => n.RuleId == "R-SCREW-FLOODED" && n.MissingInputs.Contains("measuredDischargeTemperature"));
+        Assert.DoesNotContain(result.Findings, f => f.Severity == Severity.Violation);
+    }
+
+    [Fact]
+    public void SetPoints_WhenNormalGiven_ProposesAlarmAndTrip()
+    {
+        // Normal 120 °C: alarm = 120 + min(5 % × 120 = 6, 7) = 126 °C; trip = 120 + min(12, 14) = 132 °C
+        // (floating set points — common practice, no single source).
+        var f = Evaluate(Quiet() with { NormalOperatingDischarge = C(120) }).Find("R-SETPOINTS");
+        Assert.Equal(Severity.Info, f.Severity);
+        AssertEx.Close(126.0, f.SetPoints!.Alarm.DegreesCelsius, 1e-9, "alarm");
+        AssertEx.Close(132.0, f.SetPoints.Trip.DegreesCelsius, 1e-9, "trip");
+        Assert.False(f.SetPoints.Capped);
+    }
+
+    [Fact]
+    public void SetPoints_WhenProposalWouldPassFailLimit_CappedAtIt()
+    {
+        // Normal 145 °C: uncapped trip 159 °C would exceed R-API618-GEN 150 °C; the proposal never passes the fail limit.
+        var f = Evaluate(Quiet() with { NormalOperatingDischarge = C(145) }).Find("R-SETPOINTS");
+        AssertEx.Close(150.0, f.SetPoints!.Trip.DegreesCelsius, 1e-9, "trip");
+        AssertEx.Close(150.0, f.SetPoints.Alarm.DegreesCelsius, 1e-9, "alarm");
+        Assert.True(f.SetPoints.Capped);
+        Assert.Equal("R-API618-GEN", f.SetPoints.CapRuleId);
+    }
+
+    [Fact]
+    public void Engine_WhenEfficiencyDefaulted_SaysSoWithBasis()
+    {
+        var result = Evaluate(Quiet() with { EfficiencyDefaulted = true });
+        var f = result.Find("ENGINE-DEFAULT-EFFICIENCY");
+        Assert.Contains("0.80", f.Detail, StringComparison.Ordinal);
+        Assert.Contains("common practice", f.Basis, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void DefaultFile_EveryRule_HasSourceMarkAndDefersToManufacturer()
+    {
+        foreach (var r in Repo.Defaults.Rules)
+        {
+            Assert.True(System.Text.RegularExpressions.Regex.IsMatch(r.Basis, @"\((a|b|c)[,)/ ]|common practice|from memory"), r.Id + " basis: " + r.Basis);
+            Assert.True(System.Text.RegularExpressions.Regex.IsMatch(r.Message, "manufacturer|supplier|packager|local codes"), r.Id + " message: " + r.Message);
+        }
+    }
+}
