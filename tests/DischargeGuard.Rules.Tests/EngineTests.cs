@@ -35,13 +35,13 @@ public class EngineTests
                     t1Max = double.PositiveInfinity;
                     break;
                 default:
-                    return (new(EnvelopeStatus.NotComputableForQuantity, null), new(EnvelopeStatus.NotComputableForQuantity, null));
+                    return (new(EnvelopeBoundStatus.NotComputableForQuantity, null), new(EnvelopeBoundStatus.NotComputableForQuantity, null));
             }
 
-            var pStatus = rMax < r ? EnvelopeStatus.AlreadyExceeded : EnvelopeStatus.Found;
-            var tStatus = double.IsPositiveInfinity(t1Max) ? EnvelopeStatus.NotReachableInRange : t1Max < t1 ? EnvelopeStatus.AlreadyExceeded : EnvelopeStatus.Found;
-            return (new(pStatus, pStatus == EnvelopeStatus.Found ? Pressure.FromPascals(stage.SuctionPressure.Pascals * rMax) : null),
-                    new(tStatus, tStatus == EnvelopeStatus.Found ? Temperature.FromKelvins(t1Max) : null));
+            var pStatus = rMax < r ? EnvelopeBoundStatus.AlreadyExceeded : EnvelopeBoundStatus.Found;
+            var tStatus = double.IsPositiveInfinity(t1Max) ? EnvelopeBoundStatus.NotReachableInRange : t1Max < t1 ? EnvelopeBoundStatus.AlreadyExceeded : EnvelopeBoundStatus.Found;
+            return (new(pStatus, pStatus == EnvelopeBoundStatus.Found ? Pressure.FromPascals(stage.SuctionPressure.Pascals * rMax) : null),
+                    new(tStatus, tStatus == EnvelopeBoundStatus.Found ? Temperature.FromKelvins(t1Max) : null));
         }
     }
 
@@ -83,7 +83,7 @@ public class EngineTests
 
         // r_max = (423.15/300)^(1.4/0.4) and T1_max = 423.15/3^(0.4/1.4): the inverse of the relation above.
         var env = result.Envelope!;
-        Assert.Equal(EnvelopeStatus.Found, env.MaxDischargePressure.Status);
+        Assert.Equal(EnvelopeBoundStatus.Found, env.MaxDischargePressure.Status);
         AssertEx.Close(1e5 * Math.Pow(423.15 / 300, 3.5), env.MaxDischargePressure.Value!.Value.Pascals, 1e-6, "max discharge pressure");
         AssertEx.Close(423.15 / Math.Pow(3, 0.4 / 1.4), env.MaxSuctionTemperature.Value!.Value.Kelvins, 1e-9, "max suction temperature");
         Assert.Equal("R-API618-GEN", env.RuleId);
@@ -97,7 +97,7 @@ public class EngineTests
         stage = stage with { Isentropic = K(300 * Math.Pow(4, 0.4 / 1.4)) }; // 445.8 K > 423.15 K
         stage = stage with { DischargePressure = Pressure.FromBars(3.9) }; // ratio kept below 4 so R-RATIO stays quiet
         var result = RuleEngine.EvaluateStage(Repo.Defaults, stage with { Isentropic = K(300 * Math.Pow(3.9, 0.4 / 1.4)) }, calc);
-        Assert.Equal(EnvelopeStatus.AlreadyExceeded, result.Envelope!.MaxDischargePressure.Status);
+        Assert.Equal(EnvelopeBoundStatus.AlreadyExceeded, result.Envelope!.MaxDischargePressure.Status);
         Assert.Equal(Verdict.Fail, result.Verdict);
     }
 
@@ -108,8 +108,8 @@ public class EngineTests
         var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet("screw-oil-flooded") with { MeasuredDischarge = C(100) }, calc);
         Assert.Equal("R-SCREW-FLOODED", result.Governing!.RuleId);
         Assert.Empty(calc.Calls);
-        Assert.Equal(EnvelopeStatus.NotComputableForQuantity, result.Envelope!.MaxDischargePressure.Status);
-        Assert.Equal(EnvelopeStatus.NotComputableForQuantity, result.Envelope.MaxSuctionTemperature.Status);
+        Assert.Equal(EnvelopeBoundStatus.NotComputableForQuantity, result.Envelope!.MaxDischargePressure.Status);
+        Assert.Equal(EnvelopeBoundStatus.NotComputableForQuantity, result.Envelope.MaxSuctionTemperature.Status);
     }
 
     [Fact]

@@ -3,8 +3,8 @@ using UnitsNet;
 
 namespace DischargeGuard.Rules.Evaluation;
 
-/// <summary>Outcome of an envelope search.</summary>
-public enum EnvelopeStatus
+/// <summary>Outcome of an envelope search (named apart from Thermo's EnvelopeStatus so an adapter can use both).</summary>
+public enum EnvelopeBoundStatus
 {
     /// <summary>The bound was found.</summary>
     Found,
@@ -19,8 +19,9 @@ public enum EnvelopeStatus
 /// <summary>One bound of the envelope.</summary>
 /// <typeparam name="T">Pressure or Temperature.</typeparam>
 /// <param name="Status">Outcome.</param>
-/// <param name="Value">The bound when <see cref="EnvelopeStatus.Found"/>.</param>
-public sealed record EnvelopeBound<T>(EnvelopeStatus Status, T? Value)
+/// <param name="Value">The bound when <see cref="EnvelopeBoundStatus.Found"/>.</param>
+/// <param name="Note">A plain sentence explaining the status (e.g. the solver's note), optional.</param>
+public sealed record EnvelopeBound<T>(EnvelopeBoundStatus Status, T? Value, string? Note = null)
     where T : struct;
 
 /// <summary>The highest discharge pressure and suction temperature before the governing limit is reached, other stages held fixed.</summary>

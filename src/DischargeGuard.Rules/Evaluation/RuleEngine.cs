@@ -11,6 +11,7 @@ namespace DischargeGuard.Rules.Evaluation;
 public static class RuleEngine
 {
     private const double CelsiusOffset = 273.15;
+    private const string NotComputable = "The governing quantity is not predicted from pressures and temperatures, so no envelope can be computed for it.";
 
     /// <summary>Evaluates every stage of a train and forms the overall verdict.</summary>
     /// <param name="rules">The effective rule set (from <c>Resolve(siteId, assetId)</c>).</param>
@@ -167,8 +168,8 @@ public static class RuleEngine
         }
 
         return new EnvelopeEstimate(governing.RuleId, governing.Quantity, governing.Limit!.Value,
-            new EnvelopeBound<Pressure>(EnvelopeStatus.NotComputableForQuantity, null),
-            new EnvelopeBound<Temperature>(EnvelopeStatus.NotComputableForQuantity, null));
+            new EnvelopeBound<Pressure>(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable),
+            new EnvelopeBound<Temperature>(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable));
     }
 
     private static void Validate(EffectiveRuleSet rules, StageFacts stage)
