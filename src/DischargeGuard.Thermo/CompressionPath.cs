@@ -77,22 +77,30 @@ public static class CompressionPath
     }
 
     /// <summary>Temperature at which H/R equals <paramref name="enthalpyOverRKelvin"/>, searched above <paramref name="lowerKelvin"/>.</summary>
+    /// <remarks>
+    /// Newton on H with cp as the derivative, kept inside a bracket that starts as [max(lower, data minimum), data maximum].
+    /// Stops when the step is below <paramref name="toleranceKelvin"/> or when the step's square over 2T is (the quadratic
+    /// convergence estimate of the error left after it).
+    /// </remarks>
     public static bool TrySolveTemperatureForEnthalpy(
         GasMixture gas, double enthalpyOverRKelvin, double lowerKelvin, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var lo = Math.Max(lowerKelvin, gas.MinimumKelvin);
         var hi = gas.MaximumKelvin;
-        tKelvin = double.NaN;
-        if (gas.EnthalpyOverR(lo) > enthalpyOverRKelvin || gas.EnthalpyOverR(hi) < enthalpyOverRKelvin)
-        {
-            return false;
-        }
-
         var t = guessKelvin > lo && guessKelvin < hi ? guessKelvin : 0.5 * (lo + hi);
+        var boundsChecked = false;
         for (var i = 0; i < maxIterations; i++)
         {
-            var f = gas.EnthalpyOverR(t) - enthalpyOverRKelvin;
+            var f = gas.EnthalpyOverR(t, out var cpR) - enthalpyOverRKelvin;
+            var step = f / cpR;
+            var next = t - step;
+            if (Converged(step, t, toleranceKelvin) && next >= lo && next <= hi)
+            {
+                tKelvin = next;
+                return true;
+            }
+
             if (f > 0)
             {
                 hi = t;
@@ -102,41 +110,49 @@ public static class CompressionPath
                 lo = t;
             }
 
-            var next = t - (f / gas.HeatCapacityOverR(t));
             if (!(next > lo && next < hi))
             {
-                next = 0.5 * (lo + hi);
-            }
+                if (!boundsChecked)
+                {
+                    // Only now pay for the end-point check: is the root inside the data at all?
+                    boundsChecked = true;
+                    if (gas.EnthalpyOverR(Math.Max(lowerKelvin, gas.MinimumKelvin)) > enthalpyOverRKelvin || gas.EnthalpyOverR(gas.MaximumKelvin) < enthalpyOverRKelvin)
+                    {
+                        break;
+                    }
+                }
 
-            if (Math.Abs(next - t) <= toleranceKelvin)
-            {
-                tKelvin = next;
-                return true;
+                next = 0.5 * (lo + hi);
             }
 
             t = next;
         }
 
+        tKelvin = double.NaN;
         return false;
     }
 
     /// <summary>Temperature at which S°/R equals <paramref name="entropyOverR"/>, inside the mixture's range.</summary>
+    /// <remarks>Newton on S° with cp/T as the derivative, bracketed and stopped as <see cref="TrySolveTemperatureForEnthalpy"/>.</remarks>
     public static bool TrySolveTemperatureForEntropy(
         GasMixture gas, double entropyOverR, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var lo = gas.MinimumKelvin;
         var hi = gas.MaximumKelvin;
-        tKelvin = double.NaN;
-        if (gas.EntropyOverR(lo) > entropyOverR || gas.EntropyOverR(hi) < entropyOverR)
-        {
-            return false;
-        }
-
         var t = guessKelvin > lo && guessKelvin < hi ? guessKelvin : 0.5 * (lo + hi);
+        var boundsChecked = false;
         for (var i = 0; i < maxIterations; i++)
         {
-            var f = gas.EntropyOverR(t) - entropyOverR;
+            var f = gas.EntropyOverR(t, out var cpR) - entropyOverR;
+            var step = f * t / cpR;
+            var next = t - step;
+            if (Converged(step, t, toleranceKelvin) && next >= lo && next <= hi)
+            {
+                tKelvin = next;
+                return true;
+            }
+
             if (f > 0)
             {
                 hi = t;
@@ -146,23 +162,30 @@ public static class CompressionPath
                 lo = t;
             }
 
-            var next = t - (f * t / gas.HeatCapacityOverR(t));
             if (!(next > lo && next < hi))
             {
-                next = 0.5 * (lo + hi);
-            }
+                if (!boundsChecked)
+                {
+                    boundsChecked = true;
+                    if (gas.EntropyOverR(gas.MinimumKelvin) > entropyOverR || gas.EntropyOverR(gas.MaximumKelvin) < entropyOverR)
+                    {
+                        break;
+                    }
+                }
 
-            if (Math.Abs(next - t) <= toleranceKelvin)
-            {
-                tKelvin = next;
-                return true;
+                next = 0.5 * (lo + hi);
             }
 
             t = next;
         }
 
+        tKelvin = double.NaN;
         return false;
     }
+
+    // Newton's error after a step of size h is about h²·|f''|/(2|f'|); for S° and H of gases |f''/f'| ≤ ~1/T.
+    private static bool Converged(double step, double t, double tolerance) =>
+        Math.Abs(step) <= tolerance || step * step <= 2 * t * tolerance;
 
     // Solves S°/R(T2) − S°/R(T1) = deltaSOverR for T2 ≥ T1, starting from the constant-cp estimate.
     private static bool TrySolveEntropyStep(GasMixture gas, double t1Kelvin, double deltaSOverR, double toleranceKelvin, int maxIterations, out double t2Kelvin)

@@ -19,11 +19,15 @@ public sealed class GasMixture
 {
     private readonly MixedSegment[] _segments;
     private readonly MixtureComponent[] _components;
+    private readonly MixedSegment _first;
+    private readonly MixedSegment _second;
 
     private GasMixture(MixtureComponent[] components, MixedSegment[] segments, double molarMass, double minK, double maxK)
     {
         _components = components;
         _segments = segments;
+        _first = segments[0];
+        _second = segments[^1];
         MolarMassKilogramsPerMole = molarMass;
         SpecificGasConstantJoulesPerKilogramKelvin = ThermoConstants.MolarGasConstantJoulesPerMoleKelvin / molarMass;
         MinimumKelvin = minK;
@@ -230,8 +234,30 @@ public sealed class GasMixture
         return new GasMixture(components, segments, molarMass, minK, maxK);
     }
 
+    /// <summary>S°/R and cp/R at <paramref name="tKelvin"/> from one segment lookup (no range check; hot path).</summary>
+    internal double EntropyOverR(double tKelvin, out double heatCapacityOverR)
+    {
+        ref readonly var seg = ref Segment(tKelvin);
+        heatCapacityOverR = seg.HeatCapacityOverR(tKelvin);
+        return seg.EntropyOverR(tKelvin);
+    }
+
+    /// <summary>H/R and cp/R at <paramref name="tKelvin"/> from one segment lookup (no range check; hot path).</summary>
+    internal double EnthalpyOverR(double tKelvin, out double heatCapacityOverR)
+    {
+        ref readonly var seg = ref Segment(tKelvin);
+        heatCapacityOverR = seg.HeatCapacityOverR(tKelvin);
+        return seg.EnthalpyOverR(tKelvin);
+    }
+
+    // Almost every mixture has two segments (all species break at 1000 K), so those are fields, not an array walk.
     private ref readonly MixedSegment Segment(double tKelvin)
     {
+        if (_segments.Length <= 2)
+        {
+            return ref tKelvin <= _first.HighKelvin ? ref _first : ref _second;
+        }
+
         var segments = _segments;
         for (var i = 0; i < segments.Length - 1; i++)
         {

@@ -1,5 +1,6 @@
 using System.Globalization;
 using UnitsNet;
+using UnitsNet.Units;
 
 namespace DischargeGuard.Thermo;
 
@@ -40,24 +41,24 @@ public static class StageSolver
             conditions.DischargePressure,
             p2 / p1,
             conditions.SuctionTemperature,
-            Temperature.FromKelvins(n.T2s),
-            Temperature.FromKelvins(n.T2),
-            Temperature.FromKelvins(n.T2Low),
-            Temperature.FromKelvins(n.T2High),
+            new Temperature(n.T2s, TemperatureUnit.Kelvin),
+            new Temperature(n.T2, TemperatureUnit.Kelvin),
+            new Temperature(n.T2Low, TemperatureUnit.Kelvin),
+            new Temperature(n.T2High, TemperatureUnit.Kelvin),
             n.IsentropicEfficiency,
             n.PolytropicEfficiency,
             conditions.Efficiency.Kind,
-            TemperatureDelta.FromKelvins(rise),
+            new TemperatureDelta(rise, TemperatureDeltaUnit.Kelvin),
             n.KSuction,
             n.KDischarge,
-            SpecificEnergy.FromJoulesPerKilogram((n.H2sOverR - n.H1OverR) * rOverM),
-            SpecificEnergy.FromJoulesPerKilogram(actualWork * rOverM),
+            new SpecificEnergy((n.H2sOverR - n.H1OverR) * rOverM, SpecificEnergyUnit.JoulePerKilogram),
+            new SpecificEnergy(actualWork * rOverM, SpecificEnergyUnit.JoulePerKilogram),
             power,
             new ConstantKEstimate(
                 n.KSuction,
-                Temperature.FromKelvins(n.T2sConstantK),
-                Temperature.FromKelvins(n.T2ConstantK),
-                TemperatureDelta.FromKelvins(diffK),
+                new Temperature(n.T2sConstantK, TemperatureUnit.Kelvin),
+                new Temperature(n.T2ConstantK, TemperatureUnit.Kelvin),
+                new TemperatureDelta(diffK, TemperatureDeltaUnit.Kelvin),
                 rise > 0 ? 100.0 * diffK / rise : 0.0));
     }
 
@@ -90,12 +91,14 @@ public static class StageSolver
         const double tol = CompressionPath.DefaultToleranceKelvin;
         const int cap = CompressionPath.DefaultMaxIterations;
         n = default;
-        var cpR1 = gas.HeatCapacityOverR(t1);
-        var s1 = gas.EntropyOverR(t1);
+        var s1 = gas.EntropyOverR(t1, out var cpR1);
         var h1 = gas.EnthalpyOverR(t1);
         var lnR = Math.Log(ratio);
         var t2sK = t1 * Math.Exp(lnR / cpR1);
-        if (!CompressionPath.TrySolveTemperatureForEntropy(gas, s1 + lnR, t2sK, tol, cap, out var t2s))
+
+        // One cheap refinement of the constant-cp guess with cp at the mid temperature saves a Newton iteration.
+        var t2sGuess = t1 * Math.Exp(lnR / gas.HeatCapacityOverR(0.5 * (t1 + t2sK)));
+        if (!CompressionPath.TrySolveTemperatureForEntropy(gas, s1 + lnR, t2sGuess, tol, cap, out var t2s))
         {
             return false;
         }
@@ -147,7 +150,7 @@ public static class StageSolver
             t2K = t1 * Math.Exp(lnR / (cpR1 * eta));
         }
 
-        var cpR2 = gas.HeatCapacityOverR(t2);
+        var h2 = gas.EnthalpyOverR(t2, out var cpR2);
         n = new StageNumbers(
             t2s,
             t2,
@@ -159,15 +162,20 @@ public static class StageSolver
             cpR2 / (cpR2 - 1),
             h1,
             h2s,
-            gas.EnthalpyOverR(t2),
+            h2,
             t2sK,
             t2K);
         return true;
     }
 
-    private static bool SolveFromIsentropic(GasMixture gas, double t1, double h1, double h2s, double eta, double t2K, out double t2) =>
-        CompressionPath.TrySolveTemperatureForEnthalpy(
-            gas, h1 + ((h2s - h1) / eta), t1, t2K, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out t2);
+    private static bool SolveFromIsentropic(GasMixture gas, double t1, double h1, double h2s, double eta, double t2K, out double t2)
+    {
+        var h2 = h1 + ((h2s - h1) / eta);
+
+        // Refine the linear guess with cp at the mid temperature before Newton.
+        var guess = t1 + ((h2 - h1) / gas.HeatCapacityOverR(0.5 * (t1 + t2K)));
+        return CompressionPath.TrySolveTemperatureForEnthalpy(gas, h2, t1, guess, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out t2);
+    }
 
     internal readonly record struct StageNumbers(
         double T2s,

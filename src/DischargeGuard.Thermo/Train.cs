@@ -142,29 +142,28 @@ public static class TrainSolver
         for (var i = 0; i < stages.Length; i++)
         {
             var s = stages[i];
-            var prefix = string.Create(CultureInfo.InvariantCulture, $"stages[{i}]");
             double p1, t1;
             if (i == 0)
             {
                 if (s.Intercooler is not null)
                 {
-                    throw ThermoErrors.OutOfRange(prefix + ".Intercooler", null, "The first stage takes its suction directly; it cannot have an intercooler.");
+                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler"), null, "The first stage takes its suction directly; it cannot have an intercooler.");
                 }
 
-                (p1, t1) = RequireSuction(s, prefix);
+                (p1, t1) = RequireSuction(s, i);
             }
             else if (s.Intercooler is { } cooler)
             {
                 if (s.SuctionPressure is not null || s.SuctionTemperature is not null)
                 {
-                    throw ThermoErrors.OutOfRange(prefix + ".Intercooler", null, "A later stage gives either an intercooler or its own suction, never both.");
+                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler"), null, "A later stage gives either an intercooler or its own suction, never both.");
                 }
 
                 p1 = cooler.PressureDrop.Downstream(previousDischarge);
                 t1 = cooler.GasOutletKelvin;
                 if (!(p1 > 0))
                 {
-                    throw ThermoErrors.OutOfRange(prefix + ".Intercooler.PressureDrop", p1, "The cooler's pressure drop leaves no positive suction pressure.");
+                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler.PressureDrop"), p1, "The cooler's pressure drop leaves no positive suction pressure.");
                 }
             }
             else if (s.SuctionPressure is null && s.SuctionTemperature is null)
@@ -175,10 +174,10 @@ public static class TrainSolver
             }
             else
             {
-                (p1, t1) = RequireSuction(s, prefix);
+                (p1, t1) = RequireSuction(s, i);
                 if (p1 > previousDischarge * (1 + 1e-12))
                 {
-                    throw ThermoErrors.OutOfRange(prefix + ".SuctionPressure", p1, "A later stage's suction pressure cannot exceed the previous stage's discharge pressure.");
+                    throw ThermoErrors.OutOfRange(Member(i, "SuctionPressure"), p1, "A later stage's suction pressure cannot exceed the previous stage's discharge pressure.");
                 }
             }
 
@@ -202,7 +201,7 @@ public static class TrainSolver
             }
             catch (ThermoInputException ex)
             {
-                throw ex.WithPrefix(prefix);
+                throw ex.WithPrefix(Member(i, null));
             }
 
             destination[i] = new TrainStageResult(i, gas, result, condensate, stageFlow);
@@ -262,16 +261,22 @@ public static class TrainSolver
         return gas.WithWaterFraction(GasCatalog.Default.Water, waterLeft / (dry + waterLeft));
     }
 
-    private static (double P, double T) RequireSuction(in TrainStage s, string prefix)
+    // Built only on the error path, so a successful solve allocates no strings.
+    private static string Member(int index, string? member) =>
+        member is null
+            ? string.Create(CultureInfo.InvariantCulture, $"stages[{index}]")
+            : string.Create(CultureInfo.InvariantCulture, $"stages[{index}].{member}");
+
+    private static (double P, double T) RequireSuction(in TrainStage s, int i)
     {
         if (s.SuctionPressure is not { } p)
         {
-            throw ThermoErrors.OutOfRange(prefix + ".SuctionPressure", null, "This stage needs its suction pressure (or, for a later stage, an intercooler).");
+            throw ThermoErrors.OutOfRange(Member(i, "SuctionPressure"), null, "This stage needs its suction pressure (or, for a later stage, an intercooler).");
         }
 
         if (s.SuctionTemperature is not { } t)
         {
-            throw ThermoErrors.OutOfRange(prefix + ".SuctionTemperature", null, "This stage needs its suction temperature (or, for a later stage, an intercooler).");
+            throw ThermoErrors.OutOfRange(Member(i, "SuctionTemperature"), null, "This stage needs its suction temperature (or, for a later stage, an intercooler).");
         }
 
         return (p.Pascals, t.Kelvins);
