@@ -93,10 +93,9 @@ public class EngineTests
     public void Envelope_WhenAlreadyBeyondLimit_ReportsAlreadyExceeded()
     {
         var calc = new ConstantKCalculator(1.4);
-        var stage = AirStage() with { DischargePressure = Pressure.FromBars(4) };
-        stage = stage with { Isentropic = K(300 * Math.Pow(4, 0.4 / 1.4)) }; // 445.8 K > 423.15 K
-        stage = stage with { DischargePressure = Pressure.FromBars(3.9) }; // ratio kept below 4 so R-RATIO stays quiet
-        var result = RuleEngine.EvaluateStage(Repo.Defaults, stage with { Isentropic = K(300 * Math.Pow(3.9, 0.4 / 1.4)) }, calc);
+        // r = 3.9 (kept below 4 so R-RATIO stays quiet): T2s = 300·3.9^(2/7) = 442.3 K, beyond 423.15 K.
+        var stage = AirStage() with { DischargePressure = Pressure.FromBars(3.9), Isentropic = K(300 * Math.Pow(3.9, 0.4 / 1.4)) };
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, stage, calc);
         Assert.Equal(EnvelopeBoundStatus.AlreadyExceeded, result.Envelope!.MaxDischargePressure.Status);
         Assert.Equal(Verdict.Fail, result.Verdict);
     }

@@ -160,4 +160,27 @@ public class LayeringTests
         Assert.Equal(Severity.Warning, f.Severity); // 170 °C limit with a 15 K band: 160 °C is in the band.
         Assert.Throws<ArgumentOutOfRangeException>(() => Repo.Shipped.Resolve("other-site", "C-204B"));
     }
+
+    [Fact]
+    public void SpecialService_WhenDisabledWithReasonButNoSignOff_IsError()
+    {
+        var ex = Assert.Throws<RuleFileException>(() => Merge(Site("  - rule: R-SPECIAL-C2H2\n    disabled: true\n    reason: \"not used here\"")));
+        Assert.Equal("overrides.approvedBy", Assert.Single(ex.Errors).Key);
+    }
+
+    [Fact]
+    public void Override_WhenSignOffHalfGiven_IsMissingKey()
+    {
+        var ex = Assert.Throws<RuleFileException>(() => Layer("sites/s.yaml", "schemaVersion: 1\nlayer:\n  kind: site\n  id: s\noverrides:\n  - rule: R-SPECIAL-O2\n    limit: 120 °C\n    approvedBy: \"E. Vardy\"\n"));
+        var e = Assert.Single(ex.Errors);
+        Assert.Equal((RuleFileErrorKind.MissingKey, "overrides[0].approvedOn"), (e.Kind, e.Key));
+    }
+
+    [Fact]
+    public void ShippedExample_WhenAssetResolvedWithoutSite_UsesItsDeclaredSite()
+    {
+        var set = Repo.Shipped.Resolve(null, "C-204B");
+        Assert.Equal(["default", "site:marlow-fen", "asset:C-204B"], set.Layers.Select(l => l.Name));
+        Assert.Equal(Repo.Shipped.Resolve("marlow-fen", "C-204B").Digest, set.Digest);
+    }
 }

@@ -74,6 +74,15 @@ public sealed class ProviderTests : IDisposable
     }
 
     [Fact]
+    public void LoadDirectory_WhenNoDefaultFile_IsIoError()
+    {
+        File.Delete(Path.Combine(_dir, "default.yaml"));
+        var ex = Assert.Throws<RuleFileException>(() => FileRuleSetProvider.LoadDirectory(_dir, DateTimeOffset.UnixEpoch));
+        var e = Assert.Single(ex.Errors);
+        Assert.Equal((RuleFileErrorKind.Io, "default.yaml"), (e.Kind, e.File));
+    }
+
+    [Fact]
     public void LoadDirectory_WhenSiteIdDiffersFromFileName_IsError()
     {
         File.Move(SitePath, Path.Combine(_dir, "sites", "other.yaml"));

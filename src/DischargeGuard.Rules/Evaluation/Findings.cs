@@ -71,8 +71,46 @@ public sealed record Finding
     public SignOff? SignOff { get; init; }
     /// <summary>The rule's message (defers to local codes and the manufacturer).</summary>
     public required string Message { get; init; }
-    /// <summary>One line with the numbers, e.g. "estimated 162.30 °C > limit 150.00 °C (margin -12.30 K)".</summary>
-    public required string Detail { get; init; }
+    /// <summary>A fixed sentence the engine adds (special services, set points, defaulted efficiency), if any.</summary>
+    public string? Note { get; init; }
+
+    /// <summary>
+    /// One line with the numbers, e.g. "isentropic 162.30 °C > limit 150.00 °C (margin -12.30 K; set by default)".
+    /// Formatted on access, so evaluation does not pay for text nobody reads.
+    /// </summary>
+    public string Detail
+    {
+        get
+        {
+            var q = Quantity.ToName();
+            if (SetPoints is { } sp)
+            {
+                var text = string.Create(CultureInfo.InvariantCulture,
+                    $"proposed alarm {new Reading(QuantityDimension.Temperature, sp.Alarm.Kelvins)}, trip {new Reading(QuantityDimension.Temperature, sp.Trip.Kelvins)}");
+                if (sp.CapRuleId is not null)
+                {
+                    text += string.Create(CultureInfo.InvariantCulture, $" (capped at the fail limit {new Reading(QuantityDimension.Temperature, sp.Cap!.Value.Kelvins)} of {sp.CapRuleId})");
+                }
+
+                return Note is null ? text : text + "; " + Note;
+            }
+
+            if (Limit is { } l && Margin is { } m && Value is { } v)
+            {
+                var beyond = m.SiValue < 0;
+                var op = Direction == LimitDirection.Upper ? (beyond ? ">" : "<=") : (beyond ? "<" : ">=");
+                var text = string.Create(CultureInfo.InvariantCulture, $"{q} {v} {op} limit {l} (margin {m}; set by {Layer})");
+                return Note is null ? text : text + "; " + Note;
+            }
+
+            if (Note is not null)
+            {
+                return Value is { } v2 ? string.Create(CultureInfo.InvariantCulture, $"{q} {v2}: {Note}") : Note;
+            }
+
+            return Value is { } v3 ? string.Create(CultureInfo.InvariantCulture, $"{q} {v3}") : q;
+        }
+    }
     /// <summary>Set-point proposal, for R-SETPOINTS.</summary>
     public SetPointProposal? SetPoints { get; init; }
 }

@@ -107,7 +107,7 @@ public static class RuleEngine
                 Basis = type.EfficiencyBasis,
                 Layer = "default",
                 Message = "The request gave no efficiency, so the estimated discharge temperature uses the catalogue default for this compressor type. Use the manufacturer's value where one exists.",
-                Detail = type.DefaultEfficiency is { } eff
+                Note = type.DefaultEfficiency is { } eff
                     ? string.Create(CultureInfo.InvariantCulture, $"{type.EfficiencyKind.ToString().ToLowerInvariant()} efficiency {eff:0.00} for '{type.Id}'")
                     : string.Create(CultureInfo.InvariantCulture, $"no efficiency applies to '{type.Id}'"),
             });
@@ -188,13 +188,18 @@ public static class RuleEngine
         Positive(stage.EstimatedUpperBound.Kelvins, nameof(StageFacts.EstimatedUpperBound));
         Positive(stage.SuctionPressure.Pascals, nameof(StageFacts.SuctionPressure));
         Positive(stage.DischargePressure.Pascals, nameof(StageFacts.DischargePressure));
-        foreach (var t in new[] { stage.MeasuredDischarge, stage.NormalOperatingDischarge, stage.JacketCoolantInlet, stage.DischargeWaterDewPoint })
+        static void Optional(Temperature? t, string name)
         {
             if (t is { } v)
             {
-                Positive(v.Kelvins, "An optional temperature");
+                Positive(v.Kelvins, name);
             }
         }
+
+        Optional(stage.MeasuredDischarge, nameof(StageFacts.MeasuredDischarge));
+        Optional(stage.NormalOperatingDischarge, nameof(StageFacts.NormalOperatingDischarge));
+        Optional(stage.JacketCoolantInlet, nameof(StageFacts.JacketCoolantInlet));
+        Optional(stage.DischargeWaterDewPoint, nameof(StageFacts.DischargeWaterDewPoint));
 
         static void Known<T>(IReadOnlyDictionary<string, T> catalogue, string? id, string what)
         {
@@ -481,7 +486,7 @@ public static class RuleEngine
                 Basis = rule.Basis,
                 Layer = rule.LimitLayer,
                 Message = rule.Message,
-                Detail = "no limit set for this special service; an engineer must set and sign off the limit in a site or asset layer",
+                Note = "no limit set for this special service; an engineer must set and sign off the limit in a site or asset layer",
             };
         }
 
@@ -498,7 +503,6 @@ public static class RuleEngine
                 Basis = rule.Basis,
                 Layer = rule.LimitLayer,
                 Message = rule.Message,
-                Detail = string.Create(CultureInfo.InvariantCulture, $"{quantity.ToName()} {value}"),
             };
         }
 
@@ -518,7 +522,6 @@ public static class RuleEngine
 
         var limit = new Reading(dim, limitValue);
         var marginReading = new Reading(marginDim, bestMargin);
-        var op = rule.Direction == LimitDirection.Upper ? (bestMargin < 0 ? ">" : "<=") : (bestMargin < 0 ? "<" : ">=");
         return new Finding
         {
             RuleId = rule.Id,
@@ -535,7 +538,6 @@ public static class RuleEngine
             LoosenedReason = rule.LoosenedReason,
             SignOff = rule.SignOff,
             Message = rule.Message,
-            Detail = string.Create(CultureInfo.InvariantCulture, $"{quantity.ToName()} {value} {op} limit {limit} (margin {marginReading}; set by {rule.LimitLayer})"),
         };
     }
 
@@ -561,7 +563,7 @@ public static class RuleEngine
 
         var capped = false;
         var severity = Severity.Info;
-        var detail = "";
+        string? note = null;
         if (cap is not null)
         {
             var capK = cap.Limit!.Value.SiValue;
@@ -580,7 +582,7 @@ public static class RuleEngine
             if (nK >= capK)
             {
                 severity = Severity.Warning;
-                detail = string.Create(CultureInfo.InvariantCulture, $"; normal operating {new Reading(QuantityDimension.Temperature, nK)} is at or above the fail limit of {cap.RuleId}, so no set point can sit between them");
+                note = string.Create(CultureInfo.InvariantCulture, $"normal operating {new Reading(QuantityDimension.Temperature, nK)} is at or above the fail limit of {cap.RuleId}, so no set point can sit between them");
             }
         }
 
@@ -597,8 +599,7 @@ public static class RuleEngine
             Layer = rule.LimitLayer,
             LoosenedReason = rule.LoosenedReason,
             Message = rule.Message,
-            Detail = string.Create(CultureInfo.InvariantCulture, $"proposed alarm {new Reading(QuantityDimension.Temperature, alarm)}, trip {new Reading(QuantityDimension.Temperature, trip)}")
-                + (cap is null ? "" : string.Create(CultureInfo.InvariantCulture, $" (capped at the fail limit {cap.Limit} of {cap.RuleId})")) + detail,
+            Note = note,
             SetPoints = proposal,
         };
     }

@@ -59,8 +59,7 @@ public static class LayerMerger
             }
         }
 
-        var merged = new { services, lubricants, materials, types };
-        CheckReferences(layers, rules, merged.services, merged.lubricants, merged.materials, merged.types, errors);
+        CheckReferences(layers, rules, services, materials, types, errors);
         if (errors.Count > 0)
         {
             throw new RuleFileException(errors);
@@ -239,10 +238,9 @@ public static class LayerMerger
         return sign;
     }
 
-    private static void CheckReferences(IReadOnlyList<RuleLayer> layers, List<RuleDefinition> rules, List<ServiceClass> services, List<Lubricant> lubricants,
+    private static void CheckReferences(IReadOnlyList<RuleLayer> layers, List<RuleDefinition> rules, List<ServiceClass> services,
         List<Material> materials, List<CompressorType> types, List<RuleFileError> errors)
     {
-        _ = lubricants;
         var typeIds = types.Select(t => t.Id).ToHashSet(StringComparer.Ordinal);
         var serviceIds = services.Select(t => t.Id).ToHashSet(StringComparer.Ordinal);
         var valveIds = materials.Where(m => m.Use == MaterialUse.Valve).Select(t => t.Id).ToHashSet(StringComparer.Ordinal);

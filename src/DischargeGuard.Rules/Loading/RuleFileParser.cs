@@ -569,7 +569,7 @@ public static class RuleFileParser
             reason = null;
         }
 
-        if ((approvedBy is null) != (approvedOn is null) && approvedOnText is null == approvedOn is null)
+        if ((approvedBy is null) != (approvedOnText is null))
         {
             ctx.Add(RuleFileErrorKind.MissingKey, mapNode, path + (approvedBy is null ? ".approvedBy" : ".approvedOn"), "A sign-off has both approvedBy and approvedOn.");
         }

@@ -74,12 +74,7 @@ public sealed class RuleSetSnapshot
 
         var sites = Index(LayerKind.Site);
         var assets = Index(LayerKind.Asset);
-        foreach (var a in assets.Values.Where(a => a.Site is not null && !sites.ContainsKey(a.Site)))
-        {
-            // An asset may name a site with no overrides of its own; that is fine, merge over the default.
-            _ = a;
-        }
-
+        // An asset may name a site that has no file of its own: it then merges over the default alone.
         if (errors.Count > 0)
         {
             throw new RuleFileException(errors);
