@@ -48,8 +48,8 @@ public class DefaultRulesTests
         ["R-COOLING-JACKET"] = new(v => Quiet() with { JacketCoolantInlet = K(v) }, 308.15, LimitDirection.Lower, Severity.Warning, Severity.Pass),
         // Unloaded running and discharge > 100 °C (212 °F): API 618-2007 §5.7.2 as restated ((a)).
         ["R-COOLING-UNLOADED"] = new(v => Quiet() with { Estimated = K(v), UnloadedRunning = true }, 373.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
-        // Unloaded running and rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so estimated = 303.15 K + rise.
-        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Estimated = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Unloaded running and adiabatic rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so isentropic = 303.15 K + rise.
+        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
     };
 
     /// <summary>Facts with the rule's input removed, and the input the result must name.</summary>
@@ -148,6 +148,24 @@ public class DefaultRulesTests
         Assert.DoesNotContain("hydrogen-rich", ServiceClassDetector.Detect(Repo.Defaults, MolarMass.FromGramsPerMole(12.01), null));
         // Air, 28.96 g/mol (ISO 2533 standard atmosphere), is not hydrogen-rich.
         Assert.Empty(ServiceClassDetector.Detect(Repo.Defaults, MolarMass.FromGramsPerMole(28.9644), Ratio.FromPercent(20.95)));
+    }
+
+    [Theory]
+    [InlineData("R-API618-H2", "gasMolarMass")]
+    [InlineData("R-SPECIAL-O2", "oxygenMoleFraction")]
+    public void DetectedServiceRule_WhenCompositionInputMissing_NotCheckedRatherThanSkipped(string ruleId, string missing)
+    {
+        var result = Evaluate(Quiet());
+        var nc = Assert.Single(result.NotChecked, n => n.RuleId == ruleId);
+        Assert.Equal([missing], nc.MissingInputs);
+    }
+
+    [Fact]
+    public void DetectedServiceRule_WhenCompositionKnownAndOutside_DoesNotApply()
+    {
+        var result = Evaluate(Quiet() with { GasMolarMass = MolarMass.FromGramsPerMole(18), OxygenMoleFraction = Ratio.FromPercent(0.1) });
+        Assert.DoesNotContain(result.NotChecked, n => n.RuleId is "R-API618-H2" or "R-SPECIAL-O2");
+        Assert.DoesNotContain(result.Findings, f => f.RuleId is "R-API618-H2" or "R-SPECIAL-O2");
     }
 
     [Fact]

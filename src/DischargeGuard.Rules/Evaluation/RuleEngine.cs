@@ -57,7 +57,7 @@ public static class RuleEngine
 
         foreach (var rule in rules.Rules)
         {
-            var missing = Applies(rule.AppliesTo, stage, classes, lubricant, out var applies);
+            var missing = Applies(rules, rule.AppliesTo, stage, classes, lubricant, out var applies);
             if (!applies)
             {
                 continue;
@@ -219,8 +219,29 @@ public static class RuleEngine
         }
     }
 
+    private static string? MissingDetectionInput(EffectiveRuleSet rules, IReadOnlyList<string> wanted, StageFacts s)
+    {
+        foreach (var id in wanted)
+        {
+            if (rules.ServiceClasses.TryGetValue(id, out var c))
+            {
+                if (c.Detection == ServiceDetection.MolarMassAtMost && s.GasMolarMass is null)
+                {
+                    return "gasMolarMass";
+                }
+
+                if (c.Detection == ServiceDetection.OxygenFractionAbove && s.OxygenMoleFraction is null)
+                {
+                    return "oxygenMoleFraction";
+                }
+            }
+        }
+
+        return null;
+    }
+
     /// <summary>Returns the missing input that prevents checking, or null; <paramref name="applies"/> false when the rule does not apply.</summary>
-    private static string? Applies(AppliesTo a, StageFacts s, IReadOnlyList<string> classes, Lubricant? lubricant, out bool applies)
+    private static string? Applies(EffectiveRuleSet rules, AppliesTo a, StageFacts s, IReadOnlyList<string> classes, Lubricant? lubricant, out bool applies)
     {
         applies = false;
         string? missing = null;
@@ -238,7 +259,12 @@ public static class RuleEngine
 
         if (a.ServiceClasses.Count > 0 && !Any(a.ServiceClasses, classes))
         {
-            return null;
+            // A class detected from the composition cannot be ruled out when the composition input is absent.
+            missing ??= MissingDetectionInput(rules, a.ServiceClasses, s);
+            if (missing is null)
+            {
+                return null;
+            }
         }
 
         if (a.NotServiceClasses.Count > 0 && Any(a.NotServiceClasses, classes))
@@ -337,7 +363,7 @@ public static class RuleEngine
         CheckedQuantity.Measured => (s.MeasuredDischarge?.Kelvins, "measuredDischargeTemperature"),
         CheckedQuantity.MeasuredMinusPredicted => (s.MeasuredDischarge is { } m ? m.Kelvins - s.Estimated.Kelvins : null, "measuredDischargeTemperature"),
         CheckedQuantity.PressureRatio => (s.PressureRatio, null),
-        CheckedQuantity.TemperatureRise => (s.Estimated.Kelvins - s.SuctionTemperature.Kelvins, null),
+        CheckedQuantity.TemperatureRise => (s.TemperatureRise.Kelvins, null),
         CheckedQuantity.JacketCoolantInlet => (s.JacketCoolantInlet?.Kelvins, "jacketCoolantInletTemperature"),
         CheckedQuantity.NormalOperating => (s.NormalOperatingDischarge?.Kelvins, "normalOperatingDischargeTemperature"),
         _ => throw new ArgumentOutOfRangeException(nameof(q), q, "Unknown quantity."),

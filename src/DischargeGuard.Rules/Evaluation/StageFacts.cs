@@ -53,6 +53,18 @@ public sealed record StageFacts
     /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
     public Temperature? DischargeWaterDewPoint { get; init; }
 
+    /// <summary>
+    /// Temperature rise across the stage. Defaults to isentropic − suction, the adiabatic rise the API 618 cooling
+    /// clause uses; a caller may set it (e.g. from its own prediction).
+    /// </summary>
+    public TemperatureDelta TemperatureRise
+    {
+        get => _temperatureRise ?? TemperatureDelta.FromKelvins(Isentropic.Kelvins - SuctionTemperature.Kelvins);
+        init => _temperatureRise = value;
+    }
+
+    private readonly TemperatureDelta? _temperatureRise;
+
     /// <summary>Pressure ratio on absolute pressures.</summary>
     public double PressureRatio => DischargePressure.Pascals / SuctionPressure.Pascals;
 }

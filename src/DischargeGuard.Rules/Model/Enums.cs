@@ -39,7 +39,7 @@ public enum CheckedQuantity
     MeasuredMinusPredicted,
     /// <summary>Stage pressure ratio on absolute pressures.</summary>
     PressureRatio,
-    /// <summary>Estimated discharge minus suction temperature (a difference).</summary>
+    /// <summary>Stage temperature rise, by default isentropic minus suction temperature (a difference).</summary>
     TemperatureRise,
     /// <summary>Jacket coolant inlet temperature.</summary>
     JacketCoolantInlet,

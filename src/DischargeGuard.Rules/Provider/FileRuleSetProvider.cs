@@ -38,6 +38,9 @@ public interface IRuleSetProvider
 /// </summary>
 public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
 {
+    /// <summary>Largest rule file read (1 MiB); a larger file is refused rather than parsed.</summary>
+    public const long MaxFileBytes = 1 << 20;
+
     private readonly string _directory;
     private readonly TimeProvider _time;
     private readonly Lock _reloadLock = new();
@@ -101,6 +104,12 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
             string text;
             try
             {
+                if (new FileInfo(path).Length > MaxFileBytes)
+                {
+                    errors.Add(new RuleFileError(RuleFileErrorKind.Io, rel, 0, 0, "", $"The file is larger than {MaxFileBytes} bytes; rule files are small hand-edited documents."));
+                    return;
+                }
+
                 text = File.ReadAllText(path);
             }
             catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
@@ -176,9 +185,11 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
                 result = new ReloadResult(false, _current.Digest, ex.Errors);
                 _lastError = result;
             }
-            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+#pragma warning disable CA1031 // A reload runs on a timer thread: any failure must keep the last good set, never end the process.
+            catch (Exception ex)
+#pragma warning restore CA1031
             {
-                result = new ReloadResult(false, _current.Digest, [new RuleFileError(RuleFileErrorKind.Io, ".", 0, 0, "", ex.Message)]);
+                result = new ReloadResult(false, _current.Digest, [new RuleFileError(RuleFileErrorKind.Io, ".", 0, 0, "", ex.GetType().Name + ": " + ex.Message)]);
                 _lastError = result;
             }
 
