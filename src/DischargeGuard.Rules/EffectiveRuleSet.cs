@@ -22,8 +22,12 @@ public sealed class EffectiveRuleSet
         IReadOnlyList<Material> materials,
         IReadOnlyList<CompressorType> compressorTypes,
         IReadOnlyList<RuleDefinition> rules,
-        IReadOnlyList<DisabledRule> disabled)
+        IReadOnlyList<DisabledRule> disabled,
+        IReadOnlyDictionary<string, string> catalogueLayers)
     {
+        CatalogueLayers = catalogueLayers.ToFrozenDictionary(StringComparer.Ordinal);
+        var order = layers.Select((l, i) => (l.Name, i)).ToDictionary(x => x.Name, x => x.i, StringComparer.Ordinal);
+        LayerOrder = order.ToFrozenDictionary(StringComparer.Ordinal);
         Layers = layers;
         ServiceClasses = serviceClasses.ToFrozenDictionary(s => s.Id, StringComparer.Ordinal);
         Lubricants = lubricants.ToFrozenDictionary(s => s.Id, StringComparer.Ordinal);
@@ -64,4 +68,13 @@ public sealed class EffectiveRuleSet
     public IReadOnlyList<DisabledRule> Disabled { get; }
 
     internal IReadOnlyList<ServiceClass> DetectedServiceClasses { get; }
+
+    /// <summary>The layer that defined each catalogue entry, keyed "section/id" (e.g. "lubricants/mineral-vdl").</summary>
+    public IReadOnlyDictionary<string, string> CatalogueLayers { get; }
+
+    internal IReadOnlyDictionary<string, int> LayerOrder { get; }
+
+    /// <summary>The later (higher-precedence) of two layer names.</summary>
+    internal string Later(string a, string? b) =>
+        b is null || !LayerOrder.TryGetValue(b, out var ib) || (LayerOrder.TryGetValue(a, out var ia) && ia >= ib) ? a : b;
 }

@@ -77,6 +77,16 @@ public class LayeringTests
         Assert.Equal(7, e.Line);
     }
 
+    [Theory]
+    [InlineData("R-SCREW-PREDICTION")]
+    [InlineData("R-SETPOINTS")]
+    public void Override_WhenRuleHasNoLimit_IsBadValue(string ruleId)
+    {
+        var ex = Assert.Throws<RuleFileException>(() => Merge(Site($"  - rule: {ruleId}\n    limit: 100 °C\n    reason: \"x\"")));
+        var e = Assert.Single(ex.Errors);
+        Assert.Equal((RuleFileErrorKind.BadValue, "overrides.limit", 7L), (e.Kind, e.Key, e.Line));
+    }
+
     [Fact]
     public void Override_WhenUnknownRule_IsUnknownReference()
     {
@@ -174,6 +184,17 @@ public class LayeringTests
         var ex = Assert.Throws<RuleFileException>(() => Layer("sites/s.yaml", "schemaVersion: 1\nlayer:\n  kind: site\n  id: s\noverrides:\n  - rule: R-SPECIAL-O2\n    limit: 120 °C\n    approvedBy: \"E. Vardy\"\n"));
         var e = Assert.Single(ex.Errors);
         Assert.Equal((RuleFileErrorKind.MissingKey, "overrides[0].approvedOn"), (e.Kind, e.Key));
+    }
+
+    [Fact]
+    public void CatalogueLimit_WhenEntryAddedBySite_FindingNamesSiteLayer()
+    {
+        // tarnbrook-pao-150 is defined in the example site layer with ratedMaxDischarge 200 °C.
+        var set = Repo.Shipped.Resolve("marlow-fen", null);
+        var f = RuleEngine.EvaluateStage(set, Quiet() with { LubricantId = "tarnbrook-pao-150" }).Find("R-LUBE-CLASS");
+        Assert.Equal("site:marlow-fen", f.Layer);
+        AssertEx.Close(473.15, f.Limit!.Value.SiValue, 1e-9, "limit");
+        Assert.Equal("default", RuleEngine.EvaluateStage(set, Quiet() with { LubricantId = "mineral-vdl" }).Find("R-LUBE-CLASS").Layer);
     }
 
     [Fact]

@@ -105,7 +105,7 @@ public static class RuleEngine
                 RuleSeverity = Severity.Info,
                 Quantity = CheckedQuantity.Estimated,
                 Basis = type.EfficiencyBasis,
-                Layer = "default",
+                Layer = rules.CatalogueLayers.TryGetValue("compressorTypes/" + type.Id, out var typeLayer) ? typeLayer : "default",
                 Message = "The request gave no efficiency, so the estimated discharge temperature uses the catalogue default for this compressor type. Use the manufacturer's value where one exists.",
                 Note = type.DefaultEfficiency is { } eff
                     ? string.Create(CultureInfo.InvariantCulture, $"{type.EfficiencyKind.ToString().ToLowerInvariant()} efficiency {eff:0.00} for '{type.Id}'")
@@ -369,6 +369,18 @@ public static class RuleEngine
         _ => throw new ArgumentOutOfRangeException(nameof(q), q, "Unknown quantity."),
     };
 
+    private static string? CatalogueLayer(EffectiveRuleSet rules, LimitSource source, StageFacts s)
+    {
+        var key = source switch
+        {
+            LimitSource.LubricantRatedMaxDischarge or LimitSource.LubricantAutoignition or LimitSource.LubricantFlashPoint when s.LubricantId is not null => "lubricants/" + s.LubricantId,
+            LimitSource.ValveMaterialLimit when s.ValveMaterialId is not null => "materials/" + s.ValveMaterialId,
+            LimitSource.SealMaterialLimit when s.SealMaterialId is not null => "materials/" + s.SealMaterialId,
+            _ => null,
+        };
+        return key is not null && rules.CatalogueLayers.TryGetValue(key, out var layer) ? layer : null;
+    }
+
     private enum LimitOutcome
     {
         Ok,
@@ -448,9 +460,11 @@ public static class RuleEngine
         // Pick the available quantity with the smallest margin (or the first available when there is no limit).
         double limitValue = 0;
         var hasLimit = false;
+        var limitLayer = rule.LimitLayer;
         if (rule.Limit is not null)
         {
             var outcome = ResolveLimit(rules, rule.Limit, s, lubricant, out limitValue, out var limitMissing);
+            limitLayer = rules.Later(rule.LimitLayer, CatalogueLayer(rules, rule.Limit.Source, s));
             if (outcome == LimitOutcome.NotApplicable)
             {
                 return null;
@@ -560,7 +574,7 @@ public static class RuleEngine
             Margin = marginReading,
             Direction = rule.Direction,
             Basis = rule.Basis,
-            Layer = rule.LimitLayer,
+            Layer = limitLayer,
             LoosenedReason = rule.LoosenedReason,
             SignOff = rule.SignOff,
             Message = rule.Message,

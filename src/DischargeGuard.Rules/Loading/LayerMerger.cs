@@ -66,7 +66,7 @@ public static class LayerMerger
         }
 
         var infos = layers.Select(l => new LayerInfo(l.Name, l.File, l.Digest)).ToArray();
-        return new EffectiveRuleSet(infos, services, lubricants, materials, types, rules, disabled);
+        return new EffectiveRuleSet(infos, services, lubricants, materials, types, rules, disabled, owner);
     }
 
     private static void AddCatalogue<T>(RuleLayer layer, string section, IReadOnlyList<T> items, Func<T, string> id, List<T> into, Dictionary<string, string> owner, List<RuleFileError> errors)
@@ -142,9 +142,10 @@ public static class LayerMerger
             return;
         }
 
-        if (rule.SetPoints is not null && hasLimit)
+        if (hasLimit && rule.Limit is null && !rule.RequiresSignedLimit)
         {
-            Err(errors, RuleFileErrorKind.BadValue, layer, o.Location, "overrides.limit", $"'{o.RuleId}' proposes set points and has no limit to override.");
+            Err(errors, RuleFileErrorKind.BadValue, layer, KeyLoc(layer, o, "limit"), "overrides.limit",
+                $"'{o.RuleId}' is a note or a set-point proposal and has no limit to override; add a rule under a new id instead.");
             return;
         }
 
