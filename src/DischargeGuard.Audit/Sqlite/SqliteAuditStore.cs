@@ -763,7 +763,7 @@ public sealed class SqliteAuditStore : IAuditStore
     }
 
     /// <summary>The SQL and parameters of one query, validated before anything is read.</summary>
-    private sealed class QueryPlan
+    internal sealed class QueryPlan
     {
         private readonly string _sql;
         private readonly List<(string Name, object Value)> _parameters;
@@ -773,6 +773,9 @@ public sealed class SqliteAuditStore : IAuditStore
             _sql = sql;
             _parameters = parameters;
         }
+
+        /// <summary>The statement, for tests that check its query plan.</summary>
+        public string Sql => _sql;
 
         public static QueryPlan Build(AuditQuery query)
         {
