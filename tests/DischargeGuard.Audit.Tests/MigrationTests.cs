@@ -1,0 +1,101 @@
+using DischargeGuard.Audit.Sqlite;
+
+namespace DischargeGuard.Audit.Tests;
+
+public sealed class MigrationTests : IAsyncLifetime
+{
+    private readonly TempAuditFolder _folder = new();
+
+    public Task InitializeAsync()
+    {
+        Directory.CreateDirectory(Path.GetDirectoryName(_folder.DatabasePath)!);
+        return Task.CompletedTask;
+    }
+
+    public async Task DisposeAsync() => await _folder.CleanUpAsync();
+
+    [Fact]
+    public async Task Open_WhenFileHasOnlyFirstMigration_UpgradesAndKeepsOldRows()
+    {
+        var oldId = Guid.CreateVersion7(Sample.Start);
+        using (var raw = _folder.OpenRaw())
+        {
+            Assert.Equal([1], AuditSchema.Migrate(raw, targetVersion: 1));
+            using var insert = raw.CreateCommand();
+
+            // A row as version 1 wrote it: no replay_of column yet.
+            insert.CommandText = """
+                INSERT INTO evaluations (id, evaluated_at, caller, asset, site_id, verdict, rule_digest, engine_version, request, request_sha256, response, response_sha256)
+                VALUES ($id, '2026-03-14T09:26:53.0000000Z', 'key-field-07', 'K-101A', 'kestrel-ridge', 'review', $digest, '0.0.9', x'7b7d', $hash, x'7b7d', $hash);
+                """;
+            insert.Parameters.AddWithValue("$id", oldId.ToString());
+            insert.Parameters.AddWithValue("$digest", Sample.Digest);
+            insert.Parameters.AddWithValue("$hash", AuditDigest.Sha256Hex("{}"u8));
+            insert.ExecuteNonQuery();
+        }
+
+        var store = await _folder.OpenAsync();
+
+        Assert.Equal(AuditSchema.LatestVersion, _folder.Scalar("SELECT max(version) FROM schema_migrations;"));
+        Assert.Equal(AuditSchema.Migrations.Count, _folder.Scalar("SELECT count(*) FROM schema_migrations WHERE description <> '' AND length(applied_at) = 28;"));
+        var old = await store.GetAsync(oldId, CancellationToken.None);
+        Assert.NotNull(old);
+        Assert.Equal(AuditVerdict.Review, old.Verdict);
+        Assert.Null(old.ReplayOf);
+        Assert.Equal(1, _folder.Scalar("SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND name = 'evaluations_no_update';"));
+        Assert.Equal(1, _folder.Scalar("SELECT count(*) FROM sqlite_master WHERE type = 'index' AND name = 'ix_evaluations_asset';"));
+        var replay = Sample.Record(at: Sample.Start.AddHours(1)) with { ReplayOf = oldId };
+        await store.AppendAsync(replay, CancellationToken.None);
+        Assert.Equal(oldId, (await store.GetAsync(replay.Id, CancellationToken.None))?.ReplayOf);
+    }
+
+    [Fact]
+    public async Task Open_WhenFileIsCurrent_AppliesNothingTwice()
+    {
+        await using (await SqliteAuditStore.OpenAsync(_folder.Options(), CancellationToken.None))
+        {
+        }
+
+        using (var raw = _folder.OpenRaw())
+        {
+            Assert.Empty(AuditSchema.Migrate(raw, AuditSchema.LatestVersion));
+        }
+
+        await _folder.OpenAsync();
+
+        Assert.Equal(AuditSchema.Migrations.Count, _folder.Scalar("SELECT count(*) FROM schema_migrations;"));
+    }
+
+    [Fact]
+    public async Task Open_WhenFileIsNewerThanThisBuild_ThrowsUnavailable()
+    {
+        using (var raw = _folder.OpenRaw())
+        {
+            AuditSchema.Migrate(raw, AuditSchema.LatestVersion);
+            using var insert = raw.CreateCommand();
+            insert.CommandText = "INSERT INTO schema_migrations VALUES (1000, '2030-01-01T00:00:00.0000000Z', 'from a later build');";
+            insert.ExecuteNonQuery();
+        }
+
+        var e = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => SqliteAuditStore.OpenAsync(_folder.Options(), CancellationToken.None));
+
+        Assert.Contains("1000", e.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Migrations_WhenListed_AreNumberedOneUpWithoutGaps()
+    {
+        Assert.Equal(Enumerable.Range(1, AuditSchema.Migrations.Count), AuditSchema.Migrations.Select(m => m.Version));
+    }
+
+    [Fact]
+    public async Task Open_WhenFileIsNew_UsesWalJournal()
+    {
+        await _folder.OpenAsync();
+
+        using var raw = _folder.OpenRaw();
+        using var command = raw.CreateCommand();
+        command.CommandText = "PRAGMA journal_mode;";
+        Assert.Equal("wal", command.ExecuteScalar() as string);
+    }
+}
