@@ -1,0 +1,73 @@
+namespace DischargeGuard.Audit.Tests;
+
+public sealed class HealthTests : IAsyncLifetime
+{
+    private readonly TempAuditFolder _folder = new();
+
+    public Task InitializeAsync() => Task.CompletedTask;
+
+    public async Task DisposeAsync() => await _folder.CleanUpAsync();
+
+    [Fact]
+    public async Task CheckHealth_WhenStoreIsOpen_ReportsReachableAndWritable()
+    {
+        var store = await _folder.OpenAsync();
+        await store.AppendAsync(Sample.Record(), CancellationToken.None);
+
+        var health = await store.CheckHealthAsync(CancellationToken.None);
+
+        Assert.True(health.Reachable);
+        Assert.True(health.Writable);
+        Assert.True(health.IsHealthy);
+        Assert.Null(health.LastError);
+        Assert.NotNull(health.LastCommitAt);
+        Assert.Equal(1, _folder.Scalar("SELECT count(*) FROM health_probe;"));
+        Assert.Equal(1, _folder.CountEvaluations()); // the probe writes its own table, never evaluations
+    }
+
+    [Fact]
+    public async Task CheckHealth_WhenAnotherProcessHoldsWriteLock_ReportsNotWritableThenRecovers()
+    {
+        var store = await _folder.OpenAsync(_folder.Options(busyTimeout: TimeSpan.FromMilliseconds(100)));
+        using (var locker = _folder.OpenRaw())
+        {
+            using (var begin = locker.CreateCommand())
+            {
+                begin.CommandText = "BEGIN IMMEDIATE;";
+                begin.ExecuteNonQuery();
+            }
+
+            var locked = await store.CheckHealthAsync(CancellationToken.None);
+            var append = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => store.AppendAsync(Sample.Record(), CancellationToken.None).AsTask());
+
+            Assert.True(locked.Reachable);
+            Assert.False(locked.Writable);
+            Assert.Contains("locked", locked.LastError, StringComparison.OrdinalIgnoreCase);
+            Assert.NotNull(locked.LastErrorAt);
+            Assert.Contains("locked", append.Message, StringComparison.OrdinalIgnoreCase);
+
+            using var rollback = locker.CreateCommand();
+            rollback.CommandText = "ROLLBACK;";
+            rollback.ExecuteNonQuery();
+        }
+
+        var recovered = await store.CheckHealthAsync(CancellationToken.None);
+        await store.AppendAsync(Sample.Record(), CancellationToken.None);
+
+        Assert.True(recovered.Writable);
+        Assert.Equal(1, _folder.CountEvaluations());
+    }
+
+    [Fact]
+    public async Task CheckHealth_WhenStoreDisposed_ReportsNeitherReachableNorWritable()
+    {
+        var store = await _folder.OpenAsync();
+        await store.DisposeAsync();
+
+        var health = await store.CheckHealthAsync(CancellationToken.None);
+
+        Assert.False(health.Reachable);
+        Assert.False(health.Writable);
+        Assert.Contains("closed", health.LastError, StringComparison.Ordinal);
+    }
+}
