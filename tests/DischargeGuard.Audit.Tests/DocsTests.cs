@@ -1,0 +1,32 @@
+using DischargeGuard.Audit.Sqlite;
+
+namespace DischargeGuard.Audit.Tests;
+
+public class DocsTests
+{
+    [Fact]
+    public void AuditDoc_WhenMigrationsChange_ListsEveryMigrationWithItsDescription()
+    {
+        var doc = File.ReadAllText(Path.Combine(RepoRoot(), "docs", "audit.md"));
+
+        var missing = AuditSchema.Migrations
+            .Where(m => !doc.Contains($"| {m.Version} | {m.Description} |", StringComparison.Ordinal))
+            .Select(m => m.Version)
+            .ToList();
+
+        Assert.True(missing.Count == 0, "Migrations not in docs/audit.md: " + string.Join(", ", missing));
+    }
+
+    private static string RepoRoot()
+    {
+        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
+        {
+            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
+            {
+                return dir.FullName;
+            }
+        }
+
+        throw new InvalidOperationException("The repository root (DischargeGuard.sln) was not found above the test binaries.");
+    }
+}
