@@ -26,6 +26,7 @@ public sealed class EffectiveRuleSet
         IReadOnlyDictionary<string, string> catalogueLayers)
     {
         CatalogueLayers = catalogueLayers.ToFrozenDictionary(StringComparer.Ordinal);
+        CatalogueLayersByPair = catalogueLayers.ToFrozenDictionary(kv => (kv.Key[..kv.Key.IndexOf('/', StringComparison.Ordinal)], kv.Key[(kv.Key.IndexOf('/', StringComparison.Ordinal) + 1)..]), kv => kv.Value);
         var order = layers.Select((l, i) => (l.Name, i)).ToDictionary(x => x.Name, x => x.i, StringComparer.Ordinal);
         LayerOrder = order.ToFrozenDictionary(StringComparer.Ordinal);
         Layers = layers;
@@ -73,6 +74,9 @@ public sealed class EffectiveRuleSet
     public IReadOnlyDictionary<string, string> CatalogueLayers { get; }
 
     internal IReadOnlyDictionary<string, int> LayerOrder { get; }
+
+    // Keyed by (section, id) so the evaluator looks entries up without building key strings.
+    internal FrozenDictionary<(string Section, string Id), string> CatalogueLayersByPair { get; }
 
     /// <summary>The later (higher-precedence) of two layer names.</summary>
     internal string Later(string a, string? b) =>

@@ -115,12 +115,32 @@ public sealed record Finding
     public SetPointProposal? SetPoints { get; init; }
 }
 
+/// <summary>Why a rule could not be checked.</summary>
+public enum NotCheckedReason
+{
+    /// <summary>An input that decides whether the rule applies is absent (compressor type, lubricant, material, composition, unloaded-running flag).</summary>
+    ApplicabilityInput,
+    /// <summary>An input or catalogue value the limit is computed from is absent.</summary>
+    LimitInput,
+    /// <summary>The value the rule checks is absent (e.g. the measured discharge temperature).</summary>
+    CheckedValue,
+}
+
 /// <summary>A rule that applied but could not be checked.</summary>
 /// <param name="RuleId">Rule id.</param>
 /// <param name="Title">Rule title.</param>
-/// <param name="MissingInputs">The inputs that were absent (request field names).</param>
-/// <param name="Reason">What to supply.</param>
-public sealed record NotChecked(string RuleId, string Title, IReadOnlyList<string> MissingInputs, string Reason);
+/// <param name="MissingInputs">The inputs that were absent (request field names, or catalogue fields).</param>
+/// <param name="Why">Which part of the rule needed them.</param>
+public sealed record NotChecked(string RuleId, string Title, IReadOnlyList<string> MissingInputs, NotCheckedReason Why)
+{
+    /// <summary>A sentence saying what to supply (formatted on access).</summary>
+    public string Reason => Why switch
+    {
+        NotCheckedReason.ApplicabilityInput => $"Whether the rule applies depends on {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
+        NotCheckedReason.LimitInput => $"The limit is computed from {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
+        _ => $"The rule checks a value that needs {string.Join(" or ", MissingInputs)}; supply it to have the rule checked.",
+    };
+}
 
 /// <summary>The result for one stage.</summary>
 /// <param name="StageIndex">0-based index.</param>

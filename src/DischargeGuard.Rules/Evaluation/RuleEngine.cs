@@ -65,7 +65,7 @@ public static class RuleEngine
 
             if (missing is not null)
             {
-                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [missing], $"The rule applies only when '{missing}' is known; supply it to have the rule checked."));
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [missing], NotCheckedReason.ApplicabilityInput));
                 continue;
             }
 
@@ -90,8 +90,7 @@ public static class RuleEngine
             }
             else
             {
-                (notChecked ??= []).Add(new NotChecked(setPointRule.Id, setPointRule.Title, ["normalOperatingDischargeTemperature"],
-                    "Set points are proposed from the normal operating discharge temperature; supply it to get a proposal."));
+                (notChecked ??= []).Add(new NotChecked(setPointRule.Id, setPointRule.Title, ["normalOperatingDischargeTemperature"], NotCheckedReason.CheckedValue));
             }
         }
 
@@ -371,14 +370,14 @@ public static class RuleEngine
 
     private static string? CatalogueLayer(EffectiveRuleSet rules, LimitSource source, StageFacts s)
     {
-        var key = source switch
+        var (section, id) = source switch
         {
-            LimitSource.LubricantRatedMaxDischarge or LimitSource.LubricantAutoignition or LimitSource.LubricantFlashPoint when s.LubricantId is not null => "lubricants/" + s.LubricantId,
-            LimitSource.ValveMaterialLimit when s.ValveMaterialId is not null => "materials/" + s.ValveMaterialId,
-            LimitSource.SealMaterialLimit when s.SealMaterialId is not null => "materials/" + s.SealMaterialId,
-            _ => null,
+            LimitSource.LubricantRatedMaxDischarge or LimitSource.LubricantAutoignition or LimitSource.LubricantFlashPoint => ("lubricants", s.LubricantId),
+            LimitSource.ValveMaterialLimit => ("materials", s.ValveMaterialId),
+            LimitSource.SealMaterialLimit => ("materials", s.SealMaterialId),
+            _ => ("", null),
         };
-        return key is not null && rules.CatalogueLayers.TryGetValue(key, out var layer) ? layer : null;
+        return id is not null && rules.CatalogueLayersByPair.TryGetValue((section, id), out var layer) ? layer : null;
     }
 
     private enum LimitOutcome
@@ -472,7 +471,7 @@ public static class RuleEngine
 
             if (outcome == LimitOutcome.Missing)
             {
-                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [limitMissing!], $"The limit needs '{limitMissing}'; supply it to have the rule checked."));
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [limitMissing!], NotCheckedReason.LimitInput));
                 return null;
             }
 
@@ -505,8 +504,7 @@ public static class RuleEngine
             if (!(rule.RequiresSignedLimit && !hasLimit))
             {
                 var distinct = missingQ!.Distinct(StringComparer.Ordinal).ToArray();
-                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, distinct,
-                    $"The rule checks {string.Join(" or ", rule.Quantities.Select(q => q.ToName()))}; supply {string.Join(", ", distinct)} to have it checked."));
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, distinct, NotCheckedReason.CheckedValue));
                 return null;
             }
         }
