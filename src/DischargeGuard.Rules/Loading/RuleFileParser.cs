@@ -429,7 +429,7 @@ public static class RuleFileParser
         var items = node switch
         {
             YamlScalarNode s => [(s.Value ?? string.Empty, (YamlNode)s)],
-            YamlSequenceNode seq => seq.Children.Select(c => (c is YamlScalarNode sc ? sc.Value ?? string.Empty : "\u0000", c)).ToList(),
+            YamlSequenceNode seq => seq.Children.Select(c => (c is YamlScalarNode sc ? sc.Value ?? string.Empty : "(a list or mapping)", c)).ToList(),
             _ => null,
         };
         if (items is null || items.Count == 0)
