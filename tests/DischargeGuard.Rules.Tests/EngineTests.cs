@@ -114,9 +114,9 @@ public class EngineTests
     [Fact]
     public void Verdict_WhenTrainHasPassReviewAndFail_OverallIsWorst()
     {
-        var pass = Quiet();
-        var review = Quiet() with { StageIndex = 1, Position = StagePosition.Intermediate, Isentropic = C(147) };
-        var fail = Quiet() with { StageIndex = 2, Position = StagePosition.Last, Isentropic = C(151) };
+        var pass = Complete(Quiet());
+        var review = Complete(Quiet()) with { StageIndex = 1, Position = StagePosition.Intermediate, Isentropic = C(147) };
+        var fail = Complete(Quiet()) with { StageIndex = 2, Position = StagePosition.Last, Isentropic = C(151) };
         var set = Repo.Defaults;
         Assert.Equal(Verdict.Pass, RuleEngine.Evaluate(set, [pass]).Verdict);
         Assert.Equal(Verdict.Review, RuleEngine.Evaluate(set, [pass, review]).Verdict);
@@ -126,6 +126,33 @@ public class EngineTests
         Assert.Equal(set.Digest, all.RuleSetDigest);
         Assert.Equal(set.Layers, all.Layers);
     }
+
+    [Fact]
+    public void Verdict_WhenViolationRuleNotChecked_IsReviewWithEngineWarning()
+    {
+        // Quiet() gives no molar mass, so the hydrogen-rich limit cannot be checked: the stage must not pass.
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet());
+        Assert.Contains(result.NotChecked, n => n.RuleId == "R-API618-H2");
+        Assert.Equal(Verdict.Review, result.Verdict);
+        var warning = result.Find(RuleEngine.UncheckedLimitsRuleId);
+        Assert.Equal(Severity.Warning, warning.Severity);
+        Assert.Contains("R-API618-H2", warning.Note, StringComparison.Ordinal);
+        Assert.Equal(Verdict.Pass, RuleEngine.EvaluateStage(Repo.Defaults, Complete(Quiet())).Verdict);
+    }
+
+    // Every input the default rules can use, far inside their limits (an air stage: 28.96 g/mol, 20.9 % O2).
+    private static StageFacts Complete(StageFacts s) => s with
+    {
+        GasMolarMass = MolarMass.FromGramsPerMole(28.96),
+        OxygenMoleFraction = Ratio.FromDecimalFractions(0.209),
+        LubricantId = "mineral-vdl",
+        ValveMaterialId = "peek",
+        SealMaterialId = "fkm",
+        MeasuredDischarge = s.Estimated,
+        NormalOperatingDischarge = s.Estimated,
+        JacketCoolantInlet = Temperature.FromDegreesCelsius(40),
+        UnloadedRunning = false,
+    };
 
     [Fact]
     public void Finding_WhenBeyond_MarginNegativeWithUnitAndDetail()

@@ -10,6 +10,9 @@ namespace DischargeGuard.Rules.Evaluation;
 /// </summary>
 public static class RuleEngine
 {
+    /// <summary>Id of the engine's own warning that violation-level rules were left unchecked.</summary>
+    public const string UncheckedLimitsRuleId = "ENGINE-UNCHECKED-LIMITS";
+
     private const double CelsiusOffset = 273.15;
     private const string NotComputable = "The governing quantity is not predicted from pressures and temperatures, so no envelope can be computed for it.";
 
@@ -110,6 +113,27 @@ public static class RuleEngine
                     ? string.Create(CultureInfo.InvariantCulture, $"{type.EfficiencyKind.ToString().ToLowerInvariant()} efficiency {eff:0.00} for '{type.Id}'")
                     : string.Create(CultureInfo.InvariantCulture, $"no efficiency applies to '{type.Id}'"),
             });
+        }
+
+        // A gate must not pass what it could not check: violation-level rules left unchecked make the stage a review.
+        if (notChecked is not null)
+        {
+            var uncheckedLimits = notChecked.Where(n => rules.RulesById.TryGetValue(n.RuleId, out var r) && r.Severity == Severity.Violation).ToArray();
+            if (uncheckedLimits.Length > 0)
+            {
+                findings.Add(new Finding
+                {
+                    RuleId = UncheckedLimitsRuleId,
+                    Title = "Limits that could not be checked",
+                    Severity = Severity.Warning,
+                    RuleSeverity = Severity.Warning,
+                    Quantity = CheckedQuantity.Estimated,
+                    Basis = "common practice, no single source: a screening gate does not pass a stage whose limits it could not check",
+                    Layer = "default",
+                    Message = "Some violation-level rules could not be checked because inputs are missing, so this stage cannot pass. Supply the missing inputs listed under notChecked, or have a qualified engineer confirm the limits with the manufacturer and local codes.",
+                    Note = "unchecked: " + string.Join(", ", uncheckedLimits.Select(n => $"{n.RuleId} (needs {string.Join(", ", n.MissingInputs)})")),
+                });
+            }
         }
 
         var verdict = Verdict.Pass;

@@ -126,7 +126,11 @@ public sealed class RuleSetSnapshot
             throw new ArgumentOutOfRangeException(nameof(assetId), assetId, $"Asset '{assetId}' belongs to site '{asset.Site}', not '{siteId}'.");
         }
 
-        return _cache.GetOrAdd((siteId, assetId), key =>
+        // Ids without a layer resolve like absent ones; keying the cache on known ids only keeps it bounded
+        // whatever callers send.
+        var siteKey = siteId is not null && Sites.ContainsKey(siteId) ? siteId : null;
+        var assetKey = assetId is not null && Assets.ContainsKey(assetId) ? assetId : null;
+        return _cache.GetOrAdd((siteKey, assetKey), key =>
         {
             var list = new List<RuleLayer> { Default };
             var site = key.Site;
