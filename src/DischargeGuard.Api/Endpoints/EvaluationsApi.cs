@@ -1,0 +1,176 @@
+using System.Diagnostics;
+using System.Text.Json;
+using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Audit;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Rules.Provider;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.AspNetCore.Mvc;
+using Microsoft.Extensions.Options;
+
+namespace DischargeGuard.Api.Endpoints;
+
+/// <summary>Evaluations: compute, audit, answer; and read back what was recorded.</summary>
+public static partial class EvaluationsApi
+{
+    /// <summary>Maps <c>/v1/evaluations</c>.</summary>
+    public static RouteGroupBuilder MapEvaluations(this IEndpointRouteBuilder routes)
+    {
+        var group = routes.MapGroup("/v1/evaluations").WithTags("Evaluations");
+        group.MapPost("/", Evaluate)
+            .WithName("CreateEvaluation")
+            .WithSummary("Evaluate a proposed stage or train; the answer is recorded in the audit store before it is sent.")
+            .WithDescription("Quantities are strings \"<number> <unit>\" or {\"value\", \"unit\"}; state pressures state their basis. "
+                + "Add ?curve=true for the discharge-temperature curve per stage. A rule violation is a 200 with verdict \"fail\".")
+            .Accepts<EvaluationRequest>("application/json")
+            .WithValidation<EvaluationRequest>();
+        group.MapGet("/{id:guid}", GetEvaluation)
+            .WithName("GetEvaluation")
+            .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.");
+        return group;
+    }
+
+    internal static async Task<Results<Utf8JsonResult<EvaluationResponse>, ValidationProblem, ProblemHttpResult>> Evaluate(
+        [FromBody] EvaluationRequest request,
+        [FromQuery] bool? curve,
+        HttpContext http,
+        IRuleSetProvider rules,
+        EvaluationPipeline pipeline,
+        IAuditStore audit,
+        TimeProvider time,
+        IOptions<ServiceOptions> options,
+        ILoggerFactory loggers)
+    {
+        var started = Stopwatch.GetTimestamp();
+        var now = time.GetUtcNow();
+        var id = Guid.CreateVersion7(now);
+
+        // One snapshot for the whole evaluation: a reload mid-request cannot mix two rule sets.
+        var snapshot = rules.Current;
+        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve == true));
+        if (outcome.Problem is { } problem)
+        {
+            return problem.Kind == ProblemKind.InvalidRequest
+                ? Problems.Validation(problem.Errors.ToDictionary(e => e.Key, e => e.Value), problem.Code, problem.Title)
+                : Problems.Unprocessable(problem);
+        }
+
+        var response = outcome.Response!;
+        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
+        var record = new AuditRecord
+        {
+            Id = id,
+            EvaluatedAt = now,
+            Caller = CallerOf(http),
+            Asset = request.Asset!,
+            SiteId = request.Site?.Id,
+            Verdict = response.Verdict,
+            RuleDigest = response.RuleSet.Digest,
+            EngineVersion = response.EngineVersion,
+            Request = await RequestBodyAsync(http, request).ConfigureAwait(false),
+            Response = body,
+        };
+        var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
+        try
+        {
+            await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+        }
+        catch (AuditStoreUnavailableException ex)
+        {
+            LogAuditFailed(logger, ex, id, request.Asset!);
+            http.Response.Headers.RetryAfter = options.Value.RetryAfterSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture);
+            return Problems.AuditStoreUnavailable();
+        }
+
+        if (logger.IsEnabled(LogLevel.Information))
+        {
+            var governingMargin = response.Stages.Select(s => s.Governing?.Margin?.Value).Where(m => m is not null).DefaultIfEmpty(null).Min();
+            var elapsedMs = Stopwatch.GetElapsedTime(started).TotalMilliseconds;
+            LogEvaluated(logger, id, request.Asset!, response.Verdict, governingMargin, response.RuleSet.Digest, record.Caller, elapsedMs);
+        }
+        return new Utf8JsonResult<EvaluationResponse>(body);
+    }
+
+    internal static async Task<Results<Utf8JsonResult<StoredEvaluation>, ProblemHttpResult>> GetEvaluation(Guid id, IAuditStore audit, CancellationToken cancellationToken)
+    {
+        var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
+        return record is null
+            ? Problems.Missing($"No evaluation with id {id} is recorded.")
+            : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
+    }
+
+    internal static string CallerOf(HttpContext http) =>
+        http.User.Identity?.IsAuthenticated == true && http.User.Identity.Name is { } name ? name : AuditRecord.AnonymousCaller;
+
+    // The request as received (the body was buffered for this route), so the record holds what the caller sent.
+    private static async Task<byte[]> RequestBodyAsync(HttpContext http, EvaluationRequest bound)
+    {
+        var body = http.Request.Body;
+        if (body.CanSeek)
+        {
+            body.Position = 0;
+            using var copy = new MemoryStream();
+            await body.CopyToAsync(copy, http.RequestAborted).ConfigureAwait(false);
+            return copy.ToArray();
+        }
+
+        return JsonSerializer.SerializeToUtf8Bytes(bound, EvaluationJson.Options);
+    }
+
+    [LoggerMessage(EventId = 1, Level = LogLevel.Information,
+        Message = "Evaluation {EvaluationId} of {Asset}: {Verdict}, governing margin {GoverningMargin}, rules {RuleDigest}, caller {Caller}, {DurationMs:0.0} ms")]
+    private static partial void LogEvaluated(ILogger logger, Guid evaluationId, string asset, string verdict, double? governingMargin, string ruleDigest, string caller, double durationMs);
+
+    [LoggerMessage(EventId = 2, Level = LogLevel.Error, Message = "Evaluation {EvaluationId} of {Asset} not answered: the audit store refused the write")]
+    private static partial void LogAuditFailed(ILogger logger, Exception exception, Guid evaluationId, string asset);
+}
+
+/// <summary>
+/// A recorded evaluation as <c>GET /v1/evaluations/{id}</c> returns it. <c>request</c> and <c>response</c> are the stored
+/// JSON documents embedded verbatim (their bytes are unchanged).
+/// </summary>
+public sealed record StoredEvaluation(
+    Guid Id,
+    DateTimeOffset EvaluatedAt,
+    string Caller,
+    string Asset,
+    string? Site,
+    string Verdict,
+    string RuleDigest,
+    string EngineVersion,
+    string RequestSha256,
+    string ResponseSha256,
+    JsonElement Request,
+    JsonElement Response)
+{
+    internal static byte[] Write(AuditRecord record)
+    {
+        using var buffer = new MemoryStream(record.Request.Length + record.Response.Length + 512);
+        using (var w = new Utf8JsonWriter(buffer, new JsonWriterOptions { Encoder = System.Text.Encodings.Web.JavaScriptEncoder.UnsafeRelaxedJsonEscaping }))
+        {
+            w.WriteStartObject();
+            w.WriteString("id", record.Id);
+            w.WriteString("evaluatedAt", record.EvaluatedAt);
+            w.WriteString("caller", record.Caller);
+            w.WriteString("asset", record.Asset);
+            if (record.SiteId is not null)
+            {
+                w.WriteString("site", record.SiteId);
+            }
+
+            w.WriteString("verdict", record.Verdict);
+            w.WriteString("ruleDigest", record.RuleDigest);
+            w.WriteString("engineVersion", record.EngineVersion);
+            w.WriteString("requestSha256", record.RequestSha256);
+            w.WriteString("responseSha256", record.ResponseSha256);
+            w.WritePropertyName("request");
+            w.WriteRawValue(record.Request, skipInputValidation: false);
+            w.WritePropertyName("response");
+            w.WriteRawValue(record.Response, skipInputValidation: true);
+            w.WriteEndObject();
+        }
+
+        return buffer.ToArray();
+    }
+}

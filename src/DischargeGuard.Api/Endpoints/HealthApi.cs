@@ -1,0 +1,77 @@
+using System.Text.Json;
+using DischargeGuard.Audit;
+using DischargeGuard.Rules.Provider;
+using Microsoft.AspNetCore.Diagnostics.HealthChecks;
+using Microsoft.Extensions.Diagnostics.HealthChecks;
+
+namespace DischargeGuard.Api.Endpoints;
+
+/// <summary>Liveness and readiness.</summary>
+public static class HealthApi
+{
+    /// <summary>Maps <c>/health/live</c> (the process answers) and <c>/health/ready</c> (rules loaded, audit store writable).</summary>
+    public static IEndpointRouteBuilder MapHealth(this IEndpointRouteBuilder routes)
+    {
+        routes.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false, ResponseWriter = WriteAsync })
+            .WithTags("Health").WithName("Live").WithSummary("The process is up.");
+        routes.MapHealthChecks("/health/ready", new HealthCheckOptions
+        {
+            ResponseWriter = WriteAsync,
+            ResultStatusCodes =
+            {
+                [HealthStatus.Healthy] = StatusCodes.Status200OK,
+                [HealthStatus.Degraded] = StatusCodes.Status200OK,
+                [HealthStatus.Unhealthy] = StatusCodes.Status503ServiceUnavailable,
+            },
+        }).WithTags("Health").WithName("Ready").WithSummary("Ready with a loaded rule set and a writable audit store; Degraded when the last rule reload failed.");
+        return routes;
+    }
+
+    private static Task WriteAsync(HttpContext http, HealthReport report)
+    {
+        http.Response.ContentType = "application/json; charset=utf-8";
+        var doc = new Dictionary<string, object?>
+        {
+            ["status"] = report.Status.ToString(),
+            ["checks"] = report.Entries.ToDictionary(
+                e => e.Key,
+                e => (object?)new Dictionary<string, object?>
+                {
+                    ["status"] = e.Value.Status.ToString(),
+                    ["description"] = e.Value.Description,
+                    ["data"] = e.Value.Data.Count == 0 ? null : e.Value.Data,
+                }),
+        };
+        return http.Response.WriteAsync(JsonSerializer.Serialize(doc, HealthJson), http.RequestAborted);
+    }
+
+    private static readonly JsonSerializerOptions HealthJson = new() { PropertyNamingPolicy = JsonNamingPolicy.CamelCase, WriteIndented = false };
+}
+
+/// <summary>Rule set loaded; Degraded (still serving the last good set) when the last reload failed.</summary>
+internal sealed class RuleSetHealthCheck(IRuleSetProvider rules) : IHealthCheck
+{
+    public Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default)
+    {
+        var data = new Dictionary<string, object> { ["digest"] = rules.Current.Digest, ["loadedAt"] = rules.Current.LoadedAt };
+        if (rules.LastError is { } error)
+        {
+            data["lastReloadErrors"] = error.Errors.Select(e => e.ToString()).ToArray();
+            return Task.FromResult(HealthCheckResult.Degraded("The last rule reload failed; the last good rule set is still in force.", data: data));
+        }
+
+        return Task.FromResult(HealthCheckResult.Healthy("Rule set loaded.", data));
+    }
+}
+
+/// <summary>Audit store reachable and writable.</summary>
+internal sealed class AuditStoreHealthCheck(IAuditStore audit) : IHealthCheck
+{
+    public async Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default)
+    {
+        var health = await audit.CheckHealthAsync(cancellationToken).ConfigureAwait(false);
+        return health.IsHealthy
+            ? HealthCheckResult.Healthy("Audit store writable.")
+            : HealthCheckResult.Unhealthy("The audit store cannot take writes; evaluations are refused with 503 until it recovers.");
+    }
+}

@@ -1,0 +1,140 @@
+using System.Text;
+using DischargeGuard.Rules;
+using DischargeGuard.Rules.Loading;
+using DischargeGuard.Rules.Model;
+using DischargeGuard.Rules.Provider;
+using DischargeGuard.Rules.Units;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.AspNetCore.Mvc;
+using UnitsNet;
+
+namespace DischargeGuard.Api.Endpoints;
+
+/// <summary>The active rules: effective layers and catalogues, and a dry check of a candidate file.</summary>
+public static class RulesApi
+{
+    /// <summary>Largest candidate rule file accepted by the check, bytes.</summary>
+    public const int MaxRuleFileBytes = 512 * 1024;
+
+    /// <summary>Maps <c>/v1/rules</c>.</summary>
+    public static RouteGroupBuilder MapRules(this IEndpointRouteBuilder routes)
+    {
+        var group = routes.MapGroup("/v1/rules").WithTags("Rules");
+        group.MapGet("/", GetRules)
+            .WithName("GetRules")
+            .WithSummary("The effective rule set for a site and asset: layers with digests, catalogues and rules.");
+        group.MapPost("/check", CheckRuleFile)
+            .WithName("CheckRuleFile")
+            .WithSummary("Validate a candidate rule file (YAML in the body); nothing is activated.")
+            .Accepts<string>("application/yaml", "text/yaml", "text/plain");
+        return group;
+    }
+
+    internal static Ok<RulesDocument> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
+    {
+        var snapshot = provider.Current;
+        EffectiveRuleSet set;
+        try
+        {
+            set = snapshot.Resolve(site, asset);
+        }
+        catch (ArgumentOutOfRangeException)
+        {
+            set = snapshot.Resolve(null, asset);
+        }
+
+        return TypedResults.Ok(RulesDocument.From(set, snapshot, provider.LastError));
+    }
+
+    internal static async Task<Ok<RuleCheckResult>> CheckRuleFile(HttpRequest request, [FromQuery] string? name, CancellationToken cancellationToken)
+    {
+        var fileName = string.IsNullOrWhiteSpace(name) ? "candidate.yaml" : Path.GetFileName(name);
+        using var reader = new StreamReader(request.Body, new UTF8Encoding(false, true));
+        var buffer = new char[MaxRuleFileBytes + 1];
+        var length = await reader.ReadBlockAsync(buffer.AsMemory(), cancellationToken).ConfigureAwait(false);
+        if (length > MaxRuleFileBytes)
+        {
+            throw new BadHttpRequestException("Rule file too large.", StatusCodes.Status413PayloadTooLarge);
+        }
+
+        try
+        {
+            var layer = RuleFileParser.Parse(fileName, new string(buffer, 0, length));
+            return TypedResults.Ok(new RuleCheckResult(true, layer.Name, CanonicalForm.Digest(CanonicalForm.OfLayer(layer)), []));
+        }
+        catch (RuleFileException ex)
+        {
+            return TypedResults.Ok(new RuleCheckResult(false, null, null, ex.Errors.Select(RuleErrorDto.From).ToArray()));
+        }
+    }
+}
+
+/// <summary>The effective rule set as <c>GET /v1/rules</c> returns it.</summary>
+public sealed record RulesDocument(
+    string Digest,
+    IReadOnlyList<RuleLayerDto> Layers,
+    DateTimeOffset LoadedAt,
+    IReadOnlyList<RuleErrorDto> LastReloadErrors,
+    CataloguesDto Catalogues,
+    IReadOnlyList<RuleSummaryDto> Rules,
+    IReadOnlyList<DisabledRuleDto> Disabled)
+{
+    internal static RulesDocument From(EffectiveRuleSet set, RuleSetSnapshot snapshot, ReloadResult? lastError) => new(
+        set.Digest,
+        set.Layers.Select(l => new RuleLayerDto(l.Name, l.File, l.Digest)).ToArray(),
+        snapshot.LoadedAt,
+        lastError?.Errors.Select(RuleErrorDto.From).ToArray() ?? [],
+        new CataloguesDto(
+            set.Lubricants.Values.OrderBy(l => l.Id, StringComparer.Ordinal).Select(l => new LubricantDto(l.Id, l.Title, l.BaseStock, l.Class, Celsius(l.FlashPoint), Celsius(l.AutoignitionTemperature), Celsius(l.RatedMaxDischarge), l.Basis)).ToArray(),
+            Materials(set, MaterialUse.Valve),
+            Materials(set, MaterialUse.Seal),
+            set.CompressorTypes.Values.OrderBy(c => c.Id, StringComparer.Ordinal).Select(c => new CompressorTypeDto(c.Id, c.Title, c.Family, c.Lubricated, c.EfficiencyKind == EfficiencyKind.Polytropic ? "polytropic" : "isentropic", c.DefaultEfficiency, c.EfficiencyBasis, c.PredictionIsUpperBound)).ToArray(),
+            set.ServiceClasses.Values.OrderBy(s => s.Id, StringComparer.Ordinal).Select(s => new ServiceClassDto(s.Id, s.Title, s.Detection.ToString())).ToArray()),
+        set.Rules.Select(r => new RuleSummaryDto(r.Id, r.Title, r.Quantities.Select(q => q.ToName()).ToArray(), r.Severity.ToString().ToLowerInvariant(), r.Basis, r.LimitLayer)).ToArray(),
+        set.Disabled.Select(d => new DisabledRuleDto(d.RuleId, d.Layer, d.Reason)).ToArray());
+
+    private static MaterialDto[] Materials(EffectiveRuleSet set, MaterialUse use) =>
+        set.Materials.Values.Where(m => m.Use == use).OrderBy(m => m.Id, StringComparer.Ordinal)
+            .Select(m => new MaterialDto(m.Id, m.Title, Celsius(m.ContinuousLimit), m.Basis)).ToArray();
+
+    private static Evaluation.Contract.QuantityDto? Celsius(Temperature? t) => t is { } v ? new(Math.Round(v.DegreesCelsius, 3), "°C") : null;
+}
+
+/// <summary>A layer.</summary>
+public sealed record RuleLayerDto(string Name, string File, string Digest);
+
+/// <summary>A rule-file error with its location.</summary>
+public sealed record RuleErrorDto(string Kind, string File, long Line, long Column, string Key, string Message)
+{
+    internal static RuleErrorDto From(RuleFileError e) => new(e.Kind.ToString(), e.File, e.Line, e.Column, e.Key, e.Message);
+}
+
+/// <summary>The catalogues of the effective set.</summary>
+public sealed record CataloguesDto(
+    IReadOnlyList<LubricantDto> Lubricants,
+    IReadOnlyList<MaterialDto> ValveMaterials,
+    IReadOnlyList<MaterialDto> SealMaterials,
+    IReadOnlyList<CompressorTypeDto> CompressorTypes,
+    IReadOnlyList<ServiceClassDto> ServiceClasses);
+
+/// <summary>A lubricant.</summary>
+public sealed record LubricantDto(string Id, string Title, string BaseStock, string? Class, Evaluation.Contract.QuantityDto? FlashPoint,
+    Evaluation.Contract.QuantityDto? AutoignitionTemperature, Evaluation.Contract.QuantityDto? RatedMaxDischarge, string Basis);
+
+/// <summary>A valve or seal material.</summary>
+public sealed record MaterialDto(string Id, string Title, Evaluation.Contract.QuantityDto? ContinuousLimit, string Basis);
+
+/// <summary>A compressor type and its default efficiency.</summary>
+public sealed record CompressorTypeDto(string Id, string Title, string Family, bool Lubricated, string EfficiencyKind, double? DefaultEfficiency, string EfficiencyBasis, bool PredictionIsUpperBound);
+
+/// <summary>A service class.</summary>
+public sealed record ServiceClassDto(string Id, string Title, string Detection);
+
+/// <summary>A rule in brief.</summary>
+public sealed record RuleSummaryDto(string Id, string Title, IReadOnlyList<string> Quantities, string Severity, string Basis, string LimitLayer);
+
+/// <summary>A rule disabled by a layer.</summary>
+public sealed record DisabledRuleDto(string RuleId, string Layer, string Reason);
+
+/// <summary>The result of checking a candidate rule file.</summary>
+public sealed record RuleCheckResult(bool Valid, string? Layer, string? Digest, IReadOnlyList<RuleErrorDto> Errors);

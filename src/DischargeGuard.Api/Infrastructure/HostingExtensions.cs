@@ -1,0 +1,112 @@
+using DischargeGuard.Api.Endpoints;
+using DischargeGuard.Audit;
+using DischargeGuard.Audit.Sqlite;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Evaluation.Validation;
+using DischargeGuard.Rules.Provider;
+using FluentValidation;
+using Microsoft.Extensions.Options;
+using Serilog;
+using Serilog.Formatting.Compact;
+
+namespace DischargeGuard.Api.Infrastructure;
+
+/// <summary>The host's composition: services, middleware and endpoints.</summary>
+public static class HostingExtensions
+{
+    /// <summary>Registers options, logging, rules, the audit store, the pipeline, validators, problem details and OpenAPI.</summary>
+    public static WebApplicationBuilder AddDischargeGuard(this WebApplicationBuilder builder)
+    {
+        ArgumentNullException.ThrowIfNull(builder);
+        builder.Services.AddOptions<ServiceOptions>().BindConfiguration(ServiceOptions.SectionName).ValidateDataAnnotations().ValidateOnStart();
+        builder.Services.AddOptions<AuditSettings>().BindConfiguration(AuditSettings.SectionName).ValidateDataAnnotations().ValidateOnStart();
+
+        builder.Services.AddSerilog((services, logger) => logger
+            .ReadFrom.Configuration(builder.Configuration)
+            .Enrich.FromLogContext()
+            .WriteTo.Console(new RenderedCompactJsonFormatter())
+            .WriteTo.File(
+                new CompactJsonFormatter(),
+                Path.Combine(builder.Environment.ContentRootPath, "data", "logs", "dischargeguard-.log"),
+                rollingInterval: RollingInterval.Day,
+                retainedFileCountLimit: 14));
+
+        builder.WebHost.ConfigureKestrel((context, kestrel) =>
+            kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue<long?>($"{ServiceOptions.SectionName}:MaxRequestBodyBytes") ?? 1024 * 1024);
+
+        builder.Services.ConfigureHttpJsonOptions(o => EvaluationJson.Configure(o.SerializerOptions));
+        builder.Services.AddSingleton(TimeProvider.System);
+        builder.Services.AddSingleton<IRuleSetProvider>(sp =>
+        {
+            var o = sp.GetRequiredService<IOptions<ServiceOptions>>().Value;
+            // A broken rule file throws here, which stops start-up with file, line and reason.
+            return FileRuleSetProvider.Open(o.ResolvedRulesDirectory, o.RulesWatch);
+        });
+        builder.Services.AddSingleton<IAuditStore>(sp =>
+        {
+            var settings = sp.GetRequiredService<IOptions<AuditSettings>>().Value;
+            var path = Path.IsPathRooted(settings.SqlitePath) ? settings.SqlitePath : Path.Combine(builder.Environment.ContentRootPath, settings.SqlitePath);
+            var options = new AuditStoreOptions { SqlitePath = path, MaxBatchSize = settings.MaxBatchSize };
+
+            // Opening migrates the schema; it runs once at start-up (the store is resolved eagerly below).
+            return SqliteAuditStore.OpenAsync(options, CancellationToken.None).GetAwaiter().GetResult();
+        });
+        builder.Services.AddSingleton<EvaluationPipeline>();
+        builder.Services.AddSingleton<IValidator<EvaluationRequest>, EvaluationRequestValidator>();
+        builder.Services.AddHostedService<StartupWarmup>();
+
+        builder.Services.AddProblemDetails(o => o.CustomizeProblemDetails = c =>
+            c.ProblemDetails.Extensions["traceId"] = System.Diagnostics.Activity.Current?.TraceId.ToString() ?? c.HttpContext.TraceIdentifier);
+        builder.Services.AddExceptionHandler<ProblemExceptionHandler>();
+        builder.Services.AddHealthChecks()
+            .AddCheck<RuleSetHealthCheck>("rules")
+            .AddCheck<AuditStoreHealthCheck>("audit");
+        builder.Services.AddEndpointsApiExplorer();
+        builder.Services.AddSwaggerGen(OpenApiSetup.Configure);
+        return builder;
+    }
+
+    /// <summary>Middleware and endpoints.</summary>
+    public static WebApplication UseDischargeGuard(this WebApplication app)
+    {
+        ArgumentNullException.ThrowIfNull(app);
+        // Outermost, so the one event per request carries the status the client received.
+        app.UseSerilogRequestLogging(o => o.MessageTemplate = "HTTP {RequestMethod} {RequestPath} responded {StatusCode} in {Elapsed:0.0} ms");
+        app.UseExceptionHandler();
+        app.UseStatusCodePages();
+        app.Use((context, next) =>
+        {
+            // Evaluations record the request exactly as received, so its body is kept for a second read.
+            if (HttpMethods.IsPost(context.Request.Method) && context.Request.Path.StartsWithSegments("/v1/evaluations", StringComparison.Ordinal))
+            {
+                context.Request.EnableBuffering();
+            }
+
+            return next(context);
+        });
+        app.UseSwagger();
+        app.UseSwaggerUI(o => o.DocumentTitle = "DischargeGuard API");
+
+        app.MapEvaluations();
+        app.MapRules();
+        app.MapGases();
+        app.MapHealth();
+        return app;
+    }
+}
+
+/// <summary>Resolves the rule provider and the audit store at start-up so a broken rule file or store stops the host before it listens.</summary>
+internal sealed partial class StartupWarmup(IRuleSetProvider rules, IAuditStore audit, IOptions<ServiceOptions> options, ILogger<StartupWarmup> logger) : IHostedService
+{
+    public Task StartAsync(CancellationToken cancellationToken)
+    {
+        LogStarted(logger, options.Value.ResolvedRulesDirectory, rules.Current.Digest, audit.GetType().Name);
+        return Task.CompletedTask;
+    }
+
+    public Task StopAsync(CancellationToken cancellationToken) => Task.CompletedTask;
+
+    [LoggerMessage(Level = LogLevel.Information, Message = "Rules from {RulesDirectory} (digest {RuleDigest}); audit store {AuditStore}")]
+    private static partial void LogStarted(Microsoft.Extensions.Logging.ILogger logger, string rulesDirectory, string ruleDigest, string auditStore);
+}

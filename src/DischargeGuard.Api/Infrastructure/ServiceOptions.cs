@@ -1,0 +1,47 @@
+using System.ComponentModel.DataAnnotations;
+
+namespace DischargeGuard.Api.Infrastructure;
+
+/// <summary>Settings of the service host (section <c>DischargeGuard</c>).</summary>
+public sealed class ServiceOptions
+{
+    /// <summary>The configuration section.</summary>
+    public const string SectionName = "DischargeGuard";
+
+    /// <summary>Rule directory (default.yaml, sites/, assets/); empty means the shipped rules beside the binary.</summary>
+    public string RulesDirectory { get; set; } = string.Empty;
+
+    /// <summary>Whether to reload the rules when the directory changes.</summary>
+    public bool RulesWatch { get; set; } = true;
+
+    /// <summary>Largest accepted request body, bytes (larger → 413).</summary>
+    [Range(1024, 256 * 1024 * 1024)]
+    public long MaxRequestBodyBytes { get; set; } = 1024 * 1024;
+
+    /// <summary>Seconds a client should wait before retrying after a 503.</summary>
+    [Range(1, 3600)]
+    public int RetryAfterSeconds { get; set; } = 5;
+
+    /// <summary>The rule directory to use.</summary>
+    public string ResolvedRulesDirectory =>
+        string.IsNullOrWhiteSpace(RulesDirectory) ? Path.Combine(AppContext.BaseDirectory, "rules") : Path.GetFullPath(RulesDirectory);
+}
+
+/// <summary>Settings of the audit store (section <c>Audit</c>).</summary>
+public sealed class AuditSettings
+{
+    /// <summary>The configuration section.</summary>
+    public const string SectionName = "Audit";
+
+    /// <summary>Store provider: sqlite.</summary>
+    [RegularExpression("^sqlite$", ErrorMessage = "Audit:Provider must be 'sqlite'.")]
+    public string Provider { get; set; } = "sqlite";
+
+    /// <summary>SQLite file; a relative path is under the content root.</summary>
+    [Required]
+    public string SqlitePath { get; set; } = "data/audit.db";
+
+    /// <summary>Most records committed in one transaction.</summary>
+    [Range(1, 10_000)]
+    public int MaxBatchSize { get; set; } = 256;
+}

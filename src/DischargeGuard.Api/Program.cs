@@ -1,0 +1,25 @@
+using DischargeGuard.Api.Infrastructure;
+using Serilog;
+
+Log.Logger = new LoggerConfiguration().WriteTo.Console().CreateBootstrapLogger();
+try
+{
+    var builder = WebApplication.CreateBuilder(args);
+    builder.AddDischargeGuard();
+    var app = builder.Build();
+    app.UseDischargeGuard();
+    await app.RunAsync().ConfigureAwait(false);
+    return 0;
+}
+catch (Exception ex) when (ex is not HostAbortedException)
+{
+    Log.Fatal(ex, "DischargeGuard stopped during start-up or shutdown");
+    return 1;
+}
+finally
+{
+    await Log.CloseAndFlushAsync().ConfigureAwait(false);
+}
+
+/// <summary>The entry point, public for the in-process test host.</summary>
+public partial class Program;

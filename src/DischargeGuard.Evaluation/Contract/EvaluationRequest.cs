@@ -1,0 +1,184 @@
+namespace DischargeGuard.Evaluation.Contract;
+
+/// <summary>
+/// A proposed stage or train to evaluate (<c>POST /v1/evaluations</c>). Every quantity carries its unit; state pressures
+/// state their basis (absolute or gauge). Optional parts that are absent make the rules that need them "not checked".
+/// </summary>
+public sealed record EvaluationRequest
+{
+    /// <summary>Asset tag of the machine, e.g. "K-101A".</summary>
+    public string? Asset { get; init; }
+
+    /// <summary>Site id and its barometric pressure or elevation (needed for gauge pressures; selects the site rule layer).</summary>
+    public SiteInput? Site { get; init; }
+
+    /// <summary>Declared service: general, oxygen, chlorine, acetylene, sour or co2 (hydrogen-rich and oxygen-rich are detected).</summary>
+    public string? Service { get; init; }
+
+    /// <summary>The gas: a preset, or a composition by mole or mass fraction.</summary>
+    public GasInput? Gas { get; init; }
+
+    /// <summary>auto (default) or ideal-gas.</summary>
+    public string? Method { get; init; }
+
+    /// <summary>metric (default) or imperial.</summary>
+    public string? OutputUnits { get; init; }
+
+    /// <summary>Flow through the first stage, for power (optional).</summary>
+    public FlowInput? Flow { get; init; }
+
+    /// <summary>The stages in flow order.</summary>
+    public IReadOnlyList<StageInput>? Stages { get; init; }
+}
+
+/// <summary>The site: its id and either its barometric pressure or its elevation.</summary>
+public sealed record SiteInput
+{
+    /// <summary>Site id; selects rules/sites/&lt;id&gt;.yaml when present.</summary>
+    public string? Id { get; init; }
+
+    /// <summary>Elevation above mean sea level (e.g. "350 m"); the ISO 2533 atmosphere gives the barometric pressure.</summary>
+    public QuantityInput? Elevation { get; init; }
+
+    /// <summary>Barometric pressure (absolute by nature; plain units, e.g. "98.6 kPa").</summary>
+    public QuantityInput? BarometricPressure { get; init; }
+}
+
+/// <summary>The gas: a preset or a composition; optionally humid.</summary>
+public sealed record GasInput
+{
+    /// <summary>Preset id (see <c>GET /v1/gases</c>).</summary>
+    public string? Preset { get; init; }
+
+    /// <summary>Fractions keyed by species formula or plain name, summing to 1 within 1e-4.</summary>
+    public IReadOnlyDictionary<string, double>? Composition { get; init; }
+
+    /// <summary>mole (default) or mass.</summary>
+    public string? Basis { get; init; }
+
+    /// <summary>Relative humidity at first-stage suction, a fraction 0–1.</summary>
+    public double? RelativeHumidity { get; init; }
+
+    /// <summary>Water dew point at first-stage suction pressure (instead of a relative humidity).</summary>
+    public QuantityInput? DewPoint { get; init; }
+}
+
+/// <summary>Flow through the first stage: a mass flow or a standard volume flow with its reference conditions.</summary>
+public sealed record FlowInput
+{
+    /// <summary>Mass flow, e.g. "2.5 kg/s".</summary>
+    public QuantityInput? Mass { get; init; }
+
+    /// <summary>Standard volume flow, e.g. "1200 m³/h".</summary>
+    public QuantityInput? StandardVolume { get; init; }
+
+    /// <summary>Reference conditions of the standard volume: normal (0 °C, 101.325 kPa), iso-13443 (15 °C, 101.325 kPa) or us-60f (60 °F, 14.696 psia).</summary>
+    public string? Reference { get; init; }
+}
+
+/// <summary>One stage.</summary>
+public sealed record StageInput
+{
+    /// <summary>Suction state (first stage; a later stage gives either this or an intercooler).</summary>
+    public SuctionInput? Suction { get; init; }
+
+    /// <summary>Intercooler before this stage (later stages only).</summary>
+    public IntercoolerInput? Intercooler { get; init; }
+
+    /// <summary>Discharge state.</summary>
+    public DischargeInput? Discharge { get; init; }
+
+    /// <summary>Efficiency; absent means the compressor type's default from the rule file.</summary>
+    public EfficiencyInput? Efficiency { get; init; }
+
+    /// <summary>Compressor type, lubricant, valve and seal material (ids from the rule file's catalogues).</summary>
+    public EquipmentInput? Equipment { get; init; }
+
+    /// <summary>Operating data for set-point and cooling rules.</summary>
+    public OperationInput? Operation { get; init; }
+
+    /// <summary>Measured values.</summary>
+    public MeasuredInput? Measured { get; init; }
+}
+
+/// <summary>Suction state.</summary>
+public sealed record SuctionInput
+{
+    /// <summary>Suction pressure with its basis, e.g. "1.5 barg" or "250 kPa(a)".</summary>
+    public QuantityInput? Pressure { get; init; }
+
+    /// <summary>Suction temperature, e.g. "35 °C".</summary>
+    public QuantityInput? Temperature { get; init; }
+}
+
+/// <summary>Intercooler: an outlet temperature, or an approach over a coolant temperature; and a pressure drop.</summary>
+public sealed record IntercoolerInput
+{
+    /// <summary>Gas outlet temperature.</summary>
+    public QuantityInput? OutletTemperature { get; init; }
+
+    /// <summary>Approach of the gas outlet over the coolant temperature (a difference, e.g. "10 K").</summary>
+    public QuantityInput? Approach { get; init; }
+
+    /// <summary>Coolant inlet temperature (with an approach).</summary>
+    public QuantityInput? CoolantTemperature { get; init; }
+
+    /// <summary>Pressure drop through cooler and separator: a difference ("20 kPa") or a percentage of the upstream pressure ("2 %").</summary>
+    public QuantityInput? PressureDrop { get; init; }
+}
+
+/// <summary>Discharge state.</summary>
+public sealed record DischargeInput
+{
+    /// <summary>Discharge pressure with its basis.</summary>
+    public QuantityInput? Pressure { get; init; }
+}
+
+/// <summary>An isentropic or a polytropic efficiency (one of the two), with an optional uncertainty in absolute points.</summary>
+public sealed record EfficiencyInput
+{
+    /// <summary>Isentropic efficiency, 0–1.</summary>
+    public double? Isentropic { get; init; }
+
+    /// <summary>Polytropic efficiency, 0–1.</summary>
+    public double? Polytropic { get; init; }
+
+    /// <summary>Uncertainty in absolute points (0.03 means ±0.03).</summary>
+    public double? Uncertainty { get; init; }
+}
+
+/// <summary>Equipment ids from the active rule set's catalogues.</summary>
+public sealed record EquipmentInput
+{
+    /// <summary>Compressor type id.</summary>
+    public string? CompressorType { get; init; }
+
+    /// <summary>Lubricant id.</summary>
+    public string? Lubricant { get; init; }
+
+    /// <summary>Valve material id.</summary>
+    public string? ValveMaterial { get; init; }
+
+    /// <summary>Seal elastomer id.</summary>
+    public string? SealMaterial { get; init; }
+}
+
+/// <summary>Operating data.</summary>
+public sealed record OperationInput
+{
+    /// <summary>Normal operating discharge temperature (for proposed alarm and trip set points).</summary>
+    public QuantityInput? NormalDischargeTemperature { get; init; }
+
+    /// <summary>Jacket coolant inlet temperature.</summary>
+    public QuantityInput? CoolantInletTemperature { get; init; }
+
+    /// <summary>Whether the stage runs unloaded for long periods.</summary>
+    public bool? UnloadedRunning { get; init; }
+}
+
+/// <summary>Measured values.</summary>
+public sealed record MeasuredInput
+{
+    /// <summary>Measured discharge temperature.</summary>
+    public QuantityInput? DischargeTemperature { get; init; }
+}

@@ -1,0 +1,250 @@
+namespace DischargeGuard.Evaluation.Contract;
+
+/// <summary>A number with its unit, as every quantity in a response is written.</summary>
+/// <param name="Value">The number.</param>
+/// <param name="Unit">The unit token (see docs/units.md).</param>
+public sealed record QuantityDto(double Value, string Unit);
+
+/// <summary>The answer to one evaluation (<c>200</c> from <c>POST /v1/evaluations</c>).</summary>
+public sealed record EvaluationResponse
+{
+    /// <summary>Evaluation id (UUIDv7); the audit record's key.</summary>
+    public required Guid Id { get; init; }
+
+    /// <summary>When the evaluation was made (UTC).</summary>
+    public required DateTimeOffset EvaluatedAt { get; init; }
+
+    /// <summary>pass, review or fail: the worst stage verdict.</summary>
+    public required string Verdict { get; init; }
+
+    /// <summary>The property method used: ideal-gas.</summary>
+    public required string Method { get; init; }
+
+    /// <summary>Version of the engine that computed this answer.</summary>
+    public required string EngineVersion { get; init; }
+
+    /// <summary>The asset tag as given.</summary>
+    public string? Asset { get; init; }
+
+    /// <summary>The site id as given.</summary>
+    public string? Site { get; init; }
+
+    /// <summary>The merged rule set used: its digest and its layers.</summary>
+    public required RuleSetDto RuleSet { get; init; }
+
+    /// <summary>The gas as evaluated.</summary>
+    public required GasDto Gas { get; init; }
+
+    /// <summary>Per stage.</summary>
+    public required IReadOnlyList<StageDto> Stages { get; init; }
+
+    /// <summary>Every stage's findings together, each with its stage index.</summary>
+    public required IReadOnlyList<FindingDto> Findings { get; init; }
+
+    /// <summary>Cautions that always apply to this answer.</summary>
+    public required IReadOnlyList<string> Cautions { get; init; }
+}
+
+/// <summary>Digest of the merged rule set and its layers.</summary>
+/// <param name="Digest">SHA-256 (hex) over the normalised merged content.</param>
+/// <param name="Layers">Layers in merge order.</param>
+public sealed record RuleSetDto(string Digest, IReadOnlyList<LayerDto> Layers);
+
+/// <summary>A rule layer.</summary>
+/// <param name="Name">Layer name (default, site:&lt;id&gt;, asset:&lt;tag&gt;).</param>
+/// <param name="Digest">SHA-256 (hex) of the layer's normalised content.</param>
+public sealed record LayerDto(string Name, string Digest);
+
+/// <summary>The gas as evaluated (after humidity was added).</summary>
+/// <param name="MolarMass">Molar mass.</param>
+/// <param name="Composition">Mole fractions by species formula.</param>
+/// <param name="ServiceClasses">Declared and detected service classes.</param>
+/// <param name="Preset">The preset used, if any.</param>
+public sealed record GasDto(QuantityDto MolarMass, IReadOnlyDictionary<string, double> Composition, IReadOnlyList<string> ServiceClasses, string? Preset);
+
+/// <summary>One stage's results.</summary>
+public sealed record StageDto
+{
+    /// <summary>0-based stage index.</summary>
+    public required int Index { get; init; }
+
+    /// <summary>pass, review or fail.</summary>
+    public required string Verdict { get; init; }
+
+    /// <summary>P2/P1 on absolute pressures.</summary>
+    public required double PressureRatio { get; init; }
+
+    /// <summary>Suction state (absolute pressure).</summary>
+    public required StateDto Suction { get; init; }
+
+    /// <summary>Discharge pressure (absolute).</summary>
+    public required DischargeStateDto Discharge { get; init; }
+
+    /// <summary>Efficiencies used and where they came from.</summary>
+    public required EfficiencyDto Efficiency { get; init; }
+
+    /// <summary>Predicted discharge temperatures.</summary>
+    public required DischargeTemperatureDto DischargeTemperature { get; init; }
+
+    /// <summary>Estimated discharge minus suction temperature.</summary>
+    public required QuantityDto TemperatureRise { get; init; }
+
+    /// <summary>k and Z.</summary>
+    public required PropertiesDto Properties { get; init; }
+
+    /// <summary>Specific work.</summary>
+    public required SpecificWorkDto SpecificWork { get; init; }
+
+    /// <summary>Gas power, when a flow was given.</summary>
+    public QuantityDto? Power { get; init; }
+
+    /// <summary>Water dropped out before this stage, when any.</summary>
+    public CondensateDto? Condensate { get; init; }
+
+    /// <summary>The governing finding: the applicable violation limit with the smallest margin.</summary>
+    public GoverningDto? Governing { get; init; }
+
+    /// <summary>The operating envelope before the governing limit is reached, other stages held fixed.</summary>
+    public EnvelopeDto? Envelope { get; init; }
+
+    /// <summary>This stage's findings.</summary>
+    public required IReadOnlyList<FindingDto> Findings { get; init; }
+
+    /// <summary>Rules that applied but could not be checked, with the missing input.</summary>
+    public required IReadOnlyList<NotCheckedDto> NotChecked { get; init; }
+
+    /// <summary>Estimated and upper-bound temperature against discharge pressure (only with <c>?curve=true</c>).</summary>
+    public IReadOnlyList<CurvePointDto>? Curve { get; init; }
+}
+
+/// <summary>A state with pressure and temperature.</summary>
+/// <param name="PressureAbsolute">Absolute pressure.</param>
+/// <param name="Temperature">Temperature.</param>
+public sealed record StateDto(QuantityDto PressureAbsolute, QuantityDto Temperature);
+
+/// <summary>The discharge state.</summary>
+/// <param name="PressureAbsolute">Absolute pressure.</param>
+public sealed record DischargeStateDto(QuantityDto PressureAbsolute);
+
+/// <summary>Efficiencies.</summary>
+/// <param name="Isentropic">Isentropic efficiency (given, default or equivalent).</param>
+/// <param name="Polytropic">Polytropic efficiency (given, default or equivalent).</param>
+/// <param name="Given">Which one was given or defaulted: isentropic or polytropic.</param>
+/// <param name="Uncertainty">Uncertainty in absolute points.</param>
+/// <param name="Source">request, or rule-default (the compressor type's default from the rule file).</param>
+/// <param name="Basis">Basis of a rule default.</param>
+public sealed record EfficiencyDto(double Isentropic, double Polytropic, string Given, double Uncertainty, string Source, string? Basis);
+
+/// <summary>Predicted discharge temperatures.</summary>
+/// <param name="Isentropic">The η = 1 prediction.</param>
+/// <param name="Estimated">The estimate from the efficiency.</param>
+/// <param name="EstimatedUpperBound">The estimate at the lower efficiency bound.</param>
+/// <param name="EstimatedLowerBound">The estimate at the upper efficiency bound.</param>
+/// <param name="ConstantK">The constant-k estimate beside it.</param>
+public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK);
+
+/// <summary>The constant-k estimate (k at suction temperature).</summary>
+/// <param name="K">The k used.</param>
+/// <param name="Isentropic">Isentropic temperature with constant k.</param>
+/// <param name="Estimated">Efficiency-corrected, constant k.</param>
+/// <param name="DifferenceFromCpT">Constant-k estimate minus the cp(T) estimate.</param>
+/// <param name="DifferencePercentOfRise">That difference as a percentage of the cp(T) temperature rise.</param>
+public sealed record ConstantKDto(double K, QuantityDto Isentropic, QuantityDto Estimated, QuantityDto DifferenceFromCpT, double DifferencePercentOfRise);
+
+/// <summary>Gas properties.</summary>
+/// <param name="KSuction">cp/cv at suction.</param>
+/// <param name="KDischarge">cp/cv at the estimated discharge temperature.</param>
+/// <param name="ZSuction">Compressibility at suction (1 for the ideal-gas method).</param>
+/// <param name="ZDischarge">Compressibility at discharge (1 for the ideal-gas method).</param>
+public sealed record PropertiesDto(double KSuction, double KDischarge, double ZSuction, double ZDischarge);
+
+/// <summary>Specific work per unit mass.</summary>
+/// <param name="Isentropic">h2s − h1.</param>
+/// <param name="Actual">h2 − h1.</param>
+public sealed record SpecificWorkDto(QuantityDto Isentropic, QuantityDto Actual);
+
+/// <summary>Condensate dropped out before a stage.</summary>
+/// <param name="MassFractionOfInlet">Fraction of the mass flow entering the cooler.</param>
+/// <param name="Rate">Condensate rate, when a flow was given.</param>
+/// <param name="WaterMoleFractionAfter">Water mole fraction of the saturated gas the stage sees.</param>
+public sealed record CondensateDto(double MassFractionOfInlet, QuantityDto? Rate, double WaterMoleFractionAfter);
+
+/// <summary>The governing finding.</summary>
+/// <param name="RuleId">Rule id.</param>
+/// <param name="Quantity">Quantity it checks.</param>
+/// <param name="Limit">Its violation limit.</param>
+/// <param name="Margin">Limit minus value (negative: beyond the limit).</param>
+public sealed record GoverningDto(string RuleId, string Quantity, QuantityDto Limit, QuantityDto? Margin);
+
+/// <summary>The operating envelope before the governing limit.</summary>
+/// <param name="MaxDischargePressure">Highest absolute discharge pressure, when one exists.</param>
+/// <param name="MaxSuctionTemperature">Highest suction temperature, when one exists.</param>
+/// <param name="GoverningRule">The rule whose limit bounds the envelope.</param>
+/// <param name="Note">Why a bound is missing, or how it was found.</param>
+public sealed record EnvelopeDto(QuantityDto? MaxDischargePressure, QuantityDto? MaxSuctionTemperature, string GoverningRule, string Note);
+
+/// <summary>One finding.</summary>
+public sealed record FindingDto
+{
+    /// <summary>Stage index (in the response-level list).</summary>
+    public int? Stage { get; init; }
+
+    /// <summary>Rule id.</summary>
+    public required string RuleId { get; init; }
+
+    /// <summary>Rule title.</summary>
+    public required string Title { get; init; }
+
+    /// <summary>pass, info, warning or violation.</summary>
+    public required string Severity { get; init; }
+
+    /// <summary>The quantity checked.</summary>
+    public required string Quantity { get; init; }
+
+    /// <summary>The checked value.</summary>
+    public QuantityDto? Value { get; init; }
+
+    /// <summary>The effective limit.</summary>
+    public QuantityDto? Limit { get; init; }
+
+    /// <summary>Limit minus value for an upper limit (value minus limit for a lower one): positive inside, negative beyond.</summary>
+    public QuantityDto? Margin { get; init; }
+
+    /// <summary>The published source or "common practice, no single source" or "from memory — verify".</summary>
+    public required string Basis { get; init; }
+
+    /// <summary>The layer that set the effective limit.</summary>
+    public required string Layer { get; init; }
+
+    /// <summary>Why a layer loosened the limit, when it did.</summary>
+    public string? LoosenedReason { get; init; }
+
+    /// <summary>The message, which defers to local codes and the manufacturer.</summary>
+    public required string Message { get; init; }
+
+    /// <summary>Extra explanation (e.g. how a derated limit was formed).</summary>
+    public string? Note { get; init; }
+
+    /// <summary>Proposed alarm and trip set points (set-point rule only).</summary>
+    public SetPointsDto? SetPoints { get; init; }
+}
+
+/// <summary>Proposed alarm and trip set points.</summary>
+/// <param name="Normal">The normal operating discharge temperature given.</param>
+/// <param name="Alarm">Proposed alarm.</param>
+/// <param name="Trip">Proposed trip.</param>
+/// <param name="CappedBy">The fail limit that capped them, if any.</param>
+public sealed record SetPointsDto(QuantityDto Normal, QuantityDto Alarm, QuantityDto Trip, string? CappedBy);
+
+/// <summary>A rule that applied but could not be checked.</summary>
+/// <param name="RuleId">Rule id.</param>
+/// <param name="Missing">The request fields that were missing.</param>
+/// <param name="Reason">What to supply.</param>
+public sealed record NotCheckedDto(string RuleId, IReadOnlyList<string> Missing, string Reason);
+
+/// <summary>A point on the discharge-temperature curve.</summary>
+/// <param name="DischargePressure">Absolute discharge pressure.</param>
+/// <param name="Estimated">Estimated discharge temperature.</param>
+/// <param name="EstimatedUpperBound">Upper bound.</param>
+/// <param name="Isentropic">Isentropic discharge temperature.</param>
+public sealed record CurvePointDto(QuantityDto DischargePressure, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto Isentropic);

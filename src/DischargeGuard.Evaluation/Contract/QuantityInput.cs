@@ -1,0 +1,83 @@
+using System.Globalization;
+using System.Text.Json;
+using System.Text.Json.Serialization;
+
+namespace DischargeGuard.Evaluation.Contract;
+
+/// <summary>
+/// A quantity as a caller writes it: either the string <c>"&lt;number&gt; &lt;unit&gt;"</c> (invariant decimal point,
+/// e.g. <c>"1.5 barg"</c>) or the object <c>{"value": 1.5, "unit": "barg"}</c>. Parsing into a physical quantity is the
+/// validators' and the pipeline's job (through the one unit vocabulary), so the error can name the field and list the
+/// accepted units.
+/// </summary>
+[JsonConverter(typeof(QuantityInputJsonConverter))]
+public sealed record QuantityInput
+{
+    /// <summary>Creates a quantity from its text form.</summary>
+    public QuantityInput(string text) => Text = text;
+
+    /// <summary>The text form, e.g. <c>"35 °C"</c>. The object form is turned into <c>"value unit"</c> with the invariant culture.</summary>
+    public string Text { get; }
+
+    /// <summary>Creates a quantity from a number and a unit token.</summary>
+    public static QuantityInput Of(double value, string unit) =>
+        new(string.Create(CultureInfo.InvariantCulture, $"{value:R} {unit}"));
+
+    /// <inheritdoc/>
+    public override string ToString() => Text;
+}
+
+/// <summary>Reads both forms of <see cref="QuantityInput"/>; writes the string form.</summary>
+public sealed class QuantityInputJsonConverter : JsonConverter<QuantityInput>
+{
+    /// <inheritdoc/>
+    public override QuantityInput Read(ref Utf8JsonReader reader, Type typeToConvert, JsonSerializerOptions options)
+    {
+        switch (reader.TokenType)
+        {
+            case JsonTokenType.String:
+                return new QuantityInput(reader.GetString()!);
+            case JsonTokenType.StartObject:
+                double? value = null;
+                string? unit = null;
+                while (reader.Read() && reader.TokenType != JsonTokenType.EndObject)
+                {
+                    if (reader.TokenType != JsonTokenType.PropertyName)
+                    {
+                        throw new JsonException("A quantity object has only the properties 'value' and 'unit'.");
+                    }
+
+                    var name = reader.GetString();
+                    reader.Read();
+                    switch (name)
+                    {
+                        case "value" when reader.TokenType == JsonTokenType.Number:
+                            value = reader.GetDouble();
+                            break;
+                        case "unit" when reader.TokenType == JsonTokenType.String:
+                            unit = reader.GetString();
+                            break;
+                        default:
+                            throw new JsonException("A quantity object is {\"value\": <number>, \"unit\": \"<unit>\"}.");
+                    }
+                }
+
+                if (value is null || unit is null)
+                {
+                    throw new JsonException("A quantity object needs both 'value' (a number) and 'unit' (a string).");
+                }
+
+                return QuantityInput.Of(value.Value, unit);
+            default:
+                throw new JsonException("A quantity is a string such as \"1.5 barg\" or an object {\"value\": 1.5, \"unit\": \"barg\"}.");
+        }
+    }
+
+    /// <inheritdoc/>
+    public override void Write(Utf8JsonWriter writer, QuantityInput value, JsonSerializerOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(writer);
+        ArgumentNullException.ThrowIfNull(value);
+        writer.WriteStringValue(value.Text);
+    }
+}

@@ -1,0 +1,29 @@
+namespace DischargeGuard.Evaluation.Pipeline;
+
+/// <summary>The cautions every answer carries, and the ones that depend on the case.</summary>
+public static class Cautions
+{
+    /// <summary>Always present: defer to the manufacturer, the standard, local codes and licensed review.</summary>
+    public const string DeferToCodes =
+        "Screening result only: the manufacturer's limits, the applicable design standard and local codes take precedence, and a licensed engineer must review any change before the machine runs at new conditions.";
+
+    /// <summary>Always present: the result does not replace the machine's own protection.</summary>
+    public const string KeepProtection =
+        "A pass does not replace the machine's own discharge-temperature alarms and shutdowns; keep them in service and set from the manufacturer's data. Overheated stages can coke valves and start discharge-line fires.";
+
+    /// <summary>Always present while only the ideal-gas method exists.</summary>
+    public const string IdealGas =
+        "Computed as an ideal gas with temperature-dependent specific heats; real-gas effects are not included.";
+
+    /// <summary>Added when a discharge pressure is high enough that real-gas effects may matter.</summary>
+    public const string HighPressure =
+        "At least one stage discharges above 3 MPa (30 bar) absolute: natural gas, CO2 and hydrogen deviate from the ideal gas there, which can shift discharge temperatures by several kelvin or more. Treat this result as indicative and confirm with a real-gas method.";
+
+    /// <summary>Added when some rule could not be checked.</summary>
+    public const string NotChecked =
+        "Some rules could not be checked for lack of an input (see notChecked per stage); an unchecked rule is not a pass.";
+
+    /// <summary>Added when an efficiency came from the rule file's compressor-type default.</summary>
+    public const string DefaultEfficiency =
+        "At least one stage used the compressor type's default efficiency from the rule file; a measured or vendor efficiency gives a better estimate.";
+}

@@ -1,0 +1,599 @@
+using System.Globalization;
+using System.Reflection;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Rules;
+using DischargeGuard.Rules.Evaluation;
+using DischargeGuard.Rules.Model;
+using DischargeGuard.Rules.Provider;
+using DischargeGuard.Rules.Units;
+using DischargeGuard.Thermo;
+using UnitsNet;
+using RuleStageResult = DischargeGuard.Rules.Evaluation.StageResult;
+using ThermoEfficiencyKind = DischargeGuard.Thermo.EfficiencyKind;
+
+namespace DischargeGuard.Evaluation.Pipeline;
+
+/// <summary>Per-call settings of an evaluation.</summary>
+/// <param name="Id">The evaluation id (UUIDv7, assigned by the caller so the audit record and the answer share it).</param>
+/// <param name="EvaluatedAt">When (UTC).</param>
+/// <param name="IncludeCurve">Whether to add the discharge-temperature curve per stage.</param>
+public sealed record EvaluationContext(Guid Id, DateTimeOffset EvaluatedAt, bool IncludeCurve = false);
+
+/// <summary>
+/// Turns a validated <see cref="EvaluationRequest"/> into an <see cref="EvaluationResponse"/>: units to absolute SI,
+/// the gas (with humidity), the train through the Thermo core, each stage through the rule engine with the envelope
+/// before its governing limit, and the answer in the requested units with its cautions. Pure: no I/O, no clock (the
+/// caller passes id and time), thread-safe.
+/// </summary>
+public sealed class EvaluationPipeline
+{
+    /// <summary>Points on the optional discharge-temperature curve.</summary>
+    public const int CurvePoints = 41;
+
+    private const double HighPressurePascals = 3e6;
+
+    private readonly UnitVocabulary _units;
+
+    /// <summary>Creates the pipeline over a unit vocabulary (the shipped one by default).</summary>
+    public EvaluationPipeline(UnitVocabulary? units = null) => _units = units ?? UnitVocabulary.Default;
+
+    /// <summary>The engine version written into every answer and audit record.</summary>
+    public static string EngineVersion { get; } =
+        typeof(EvaluationPipeline).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion ?? "0.0.0";
+
+    /// <summary>Evaluates a request that passed <see cref="Validation.EvaluationRequestValidator"/>.</summary>
+    public EvaluationOutcome Evaluate(EvaluationRequest request, RuleSetSnapshot rules, EvaluationContext context)
+    {
+        ArgumentNullException.ThrowIfNull(request);
+        ArgumentNullException.ThrowIfNull(rules);
+        ArgumentNullException.ThrowIfNull(context);
+        try
+        {
+            return EvaluationOutcome.Success(EvaluateOrThrow(request, rules, context));
+        }
+        catch (RequestProblemException ex)
+        {
+            return EvaluationOutcome.Refused(ex.Problem);
+        }
+    }
+
+    private EvaluationResponse EvaluateOrThrow(EvaluationRequest request, RuleSetSnapshot snapshot, EvaluationContext context)
+    {
+        var stagesIn = request.Stages ?? throw Invalid("stages", "Give at least one stage.");
+        var output = OutputUnitSystem.Named(request.OutputUnits);
+        var effective = Resolve(snapshot, request.Site?.Id, request.Asset);
+        var barometer = Barometer(request.Site);
+        var feed = Gas(request, barometer);
+
+        var trainStages = new TrainStage[stagesIn.Count];
+        var efficiencySources = new (string Source, string? Basis)[stagesIn.Count];
+        for (var i = 0; i < stagesIn.Count; i++)
+        {
+            trainStages[i] = TrainStageOf(stagesIn[i], i, barometer, effective, out efficiencySources[i]);
+        }
+
+        MassFlow? flow = FlowOf(request.Flow, feed);
+        TrainStageResult[] solved;
+        try
+        {
+            solved = TrainSolver.Solve(feed, trainStages, flow);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable(MapThermoMember(ex.ParamName, stagesIn), ex.Reason);
+        }
+
+        var declared = request.Service is null or "general" ? Array.Empty<string>() : [request.Service];
+        var stageDtos = new List<StageDto>(solved.Length);
+        var allFindings = new List<FindingDto>();
+        var anyNotChecked = false;
+        var verdict = Verdict.Pass;
+        IReadOnlyList<string> serviceClasses = [];
+        for (var i = 0; i < solved.Length; i++)
+        {
+            var s = solved[i];
+            var input = stagesIn[i];
+            var facts = FactsOf(s, input, i, solved.Length, declared, efficiencySources[i].Source == "rule-default");
+            var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
+            var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions));
+            if (i == 0)
+            {
+                serviceClasses = ruled.ServiceClasses;
+            }
+
+            verdict = Worst(verdict, ruled.Verdict);
+            anyNotChecked |= ruled.NotChecked.Count > 0;
+            var findings = ruled.Findings.Select(f => FindingOf(f, output, null)).ToList();
+            allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
+            stageDtos.Add(StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null));
+        }
+
+        var cautions = new List<string> { Cautions.DeferToCodes, Cautions.KeepProtection, Cautions.IdealGas };
+        if (solved.Any(s => s.Stage.DischargePressure.Pascals > HighPressurePascals))
+        {
+            cautions.Add(Cautions.HighPressure);
+        }
+
+        if (anyNotChecked)
+        {
+            cautions.Add(Cautions.NotChecked);
+        }
+
+        if (efficiencySources.Any(e => e.Source == "rule-default"))
+        {
+            cautions.Add(Cautions.DefaultEfficiency);
+        }
+
+        return new EvaluationResponse
+        {
+            Id = context.Id,
+            EvaluatedAt = context.EvaluatedAt,
+            Verdict = Name(verdict),
+            Method = "ideal-gas",
+            EngineVersion = EngineVersion,
+            Asset = request.Asset,
+            Site = request.Site?.Id,
+            RuleSet = new RuleSetDto(effective.Digest, effective.Layers.Select(l => new LayerDto(l.Name, l.Digest)).ToArray()),
+            Gas = new GasDto(
+                output.MolarMass(feed.MolarMass),
+                feed.Components.ToDictionary(c => c.Species.Id, c => Math.Round(c.MoleFraction, 8), StringComparer.Ordinal),
+                serviceClasses,
+                request.Gas?.Preset),
+            Stages = stageDtos,
+            Findings = allFindings,
+            Cautions = cautions,
+        };
+    }
+
+    private static EffectiveRuleSet Resolve(RuleSetSnapshot snapshot, string? siteId, string? asset)
+    {
+        try
+        {
+            return snapshot.Resolve(siteId, asset);
+        }
+        catch (ArgumentOutOfRangeException ex)
+        {
+            throw Invalid("site.id", ex.Message.Split(" (Parameter", StringSplitOptions.None)[0]);
+        }
+    }
+
+    private Pressure? Barometer(SiteInput? site)
+    {
+        if (site?.BarometricPressure is { } b)
+        {
+            var p = ParsePressure(b, "site.barometricPressure", out _);
+            if (!(p.Kilopascals is >= 30 and <= 110))
+            {
+                throw Unprocessable("site.barometricPressure", "A barometric pressure must lie between 30 kPa and 110 kPa.");
+            }
+
+            return p;
+        }
+
+        if (site?.Elevation is { } e)
+        {
+            var length = (Length)Parse(e, QuantityKind.Length, "site.elevation").Quantity;
+            try
+            {
+                return StandardAtmosphere.PressureAt(length);
+            }
+            catch (ThermoInputException ex)
+            {
+                throw Unprocessable("site.elevation", ex.Reason);
+            }
+        }
+
+        return null;
+    }
+
+    private GasMixture Gas(EvaluationRequest request, Pressure? barometer)
+    {
+        var gas = request.Gas ?? throw Invalid("gas", "Give the gas.");
+        GasMixture dry;
+        try
+        {
+            dry = gas.Preset is { } preset
+                ? GasCatalog.Default.Preset(preset)
+                : GasCatalog.Default.CreateMixture(gas.Composition ?? new Dictionary<string, double>(), gas.Basis == "mass" ? CompositionBasis.Mass : CompositionBasis.Mole);
+        }
+        catch (InvalidCompositionException ex)
+        {
+            throw Invalid(ex.SpeciesKey is null ? "gas.composition" : "gas.composition." + ex.SpeciesKey, ex.Message);
+        }
+        catch (ArgumentOutOfRangeException ex)
+        {
+            throw Invalid("gas.preset", ex.Message.Split(" (Parameter", StringSplitOptions.None)[0]);
+        }
+
+        if (gas.RelativeHumidity is null && gas.DewPoint is null)
+        {
+            return dry;
+        }
+
+        var first = request.Stages is { Count: > 0 } list ? list[0]?.Suction : null;
+        if (first?.Pressure is null || first.Temperature is null)
+        {
+            throw Invalid("gas", "Humidity is given at the first stage's suction, which needs its pressure and temperature.");
+        }
+
+        var p1 = Absolute(first.Pressure, "stages[0].suction.pressure", barometer);
+        var t1 = ParseTemperature(first.Temperature, "stages[0].suction.temperature");
+        try
+        {
+            return gas.RelativeHumidity is { } rh
+                ? HumidGas.FromRelativeHumidity(dry, rh, t1, p1)
+                : HumidGas.FromDewPoint(dry, ParseTemperature(gas.DewPoint!, "gas.dewPoint"), t1, p1);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable(gas.RelativeHumidity is null ? "gas.dewPoint" : "gas.relativeHumidity", ex.Reason);
+        }
+        catch (InvalidCompositionException ex)
+        {
+            throw Invalid("gas.composition.H2O", ex.Message);
+        }
+    }
+
+    private MassFlow? FlowOf(FlowInput? flow, GasMixture feed)
+    {
+        if (flow is null)
+        {
+            return null;
+        }
+
+        if (flow.Mass is { } m)
+        {
+            var mass = (MassFlow)Parse(m, QuantityKind.MassFlow, "flow.mass").Quantity;
+            if (!(mass.KilogramsPerSecond > 0))
+            {
+                throw Unprocessable("flow.mass", "The mass flow must be greater than zero.");
+            }
+
+            return mass;
+        }
+
+        var volume = (VolumeFlow)Parse(flow.StandardVolume!, QuantityKind.VolumeFlow, "flow.standardVolume").Quantity;
+        var reference = StandardReference.All.FirstOrDefault(r => r.Id == flow.Reference)
+            ?? throw Invalid("flow.reference", $"Accepted values: {string.Join(", ", StandardReference.All.Select(r => r.Id))}.");
+        try
+        {
+            return reference.ToMassFlow(volume, feed);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable("flow.standardVolume", ex.Reason);
+        }
+    }
+
+    private TrainStage TrainStageOf(StageInput stage, int index, Pressure? barometer, EffectiveRuleSet rules, out (string Source, string? Basis) efficiencySource)
+    {
+        var path = string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
+        CheckCatalogue(stage.Equipment, path, rules);
+        var discharge = Absolute(stage.Discharge?.Pressure ?? throw Invalid(path + ".discharge.pressure", "Give the discharge pressure."), path + ".discharge.pressure", barometer);
+        var efficiency = EfficiencyOf(stage, path, rules, out efficiencySource);
+        if (stage.Suction is { } suction)
+        {
+            var p1 = Absolute(suction.Pressure!, path + ".suction.pressure", barometer);
+            var t1 = ParseTemperature(suction.Temperature!, path + ".suction.temperature");
+            return new TrainStage(discharge, efficiency, SuctionPressure: p1, SuctionTemperature: t1);
+        }
+
+        var c = stage.Intercooler!;
+        var drop = PressureDrop.None;
+        if (c.PressureDrop is { } dropText)
+        {
+            try
+            {
+                drop = _units.TryParse(dropText.Text, QuantityKind.Fraction, out var fraction, out _)
+                    ? PressureDrop.OfUpstream(((Ratio)fraction!.Quantity).DecimalFractions)
+                    : PressureDrop.Absolute((Pressure)Parse(dropText, QuantityKind.PressureDifference, path + ".intercooler.pressureDrop").Quantity);
+            }
+            catch (ThermoInputException ex)
+            {
+                throw Unprocessable(path + ".intercooler.pressureDrop", ex.Reason);
+            }
+        }
+
+        Intercooler cooler;
+        try
+        {
+            cooler = c.OutletTemperature is { } outlet
+                ? Intercooler.ToOutlet(ParseTemperature(outlet, path + ".intercooler.outletTemperature"), drop)
+                : Intercooler.WithApproach(
+                    (TemperatureDelta)Parse(c.Approach!, QuantityKind.TemperatureDifference, path + ".intercooler.approach").Quantity,
+                    ParseTemperature(c.CoolantTemperature!, path + ".intercooler.coolantTemperature"),
+                    drop);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable(path + ".intercooler.approach", ex.Reason);
+        }
+
+        return new TrainStage(discharge, efficiency, Intercooler: cooler);
+    }
+
+    private static void CheckCatalogue(EquipmentInput? equipment, string path, EffectiveRuleSet rules)
+    {
+        if (equipment is null)
+        {
+            return;
+        }
+
+        Check(equipment.CompressorType, "compressorType", rules.CompressorTypes.Keys);
+        Check(equipment.Lubricant, "lubricant", rules.Lubricants.Keys);
+        Check(equipment.ValveMaterial, "valveMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Valve).Select(m => m.Key));
+        Check(equipment.SealMaterial, "sealMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Seal).Select(m => m.Key));
+
+        void Check(string? id, string field, IEnumerable<string> known)
+        {
+            var list = known.Order(StringComparer.Ordinal).ToArray();
+            if (id is not null && !list.Contains(id, StringComparer.Ordinal))
+            {
+                throw Invalid($"{path}.equipment.{field}", $"'{id}' is not in the active rule set's catalogue. Accepted values: {string.Join(", ", list.Select(k => "'" + k + "'"))}.");
+            }
+        }
+    }
+
+    private static StageEfficiency EfficiencyOf(StageInput stage, string path, EffectiveRuleSet rules, out (string Source, string? Basis) source)
+    {
+        try
+        {
+            if (stage.Efficiency is { } e)
+            {
+                source = ("request", null);
+                var u = e.Uncertainty ?? 0;
+                return e.Isentropic is { } s ? StageEfficiency.Isentropic(s, u) : StageEfficiency.Polytropic(e.Polytropic!.Value, u);
+            }
+
+            var typeId = stage.Equipment?.CompressorType
+                ?? throw Invalid(path + ".efficiency", "Give an efficiency, or equipment.compressorType so its default efficiency from the rule file can be used.");
+            var type = rules.CompressorTypes[typeId];
+            if (type.DefaultEfficiency is not { } value)
+            {
+                throw Invalid(path + ".efficiency", $"Compressor type '{typeId}' has no default efficiency in the rule file ({type.EfficiencyBasis}); give one.");
+            }
+
+            source = ("rule-default", type.EfficiencyBasis);
+            return type.EfficiencyKind == Rules.Model.EfficiencyKind.Polytropic ? StageEfficiency.Polytropic(value) : StageEfficiency.Isentropic(value);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Invalid(path + ".efficiency", ex.Reason);
+        }
+    }
+
+    private StageFacts FactsOf(TrainStageResult s, StageInput input, int index, int count, IReadOnlyList<string> declared, bool defaulted)
+    {
+        var path = string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
+        var r = s.Stage;
+        return new StageFacts
+        {
+            StageIndex = index,
+            Position = count == 1 ? StagePosition.Only : index == 0 ? StagePosition.First : index == count - 1 ? StagePosition.Last : StagePosition.Intermediate,
+            CompressorTypeId = input.Equipment?.CompressorType,
+            LubricantId = input.Equipment?.Lubricant,
+            ValveMaterialId = input.Equipment?.ValveMaterial,
+            SealMaterialId = input.Equipment?.SealMaterial,
+            DeclaredServiceClasses = declared,
+            GasMolarMass = s.Gas.MolarMass,
+            OxygenMoleFraction = Ratio.FromDecimalFractions(s.Gas.MoleFractionOf("O2")),
+            SuctionTemperature = r.SuctionTemperature,
+            SuctionPressure = r.SuctionPressure,
+            DischargePressure = r.DischargePressure,
+            Isentropic = r.IsentropicDischargeTemperature,
+            Estimated = r.EstimatedDischargeTemperature,
+            EstimatedUpperBound = r.EstimatedUpperBound,
+            EfficiencyDefaulted = defaulted,
+            MeasuredDischarge = Optional(input.Measured?.DischargeTemperature, path + ".measured.dischargeTemperature"),
+            NormalOperatingDischarge = Optional(input.Operation?.NormalDischargeTemperature, path + ".operation.normalDischargeTemperature"),
+            JacketCoolantInlet = Optional(input.Operation?.CoolantInletTemperature, path + ".operation.coolantInletTemperature"),
+            UnloadedRunning = input.Operation?.UnloadedRunning,
+            DischargeWaterDewPoint = HumidGas.DewPoint(s.Gas, r.DischargePressure),
+        };
+    }
+
+    private static StageDto StageOf(
+        TrainStageResult s, RuleStageResult ruled, IReadOnlyList<FindingDto> findings, (string Source, string? Basis) efficiencySource,
+        StageEfficiency efficiency, OutputUnitSystem u, IReadOnlyList<CurvePointDto>? curve)
+    {
+        var r = s.Stage;
+        GoverningDto? governing = ruled.Governing is { Limit: { } limit } g
+            ? new GoverningDto(g.RuleId, g.Quantity.ToName(), u.Reading(limit), g.Margin is { } m ? u.Reading(m) : null)
+            : null;
+        EnvelopeDto? envelope = ruled.Envelope is { } e
+            ? new EnvelopeDto(
+                e.MaxDischargePressure.Value is { } p ? u.PressureAbsolute(p) : null,
+                e.MaxSuctionTemperature.Value is { } t ? u.Temperature(t) : null,
+                e.RuleId,
+                EnvelopeNote(e))
+            : null;
+        return new StageDto
+        {
+            Index = s.Index,
+            Verdict = Name(ruled.Verdict),
+            PressureRatio = Math.Round(r.PressureRatio, 6),
+            Suction = new StateDto(u.PressureAbsolute(r.SuctionPressure), u.Temperature(r.SuctionTemperature)),
+            Discharge = new DischargeStateDto(u.PressureAbsolute(r.DischargePressure)),
+            Efficiency = new EfficiencyDto(
+                Math.Round(r.IsentropicEfficiency, 6),
+                Math.Round(r.PolytropicEfficiency, 6),
+                r.EfficiencyKind == ThermoEfficiencyKind.Isentropic ? "isentropic" : "polytropic",
+                efficiency.Uncertainty,
+                efficiencySource.Source,
+                efficiencySource.Basis),
+            DischargeTemperature = new DischargeTemperatureDto(
+                u.Temperature(r.IsentropicDischargeTemperature),
+                u.Temperature(r.EstimatedDischargeTemperature),
+                u.Temperature(r.EstimatedUpperBound),
+                u.Temperature(r.EstimatedLowerBound),
+                new ConstantKDto(
+                    Math.Round(r.ConstantK.KAtSuction, 6),
+                    u.Temperature(r.ConstantK.Isentropic),
+                    u.Temperature(r.ConstantK.Estimated),
+                    u.DifferenceKelvin(r.ConstantK.DifferenceFromCpT.Kelvins),
+                    Math.Round(r.ConstantK.DifferencePercentOfRise, 3))),
+            TemperatureRise = u.DifferenceKelvin(r.TemperatureRise.Kelvins),
+            Properties = new PropertiesDto(Math.Round(r.KSuction, 6), Math.Round(r.KDischarge, 6), 1.0, 1.0),
+            SpecificWork = new SpecificWorkDto(u.SpecificEnergy(r.SpecificIsentropicWork), u.SpecificEnergy(r.SpecificActualWork)),
+            Power = r.Power is { } power ? u.Power(power) : null,
+            Condensate = s.Condensate is { } c
+                ? new CondensateDto(Math.Round(c.MassFractionOfInlet, 8), c.MassFlow is { } rate ? u.MassFlow(rate) : null, Math.Round(c.WaterMoleFractionAfter, 8))
+                : null,
+            Governing = governing,
+            Envelope = envelope,
+            Findings = findings,
+            NotChecked = ruled.NotChecked.Select(n => new NotCheckedDto(n.RuleId, n.MissingInputs, n.Reason)).ToArray(),
+            Curve = curve,
+        };
+    }
+
+    private static string EnvelopeNote(EnvelopeEstimate e)
+    {
+        static string Describe(string what, EnvelopeBoundStatus status, string? note) => status switch
+        {
+            EnvelopeBoundStatus.Found => $"{what}: {note ?? "found"}",
+            EnvelopeBoundStatus.AlreadyExceeded => $"{what}: already exceeded — {note}",
+            EnvelopeBoundStatus.NotReachableInRange => $"{what}: not reachable in range — {note}",
+            _ => $"{what}: not computable — {note}",
+        };
+
+        return $"Before {e.RuleId} ({e.Quantity.ToName()}) is reached, other stages held fixed. "
+            + Describe("Discharge pressure", e.MaxDischargePressure.Status, e.MaxDischargePressure.Note) + " "
+            + Describe("Suction temperature", e.MaxSuctionTemperature.Status, e.MaxSuctionTemperature.Note);
+    }
+
+    private static List<CurvePointDto> CurveOf(TrainStageResult s, StageEfficiency efficiency, RuleStageResult ruled, OutputUnitSystem u)
+    {
+        var p1 = s.Stage.SuctionPressure.Pascals;
+        var pEnd = s.Stage.DischargePressure.Pascals;
+        if (ruled.Envelope?.MaxDischargePressure.Value is { } pMax)
+        {
+            pEnd = Math.Max(pEnd, pMax.Pascals);
+        }
+
+        pEnd *= 1.2;
+        var points = new List<CurvePointDto>(CurvePoints);
+        for (var k = 0; k < CurvePoints; k++)
+        {
+            var p2 = p1 * (1.001 + ((pEnd / p1) - 1.001) * k / (CurvePoints - 1));
+            var c = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, Pressure.FromPascals(p2), efficiency);
+            try
+            {
+                var r = StageSolver.Solve(s.Gas, c);
+                points.Add(new CurvePointDto(u.PressureAbsolute(c.DischargePressure), u.Temperature(r.EstimatedDischargeTemperature), u.Temperature(r.EstimatedUpperBound), u.Temperature(r.IsentropicDischargeTemperature)));
+            }
+            catch (ThermoInputException)
+            {
+                // Past the gas data's range the curve simply ends.
+                break;
+            }
+        }
+
+        return points;
+    }
+
+    private static FindingDto FindingOf(Finding f, OutputUnitSystem u, int? stage) => new()
+    {
+        Stage = stage,
+        RuleId = f.RuleId,
+        Title = f.Title,
+        Severity = f.Severity.ToString().ToLowerInvariant(),
+        Quantity = f.Quantity.ToName(),
+        Value = f.Value is { } v ? u.Reading(v) : null,
+        Limit = f.Limit is { } l ? u.Reading(l) : null,
+        Margin = f.Margin is { } m ? u.Reading(m) : null,
+        Basis = f.Basis,
+        Layer = f.Layer,
+        LoosenedReason = f.LoosenedReason,
+        Message = f.Message,
+        Note = f.Note,
+        SetPoints = f.SetPoints is { } sp
+            ? new SetPointsDto(u.Temperature(sp.Normal), u.Temperature(sp.Alarm), u.Temperature(sp.Trip), sp.Capped ? sp.CapRuleId : null)
+            : null,
+    };
+
+    private static Verdict Worst(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);
+
+    private static string Name(Verdict v) => v switch
+    {
+        Verdict.Fail => "fail",
+        Verdict.Review => "review",
+        _ => "pass",
+    };
+
+    private Temperature? Optional(QuantityInput? q, string path) => q is null ? null : ParseTemperature(q, path);
+
+    private Temperature ParseTemperature(QuantityInput q, string path) => (Temperature)Parse(q, QuantityKind.Temperature, path).Quantity;
+
+    private Pressure ParsePressure(QuantityInput q, string path, out PressureBasis basis)
+    {
+        var parsed = Parse(q, QuantityKind.Pressure, path);
+        basis = parsed.Basis;
+        return (Pressure)parsed.Quantity;
+    }
+
+    private Pressure Absolute(QuantityInput q, string path, Pressure? barometer)
+    {
+        var p = ParsePressure(q, path, out var basis);
+        switch (basis)
+        {
+            case PressureBasis.Absolute:
+                break;
+            case PressureBasis.Gauge:
+                p = barometer is { } b
+                    ? Pressure.FromPascals(p.Pascals + b.Pascals)
+                    : throw Invalid(path, $"'{q.Text}' is a gauge pressure; give site.barometricPressure or site.elevation.");
+                break;
+            default:
+                throw Invalid(path, $"'{q.Text}': state the pressure basis (absolute: bara, psia, kPa(a), MPa(a); gauge: barg, psig, kPa(g), MPa(g)).");
+        }
+
+        if (!(p.Pascals > 0))
+        {
+            throw Unprocessable(path, $"'{q.Text}' is {p.Kilopascals.ToString("0.###", CultureInfo.InvariantCulture)} kPa absolute; an absolute pressure must be greater than zero.");
+        }
+
+        return p;
+    }
+
+    private ParsedQuantity Parse(QuantityInput q, QuantityKind kind, string path) =>
+        _units.TryParse(q.Text, kind, out var parsed, out var error)
+            ? parsed!
+            : throw Invalid(path, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+
+    // Thermo names members of its own records (stages[i].DischargePressure); the caller knows the request's fields.
+    private static string MapThermoMember(string? member, IReadOnlyList<StageInput> stages)
+    {
+        if (member is null)
+        {
+            return "stages";
+        }
+
+        var dot = member.IndexOf('.', StringComparison.Ordinal);
+        if (!member.StartsWith("stages[", StringComparison.Ordinal) || dot < 0)
+        {
+            return member;
+        }
+
+        var prefix = member[..dot];
+        var index = int.Parse(member.AsSpan(7, prefix.Length - 8), CultureInfo.InvariantCulture);
+        var cooled = index < stages.Count && stages[index].Intercooler is not null;
+        var field = member[(dot + 1)..] switch
+        {
+            "DischargePressure" => "discharge.pressure",
+            "SuctionPressure" => cooled ? "intercooler.pressureDrop" : "suction.pressure",
+            "SuctionTemperature" => cooled ? "intercooler.outletTemperature" : "suction.temperature",
+            "Efficiency" => "efficiency",
+            "Intercooler" => "intercooler",
+            "Intercooler.PressureDrop" => "intercooler.pressureDrop",
+            var other => char.ToLowerInvariant(other[0]) + other[1..],
+        };
+        return prefix + "." + field;
+    }
+
+    private static RequestProblemException Invalid(string path, string message) =>
+        RequestProblemException.Field(ProblemKind.InvalidRequest, "invalid-request", "The request has invalid fields.", path, message);
+
+    private static RequestProblemException Unprocessable(string path, string message) =>
+        RequestProblemException.Field(ProblemKind.Unprocessable, "out-of-range", "The request is physically impossible or outside the data's valid range.", path, message);
+}

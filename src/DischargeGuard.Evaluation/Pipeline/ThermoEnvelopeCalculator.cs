@@ -1,0 +1,49 @@
+using DischargeGuard.Rules.Evaluation;
+using DischargeGuard.Rules.Model;
+using DischargeGuard.Thermo;
+using UnitsNet;
+
+namespace DischargeGuard.Evaluation.Pipeline;
+
+/// <summary>
+/// Feeds a governing limit to the Thermo envelope solver for one stage: the highest discharge pressure and the highest
+/// suction temperature at which the governing quantity reaches its limit, the stage's other inputs and the other stages
+/// held fixed.
+/// </summary>
+internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions) : IEnvelopeCalculator
+{
+    private const string NotComputable = "The governing rule checks a quantity the envelope solver cannot move (a measured value, or a limit on something other than the predicted temperature or ratio).";
+
+    public (EnvelopeBound<Pressure> MaxDischargePressure, EnvelopeBound<Temperature> MaxSuctionTemperature) Compute(StageFacts stage, CheckedQuantity quantity, Reading limit)
+    {
+        if (quantity == CheckedQuantity.PressureRatio && limit.Ratio is { } ratio)
+        {
+            return (new(EnvelopeBoundStatus.Found, Pressure.FromPascals(conditions.SuctionPressure.Pascals * ratio), "The pressure-ratio limit times the suction pressure."),
+                new(EnvelopeBoundStatus.NotComputableForQuantity, null, "A pressure-ratio limit does not depend on the suction temperature."));
+        }
+
+        TemperatureQuantity? q = quantity switch
+        {
+            CheckedQuantity.Isentropic => TemperatureQuantity.Isentropic,
+            CheckedQuantity.Estimated => TemperatureQuantity.Estimated,
+            CheckedQuantity.EstimatedUpperBound => TemperatureQuantity.EstimatedUpperBound,
+            _ => null,
+        };
+        if (q is null || limit.Temperature is not { } t)
+        {
+            return (new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable), new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable));
+        }
+
+        var p = EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t);
+        var s = EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t);
+        return (new(Map(p.Status), p.Value, p.Note), new(Map(s.Status), s.Value, s.Note));
+    }
+
+    private static EnvelopeBoundStatus Map(EnvelopeStatus status) => status switch
+    {
+        EnvelopeStatus.Found => EnvelopeBoundStatus.Found,
+        EnvelopeStatus.AlreadyExceeded => EnvelopeBoundStatus.AlreadyExceeded,
+        EnvelopeStatus.NotReachableInRange => EnvelopeBoundStatus.NotReachableInRange,
+        _ => EnvelopeBoundStatus.NotComputableForQuantity,
+    };
+}

@@ -1,0 +1,292 @@
+using System.Globalization;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Rules.Units;
+using DischargeGuard.Thermo;
+using FluentValidation;
+using FluentValidation.Results;
+
+namespace DischargeGuard.Evaluation.Validation;
+
+/// <summary>The accepted words of the contract's enumerated fields.</summary>
+public static class ContractValues
+{
+    /// <summary>Accepted <c>service</c> values.</summary>
+    public static IReadOnlyList<string> Services { get; } = ["general", "oxygen", "chlorine", "acetylene", "sour", "co2"];
+
+    /// <summary>Accepted <c>method</c> values.</summary>
+    public static IReadOnlyList<string> Methods { get; } = ["auto", "ideal-gas"];
+
+    /// <summary>Accepted <c>outputUnits</c> values.</summary>
+    public static IReadOnlyList<string> OutputUnits { get; } = ["metric", "imperial"];
+
+    /// <summary>Accepted composition bases.</summary>
+    public static IReadOnlyList<string> Bases { get; } = ["mole", "mass"];
+
+    /// <summary>Accepted standard-volume references.</summary>
+    public static IReadOnlyList<string> References { get; } = StandardReference.All.Select(r => r.Id).ToArray();
+
+    /// <summary>Most stages a request may carry.</summary>
+    public const int MaxStages = 12;
+
+    internal static string List(IReadOnlyList<string> values) => string.Join(", ", values.Select(v => "'" + v + "'"));
+}
+
+/// <summary>Checks the shape, words and units of an <see cref="EvaluationRequest"/>; physics is the pipeline's job.</summary>
+public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationRequest>
+{
+    /// <summary>Creates the validator over a unit vocabulary (the shipped one by default).</summary>
+    public EvaluationRequestValidator(UnitVocabulary? units = null)
+    {
+        var vocabulary = units ?? UnitVocabulary.Default;
+        RuleFor(x => x.Asset)
+            .NotEmpty().WithMessage("Give the asset tag of the machine (e.g. \"K-101A\").")
+            .MaximumLength(100)
+            .Matches("^[A-Za-z0-9][A-Za-z0-9._\\-/ ]*$").WithMessage("An asset tag uses letters, digits, space and . _ - / only.");
+        RuleFor(x => x.Site!).SetValidator(new SiteInputValidator(vocabulary)).When(x => x.Site is not null);
+        RuleFor(x => x.Service)
+            .Must(v => v is null || ContractValues.Services.Contains(v))
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.Services)} (hydrogen-rich and oxygen-rich service are detected from the composition).");
+        RuleFor(x => x.Gas).NotNull().WithMessage("Give the gas: {\"preset\": \"dry-air\"} or {\"composition\": {...}, \"basis\": \"mole\"}.");
+        RuleFor(x => x.Gas!).SetValidator(new GasInputValidator(vocabulary)).When(x => x.Gas is not null);
+        RuleFor(x => x.Method)
+            .Must(v => v is null || ContractValues.Methods.Contains(v))
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.Methods)}.");
+        RuleFor(x => x.OutputUnits)
+            .Must(v => v is null || ContractValues.OutputUnits.Contains(v))
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.OutputUnits)}.");
+        RuleFor(x => x.Flow!).SetValidator(new FlowInputValidator(vocabulary)).When(x => x.Flow is not null);
+        RuleFor(x => x.Stages)
+            .NotEmpty().WithMessage("Give at least one stage.")
+            .Must(s => s is null || s.Count <= ContractValues.MaxStages).WithMessage($"At most {ContractValues.MaxStages} stages.");
+        RuleForEach(x => x.Stages).NotNull().WithMessage("A stage cannot be null.").SetValidator(new StageInputValidator(vocabulary));
+        RuleFor(x => x).Custom((request, context) => CheckStageOrderAndPressureBasis(request, context, vocabulary));
+    }
+
+    // Rules that need the stage index or the site: which stage gives a suction, and gauge pressures needing a barometer.
+    private static void CheckStageOrderAndPressureBasis(EvaluationRequest request, ValidationContext<EvaluationRequest> context, UnitVocabulary units)
+    {
+        if (request.Stages is null)
+        {
+            return;
+        }
+
+        var hasBarometer = request.Site?.BarometricPressure is not null || request.Site?.Elevation is not null;
+        for (var i = 0; i < request.Stages.Count; i++)
+        {
+            var stage = request.Stages[i];
+            if (stage is null)
+            {
+                continue;
+            }
+
+            var path = string.Create(CultureInfo.InvariantCulture, $"stages[{i}]");
+            if (i == 0)
+            {
+                if (stage.Suction is null)
+                {
+                    context.AddFailure(path + ".suction", "The first stage needs its suction pressure and temperature.");
+                }
+
+                if (stage.Intercooler is not null)
+                {
+                    context.AddFailure(path + ".intercooler", "The first stage takes its suction directly; an intercooler belongs to a later stage.");
+                }
+            }
+            else if (stage.Suction is not null && stage.Intercooler is not null)
+            {
+                context.AddFailure(path + ".intercooler", "A later stage gives either an intercooler or a suction, never both.");
+            }
+            else if (stage.Suction is null && stage.Intercooler is null)
+            {
+                context.AddFailure(path, "A later stage gives either an intercooler (its suction is the previous discharge through the cooler) or its own suction.");
+            }
+
+            if (!hasBarometer)
+            {
+                foreach (var (field, q) in new[] { ("suction.pressure", stage.Suction?.Pressure), ("discharge.pressure", stage.Discharge?.Pressure) })
+                {
+                    if (q is not null && units.TryParse(q.Text, QuantityKind.Pressure, out var parsed, out _) && parsed!.Basis == PressureBasis.Gauge)
+                    {
+                        context.AddFailure(
+                            path + "." + field,
+                            $"'{q.Text}' is a gauge pressure; give site.barometricPressure (e.g. \"98.6 kPa\") or site.elevation (e.g. \"350 m\") so it can be made absolute, or write it absolute (bara, psia, kPa(a), MPa(a)).");
+                    }
+                }
+            }
+        }
+    }
+}
+
+/// <summary>Checks a <see cref="SiteInput"/>.</summary>
+public sealed class SiteInputValidator : AbstractValidator<SiteInput>
+{
+    /// <summary>Creates the validator.</summary>
+    public SiteInputValidator(UnitVocabulary units)
+    {
+        RuleFor(x => x.Id)
+            .NotEmpty().WithMessage("Give the site id (it selects the site's rule layer).")
+            .MaximumLength(64)
+            .Matches("^[a-z0-9][a-z0-9\\-]*$").WithMessage("A site id uses lower-case letters, digits and hyphens (e.g. \"kestrel-ridge\").");
+        RuleFor(x => x).Must(s => s.Elevation is null || s.BarometricPressure is null)
+            .WithName("barometricPressure").WithMessage("Give the barometric pressure or the elevation, not both.");
+        RuleFor(x => x.Elevation).Quantity(units, QuantityKind.Length).When(x => x.Elevation is not null);
+        RuleFor(x => x.BarometricPressure).Quantity(units, QuantityKind.Pressure, allowedBases: [PressureBasis.NotStated, PressureBasis.Absolute],
+            basisMessage: "A barometric pressure is absolute by nature; write it in a plain unit (kPa, hPa, mbar, bar, psi).").When(x => x.BarometricPressure is not null);
+    }
+}
+
+/// <summary>Checks a <see cref="GasInput"/>, including species and the sum of fractions.</summary>
+public sealed class GasInputValidator : AbstractValidator<GasInput>
+{
+    /// <summary>Creates the validator.</summary>
+    public GasInputValidator(UnitVocabulary units)
+    {
+        RuleFor(x => x).Must(g => (g.Preset is null) != (g.Composition is null))
+            .WithName("preset").WithMessage("Give either a preset or a composition (one of the two).");
+        RuleFor(x => x.Preset)
+            .Must(p => p is null || GasCatalog.Default.TryGetPreset(p, out _))
+            .WithMessage(_ => $"Unknown preset. Accepted values: {ContractValues.List(GasCatalog.Default.Presets.Select(p => p.Id).ToArray())}.");
+        RuleFor(x => x.Basis)
+            .Must(b => b is null || ContractValues.Bases.Contains(b))
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.Bases)}.");
+        RuleFor(x => x.RelativeHumidity)
+            .InclusiveBetween(0, 1).WithMessage("A relative humidity is a fraction from 0 to 1 (0.6 for 60 %).");
+        RuleFor(x => x).Must(g => g.RelativeHumidity is null || g.DewPoint is null)
+            .WithName("dewPoint").WithMessage("Give a relative humidity or a dew point, not both.");
+        RuleFor(x => x.DewPoint).Quantity(units, QuantityKind.Temperature).When(x => x.DewPoint is not null);
+        RuleFor(x => x).Custom((gas, context) =>
+        {
+            if (gas.Composition is null)
+            {
+                return;
+            }
+
+            var ok = true;
+            foreach (var (key, value) in gas.Composition)
+            {
+                if (!GasCatalog.Default.TryGetSpecies(key, out _))
+                {
+                    context.AddFailure(new ValidationFailure("composition." + key, $"Unknown species '{key}'. Supported species: {GasCatalog.Default.SupportedSpeciesList} (plain names such as 'methane' are accepted too)."));
+                    ok = false;
+                }
+                else if (!double.IsFinite(value) || value < 0 || value > 1)
+                {
+                    context.AddFailure(new ValidationFailure("composition." + key, "Each fraction must lie in [0, 1]."));
+                    ok = false;
+                }
+            }
+
+            if (ok)
+            {
+                try
+                {
+                    GasCatalog.Default.CreateMixture(gas.Composition, gas.Basis == "mass" ? CompositionBasis.Mass : CompositionBasis.Mole);
+                }
+                catch (InvalidCompositionException ex)
+                {
+                    context.AddFailure(new ValidationFailure(ex.SpeciesKey is null ? "composition" : "composition." + ex.SpeciesKey, ex.Message));
+                }
+            }
+        });
+    }
+}
+
+/// <summary>Checks a <see cref="FlowInput"/>.</summary>
+public sealed class FlowInputValidator : AbstractValidator<FlowInput>
+{
+    /// <summary>Creates the validator.</summary>
+    public FlowInputValidator(UnitVocabulary units)
+    {
+        RuleFor(x => x).Must(f => (f.Mass is null) != (f.StandardVolume is null))
+            .WithName("mass").WithMessage("Give either a mass flow or a standard volume flow (one of the two).");
+        RuleFor(x => x.Mass).Quantity(units, QuantityKind.MassFlow).When(x => x.Mass is not null);
+        RuleFor(x => x.StandardVolume).Quantity(units, QuantityKind.VolumeFlow).When(x => x.StandardVolume is not null);
+        RuleFor(x => x.Reference)
+            .NotEmpty().When(x => x.StandardVolume is not null).WithMessage($"A standard volume flow needs its reference conditions: {ContractValues.List(ContractValues.References)}.")
+            .Must(r => r is null || ContractValues.References.Contains(r)).WithMessage($"Accepted values: {ContractValues.List(ContractValues.References)}.");
+    }
+}
+
+/// <summary>Checks one <see cref="StageInput"/> (the order rules are on the request validator).</summary>
+public sealed class StageInputValidator : AbstractValidator<StageInput>
+{
+    private static readonly PressureBasis[] StateBases = [PressureBasis.Absolute, PressureBasis.Gauge];
+    private const string StateBasisMessage = "State the pressure basis: absolute (bara, psia, kPa(a), MPa(a), atm, Pa) or gauge (barg, psig, kPa(g), MPa(g)); a bare bar, psi, kPa or MPa is ambiguous here.";
+
+    /// <summary>Creates the validator.</summary>
+    public StageInputValidator(UnitVocabulary units)
+    {
+        RuleFor(x => x.Suction!).ChildRules(s =>
+        {
+            s.RuleFor(x => x.Pressure).NotNull().WithMessage("Give the suction pressure with its basis (e.g. \"1.5 barg\").")
+                .Quantity(units, QuantityKind.Pressure, StateBases, StateBasisMessage);
+            s.RuleFor(x => x.Temperature).NotNull().WithMessage("Give the suction temperature (e.g. \"35 °C\").")
+                .Quantity(units, QuantityKind.Temperature);
+        }).When(x => x.Suction is not null);
+        RuleFor(x => x.Intercooler!).ChildRules(c =>
+        {
+            c.RuleFor(x => x).Must(x => (x.OutletTemperature is not null) != (x.Approach is not null))
+                .WithName("outletTemperature").WithMessage("Give either the cooler's gas outlet temperature or an approach with a coolant temperature.");
+            c.RuleFor(x => x.CoolantTemperature).NotNull().When(x => x.Approach is not null).WithMessage("An approach needs the coolant temperature.");
+            c.RuleFor(x => x.OutletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.OutletTemperature is not null);
+            c.RuleFor(x => x.Approach).Quantity(units, QuantityKind.TemperatureDifference).When(x => x.Approach is not null);
+            c.RuleFor(x => x.CoolantTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.CoolantTemperature is not null);
+            c.RuleFor(x => x.PressureDrop).Must(q => q is null || units.TryParse(q.Text, QuantityKind.PressureDifference, out _, out _) || units.TryParse(q.Text, QuantityKind.Fraction, out _, out _))
+                .WithMessage(q => $"'{q.PressureDrop?.Text}' is neither a pressure difference nor a percentage. Accepted units: {string.Join(", ", units.AcceptedTokens(QuantityKind.PressureDifference))}, or % of the upstream pressure.");
+        }).When(x => x.Intercooler is not null);
+        RuleFor(x => x.Discharge).NotNull().WithMessage("Give the discharge pressure with its basis (e.g. \"6.8 barg\").");
+        RuleFor(x => x.Discharge!.Pressure).NotNull().WithMessage("Give the discharge pressure with its basis (e.g. \"6.8 barg\").")
+            .Quantity(units, QuantityKind.Pressure, StateBases, StateBasisMessage).When(x => x.Discharge is not null);
+        RuleFor(x => x.Efficiency!).ChildRules(e =>
+        {
+            e.RuleFor(x => x).Must(x => (x.Isentropic is null) != (x.Polytropic is null))
+                .WithName("isentropic").WithMessage("Give either an isentropic or a polytropic efficiency (one of the two), or leave efficiency out to use the compressor type's default.");
+            e.RuleFor(x => x.Isentropic).GreaterThan(0).LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.80 for 80 %).");
+            e.RuleFor(x => x.Polytropic).GreaterThan(0).LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.82 for 82 %).");
+            e.RuleFor(x => x.Uncertainty).GreaterThanOrEqualTo(0).LessThan(0.5).WithMessage("The uncertainty is in absolute points, from 0 up to 0.5 (0.03 for ±3 points).");
+            e.RuleFor(x => x).Must(x => x.Uncertainty is null || (x.Isentropic ?? x.Polytropic ?? 1) - x.Uncertainty > 0)
+                .WithName("uncertainty").WithMessage("The uncertainty must leave a positive lower efficiency.");
+        }).When(x => x.Efficiency is not null);
+        RuleFor(x => x.Equipment!).ChildRules(e =>
+        {
+            e.RuleFor(x => x.CompressorType).MaximumLength(64);
+            e.RuleFor(x => x.Lubricant).MaximumLength(64);
+            e.RuleFor(x => x.ValveMaterial).MaximumLength(64);
+            e.RuleFor(x => x.SealMaterial).MaximumLength(64);
+        }).When(x => x.Equipment is not null);
+        RuleFor(x => x.Operation!).ChildRules(o =>
+        {
+            o.RuleFor(x => x.NormalDischargeTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.NormalDischargeTemperature is not null);
+            o.RuleFor(x => x.CoolantInletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.CoolantInletTemperature is not null);
+        }).When(x => x.Operation is not null);
+        RuleFor(x => x.Measured!).ChildRules(m =>
+            m.RuleFor(x => x.DischargeTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.DischargeTemperature is not null))
+            .When(x => x.Measured is not null);
+    }
+}
+
+/// <summary>FluentValidation helpers for quantity strings.</summary>
+public static class QuantityRuleExtensions
+{
+    /// <summary>The value must read as a quantity of <paramref name="kind"/> (and, for pressures, one of <paramref name="allowedBases"/>).</summary>
+    public static IRuleBuilderOptionsConditions<T, QuantityInput?> Quantity<T>(
+        this IRuleBuilder<T, QuantityInput?> rule, UnitVocabulary units, QuantityKind kind, PressureBasis[]? allowedBases = null, string? basisMessage = null) =>
+        rule.Custom((q, context) =>
+        {
+            if (q is null)
+            {
+                return;
+            }
+
+            if (!units.TryParse(q.Text, kind, out var parsed, out var error))
+            {
+                context.AddFailure($"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+                return;
+            }
+
+            if (allowedBases is not null && !allowedBases.Contains(parsed!.Basis))
+            {
+                context.AddFailure($"'{q.Text}': {basisMessage}");
+            }
+        });
+}
