@@ -3,7 +3,6 @@ using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules.Units;
 using DischargeGuard.Thermo;
 using FluentValidation;
-using FluentValidation.Results;
 
 namespace DischargeGuard.Evaluation.Validation;
 
@@ -166,12 +165,12 @@ public sealed class GasInputValidator : AbstractValidator<GasInput>
             {
                 if (!GasCatalog.Default.TryGetSpecies(key, out _))
                 {
-                    context.AddFailure(new ValidationFailure("composition." + key, $"Unknown species '{key}'. Supported species: {GasCatalog.Default.SupportedSpeciesList} (plain names such as 'methane' are accepted too)."));
+                    context.AddFailure("composition." + key, $"Unknown species '{key}'. Supported species: {GasCatalog.Default.SupportedSpeciesList} (plain names such as 'methane' are accepted too).");
                     ok = false;
                 }
                 else if (!double.IsFinite(value) || value < 0 || value > 1)
                 {
-                    context.AddFailure(new ValidationFailure("composition." + key, "Each fraction must lie in [0, 1]."));
+                    context.AddFailure("composition." + key, "Each fraction must lie in [0, 1].");
                     ok = false;
                 }
             }
@@ -184,7 +183,7 @@ public sealed class GasInputValidator : AbstractValidator<GasInput>
                 }
                 catch (InvalidCompositionException ex)
                 {
-                    context.AddFailure(new ValidationFailure(ex.SpeciesKey is null ? "composition" : "composition." + ex.SpeciesKey, ex.Message));
+                    context.AddFailure(ex.SpeciesKey is null ? "composition" : "composition." + ex.SpeciesKey, ex.Message.Split(" (Parameter", StringSplitOptions.None)[0]);
                 }
             }
         });
@@ -241,9 +240,12 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
         {
             e.RuleFor(x => x).Must(x => (x.Isentropic is null) != (x.Polytropic is null))
                 .WithName("isentropic").WithMessage("Give either an isentropic or a polytropic efficiency (one of the two), or leave efficiency out to use the compressor type's default.");
-            e.RuleFor(x => x.Isentropic).GreaterThan(0).LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.80 for 80 %).");
-            e.RuleFor(x => x.Polytropic).GreaterThan(0).LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.82 for 82 %).");
-            e.RuleFor(x => x.Uncertainty).GreaterThanOrEqualTo(0).LessThan(0.5).WithMessage("The uncertainty is in absolute points, from 0 up to 0.5 (0.03 for ±3 points).");
+            e.RuleFor(x => x.Isentropic).GreaterThan(0).WithMessage("An efficiency is a fraction in (0, 1] (0.80 for 80 %).")
+                .LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.80 for 80 %).");
+            e.RuleFor(x => x.Polytropic).GreaterThan(0).WithMessage("An efficiency is a fraction in (0, 1] (0.82 for 82 %).")
+                .LessThanOrEqualTo(1).WithMessage("An efficiency is a fraction in (0, 1] (0.82 for 82 %).");
+            e.RuleFor(x => x.Uncertainty).GreaterThanOrEqualTo(0).WithMessage("The uncertainty is in absolute points, from 0 up to 0.5 (0.03 for ±3 points).")
+                .LessThan(0.5).WithMessage("The uncertainty is in absolute points, from 0 up to 0.5 (0.03 for ±3 points).");
             e.RuleFor(x => x).Must(x => x.Uncertainty is null || (x.Isentropic ?? x.Polytropic ?? 1) - x.Uncertainty > 0)
                 .WithName("uncertainty").WithMessage("The uncertainty must leave a positive lower efficiency.");
         }).When(x => x.Efficiency is not null);
