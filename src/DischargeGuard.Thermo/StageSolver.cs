@@ -29,37 +29,7 @@ public static class StageSolver
             throw CompressionPath.OutsideRange(gas, nameof(StageConditions.DischargePressure));
         }
 
-        var rOverM = gas.SpecificGasConstantJoulesPerKilogramKelvin;
-        var actualWork = n.H2OverR - n.H1OverR;
-        Power? power = conditions.MassFlow is { } flow
-            ? UnitsNet.Power.FromWatts(flow.KilogramsPerSecond * actualWork * rOverM)
-            : null;
-        var rise = n.T2 - t1;
-        var diffK = n.T2ConstantK - n.T2;
-        return new StageResult(
-            conditions.SuctionPressure,
-            conditions.DischargePressure,
-            p2 / p1,
-            conditions.SuctionTemperature,
-            new Temperature(n.T2s, TemperatureUnit.Kelvin),
-            new Temperature(n.T2, TemperatureUnit.Kelvin),
-            new Temperature(n.T2Low, TemperatureUnit.Kelvin),
-            new Temperature(n.T2High, TemperatureUnit.Kelvin),
-            n.IsentropicEfficiency,
-            n.PolytropicEfficiency,
-            conditions.Efficiency.Kind,
-            new TemperatureDelta(rise, TemperatureDeltaUnit.Kelvin),
-            n.KSuction,
-            n.KDischarge,
-            new SpecificEnergy((n.H2sOverR - n.H1OverR) * rOverM, SpecificEnergyUnit.JoulePerKilogram),
-            new SpecificEnergy(actualWork * rOverM, SpecificEnergyUnit.JoulePerKilogram),
-            power,
-            new ConstantKEstimate(
-                n.KSuction,
-                new Temperature(n.T2sConstantK, TemperatureUnit.Kelvin),
-                new Temperature(n.T2ConstantK, TemperatureUnit.Kelvin),
-                new TemperatureDelta(diffK, TemperatureDeltaUnit.Kelvin),
-                rise > 0 ? 100.0 * diffK / rise : 0.0));
+        return new StageResult(n, p1, p2, t1, conditions.Efficiency.Kind, gas.SpecificGasConstantJoulesPerKilogramKelvin, conditions.MassFlow?.KilogramsPerSecond);
     }
 
     internal static void Validate(GasMixture gas, double p1Pascals, double p2Pascals, double t1Kelvin, StageEfficiency efficiency)
