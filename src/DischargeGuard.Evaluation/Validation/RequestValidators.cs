@@ -193,13 +193,20 @@ public sealed class GasInputValidator : AbstractValidator<GasInput>
 /// <summary>Checks a <see cref="FlowInput"/>.</summary>
 public sealed class FlowInputValidator : AbstractValidator<FlowInput>
 {
+    // Units that embed a reference condition; here the reference is its own field.
+    private static readonly string[] StandardVolumeTokens = ["Nm³/h", "Nm3/h", "Sm³/h", "Sm3/h", "scfm", "SCFM", "MMSCFD"];
+
     /// <summary>Creates the validator.</summary>
     public FlowInputValidator(UnitVocabulary units)
     {
         RuleFor(x => x).Must(f => (f.Mass is null) != (f.StandardVolume is null))
             .WithName("mass").WithMessage("Give either a mass flow or a standard volume flow (one of the two).");
         RuleFor(x => x.Mass).Quantity(units, QuantityKind.MassFlow).When(x => x.Mass is not null);
-        RuleFor(x => x.StandardVolume).Quantity(units, QuantityKind.VolumeFlow).When(x => x.StandardVolume is not null);
+        RuleFor(x => x.StandardVolume)
+            .Must(q => !StandardVolumeTokens.Any(t => q!.Text.TrimEnd().EndsWith(" " + t, StringComparison.Ordinal)))
+            .WithMessage(f => $"'{f.StandardVolume!.Text}': write the standard volume flow in m³/h, m³/s or ft³/min and name its reference conditions in flow.reference ({ContractValues.List(ContractValues.References)}); the unit itself carries no reference here.")
+            .DependentRules(() => RuleFor(x => x.StandardVolume).Quantity(units, QuantityKind.VolumeFlow))
+            .When(x => x.StandardVolume is not null);
         RuleFor(x => x.Reference)
             .NotEmpty().When(x => x.StandardVolume is not null).WithMessage($"A standard volume flow needs its reference conditions: {ContractValues.List(ContractValues.References)}.")
             .Must(r => r is null || ContractValues.References.Contains(r)).WithMessage($"Accepted values: {ContractValues.List(ContractValues.References)}.");
