@@ -36,6 +36,11 @@ public static class HostingExtensions
             kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue<long?>($"{ServiceOptions.SectionName}:MaxRequestBodyBytes") ?? 1024 * 1024);
 
         builder.Services.ConfigureHttpJsonOptions(o => EvaluationJson.Configure(o.SerializerOptions));
+
+        // A body that cannot be bound (malformed JSON, an unknown field, a wrong type, too large) throws, so
+        // ProblemExceptionHandler answers with the field's path; by default that happens only in Development, and
+        // elsewhere the framework answers a bare 400 with no 'errors'.
+        builder.Services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton<IRuleSetProvider>(sp =>
         {
@@ -77,6 +82,14 @@ public static class HostingExtensions
         app.UseStatusCodePages();
         app.Use((context, next) =>
         {
+            // The Kestrel limit does not apply under other servers; a declared length over the limit is refused
+            // everywhere, before the body is read.
+            var limit = context.RequestServices.GetRequiredService<IOptions<ServiceOptions>>().Value.MaxRequestBodyBytes;
+            if (context.Request.ContentLength > limit)
+            {
+                throw new BadHttpRequestException("The request body is too large.", StatusCodes.Status413PayloadTooLarge);
+            }
+
             // Evaluations record the request exactly as received, so its body is kept for a second read.
             if (HttpMethods.IsPost(context.Request.Method) && context.Request.Path.StartsWithSegments("/v1/evaluations", StringComparison.Ordinal))
             {
