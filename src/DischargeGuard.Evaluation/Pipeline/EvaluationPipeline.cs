@@ -83,7 +83,7 @@ public sealed class EvaluationPipeline
             throw Unprocessable(MapThermoMember(ex.ParamName, stagesIn), ex.Reason);
         }
 
-        var declared = request.Service is null or "general" ? Array.Empty<string>() : [request.Service];
+        var declared = request.Service is null or "general" ? Array.Empty<string>() : [ServiceClassOf(request.Service)];
         var stageDtos = new List<StageDto>(solved.Length);
         var allFindings = new List<FindingDto>();
         var anyNotChecked = false;
@@ -144,6 +144,14 @@ public sealed class EvaluationPipeline
             Cautions = cautions,
         };
     }
+
+    // The contract's service words are short; the rule files' service class ids are not always the same word.
+    private static string ServiceClassOf(string service) => service switch
+    {
+        "oxygen" => "oxygen-rich",
+        "sour" => "sour-gas",
+        _ => service,
+    };
 
     private static EffectiveRuleSet Resolve(RuleSetSnapshot snapshot, string? siteId, string? asset)
     {
