@@ -12,7 +12,7 @@ public sealed record EvaluationRequest
     /// <summary>Site id and its barometric pressure or elevation (needed for gauge pressures; selects the site rule layer).</summary>
     public SiteInput? Site { get; init; }
 
-    /// <summary>Declared service: general, oxygen, chlorine, acetylene, sour or co2 (hydrogen-rich and oxygen-rich are detected).</summary>
+    /// <summary>Declared service: general, air, hydrocarbon, oxygen, chlorine, acetylene, sour or co2 (hydrogen-rich and oxygen-rich are detected; air and hydrocarbon also from the composition).</summary>
     public string? Service { get; init; }
 
     /// <summary>The gas: a preset, or a composition by mole or mass fraction.</summary>

@@ -83,7 +83,7 @@ public sealed class EvaluationPipeline
             throw Unprocessable(MapThermoMember(ex.ParamName, stagesIn), ex.Reason);
         }
 
-        var declared = request.Service is null or "general" ? Array.Empty<string>() : [ServiceClassOf(request.Service)];
+        var declared = DeclaredClasses(request.Service, feed, effective);
         var stageDtos = new List<StageDto>(solved.Length);
         var allFindings = new List<FindingDto>();
         var anyNotChecked = false;
@@ -143,6 +143,42 @@ public sealed class EvaluationPipeline
             Findings = allFindings,
             Cautions = cautions,
         };
+    }
+
+    /// <summary>Dry-basis O2 mole fraction range read as air (common practice, no single source: dry air is 20.95 % O2).</summary>
+    internal const double AirOxygenLow = 0.19;
+
+    /// <summary>Upper end of the air O2 range (above it the oxygen-rich class applies too).</summary>
+    internal const double AirOxygenHigh = 0.235;
+
+    /// <summary>Dry-basis hydrocarbon mole fraction from which a gas is read as hydrocarbon service (common practice, no single source).</summary>
+    internal const double HydrocarbonShare = 0.5;
+
+    private static readonly string[] Hydrocarbons = ["CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12", "n-C6H14", "C2H4", "C3H6"];
+
+    // The declared service plus the classes the composition makes obvious: the air and hydrocarbon rules must not depend
+    // on the caller remembering to declare them.
+    private static string[] DeclaredClasses(string? service, GasMixture gas, EffectiveRuleSet rules)
+    {
+        var classes = new List<string>(2);
+        if (service is not null and not "general")
+        {
+            classes.Add(ServiceClassOf(service));
+        }
+
+        var dry = 1 - gas.MoleFractionOf("H2O");
+        var o2 = gas.MoleFractionOf("O2") / dry;
+        if (o2 is >= AirOxygenLow and <= AirOxygenHigh && gas.MoleFractionOf("N2") / dry >= 0.7)
+        {
+            classes.Add("air");
+        }
+
+        if (Hydrocarbons.Sum(gas.MoleFractionOf) / dry >= HydrocarbonShare)
+        {
+            classes.Add("hydrocarbon");
+        }
+
+        return classes.Distinct(StringComparer.Ordinal).Where(rules.ServiceClasses.ContainsKey).ToArray();
     }
 
     // The contract's service words are short; the rule files' service class ids are not always the same word.
@@ -314,7 +350,7 @@ public sealed class EvaluationPipeline
         }
         catch (ThermoInputException ex)
         {
-            throw Unprocessable(path + ".intercooler.approach", ex.Reason);
+            throw Unprocessable(path + (c.OutletTemperature is null ? ".intercooler.approach" : ".intercooler.outletTemperature"), ex.Reason);
         }
 
         return new TrainStage(discharge, efficiency, Intercooler: cooler);
@@ -585,12 +621,13 @@ public sealed class EvaluationPipeline
 
         var prefix = member[..dot];
         var index = int.Parse(member.AsSpan(7, prefix.Length - 8), CultureInfo.InvariantCulture);
-        var cooled = index < stages.Count && stages[index].Intercooler is not null;
+        var cooler = index < stages.Count ? stages[index].Intercooler : null;
+        var cooled = cooler is not null;
         var field = member[(dot + 1)..] switch
         {
             "DischargePressure" => "discharge.pressure",
             "SuctionPressure" => cooled ? "intercooler.pressureDrop" : "suction.pressure",
-            "SuctionTemperature" => cooled ? "intercooler.outletTemperature" : "suction.temperature",
+            "SuctionTemperature" => cooler is null ? "suction.temperature" : cooler.OutletTemperature is null ? "intercooler.coolantTemperature" : "intercooler.outletTemperature",
             "Efficiency" => "efficiency",
             "Intercooler" => "intercooler",
             "Intercooler.PressureDrop" => "intercooler.pressureDrop",

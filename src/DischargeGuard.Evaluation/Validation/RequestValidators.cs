@@ -10,7 +10,7 @@ namespace DischargeGuard.Evaluation.Validation;
 public static class ContractValues
 {
     /// <summary>Accepted <c>service</c> values.</summary>
-    public static IReadOnlyList<string> Services { get; } = ["general", "oxygen", "chlorine", "acetylene", "sour", "co2"];
+    public static IReadOnlyList<string> Services { get; } = ["general", "air", "hydrocarbon", "oxygen", "chlorine", "acetylene", "sour", "co2"];
 
     /// <summary>Accepted <c>method</c> values.</summary>
     public static IReadOnlyList<string> Methods { get; } = ["auto", "ideal-gas"];
@@ -44,7 +44,7 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
         RuleFor(x => x.Site!).SetValidator(new SiteInputValidator(vocabulary)).When(x => x.Site is not null);
         RuleFor(x => x.Service)
             .Must(v => v is null || ContractValues.Services.Contains(v))
-            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.Services)} (hydrogen-rich and oxygen-rich service are detected from the composition).");
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.Services)} (hydrogen-rich and oxygen-rich service are detected from the composition, air and hydrocarbon service also from an air-like or hydrocarbon-rich composition).");
         RuleFor(x => x.Gas).NotNull().WithMessage("Give the gas: {\"preset\": \"dry-air\"} or {\"composition\": {...}, \"basis\": \"mole\"}.");
         RuleFor(x => x.Gas!).SetValidator(new GasInputValidator(vocabulary)).When(x => x.Gas is not null);
         RuleFor(x => x.Method)
