@@ -24,10 +24,15 @@ public static partial class EvaluationsApi
             .WithDescription("Quantities are strings \"<number> <unit>\" or {\"value\", \"unit\"}; state pressures state their basis. "
                 + "Add ?curve=true for the discharge-temperature curve per stage. A rule violation is a 200 with verdict \"fail\".")
             .Accepts<EvaluationRequest>("application/json")
-            .WithValidation<EvaluationRequest>();
+            .WithValidation<EvaluationRequest>()
+            // ProblemHttpResult declares no status of its own: name every problem the handler and the host can answer.
+            .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
+            .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
         group.MapGet("/{id:guid}", GetEvaluation)
             .WithName("GetEvaluation")
-            .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.");
+            .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.")
+            .ProducesProblem(StatusCodes.Status404NotFound);
         return group;
     }
 
