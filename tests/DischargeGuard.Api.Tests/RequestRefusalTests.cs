@@ -80,26 +80,11 @@ public sealed class RequestRefusalTests(ServiceFactory factory) : IClassFixture<
         using var response = await factory.EvaluateAsync(request);
 
         var problem = await AssertEx.ProblemAsync(response, HttpStatusCode.BadRequest, "invalid-request");
-        var errors = problem.At("errors");
-        var (key, messages) = Assert.Single(errors.EnumerateObject().Select(p => (p.Name, p.Value)));
-        Assert.EndsWith("composition.Unobtainium", key, StringComparison.Ordinal);
-        var message = messages[0].GetString()!;
+        var message = AssertEx.Error(problem, "gas.composition.Unobtainium");
         foreach (var species in new[] { "N2", "CH4", "n-C4H10", "H2S", "SO2", "Kr" })
         {
             Assert.Contains(species, message, StringComparison.Ordinal);
         }
-    }
-
-    [Fact(Skip = "Evaluation bug: GasInputValidator adds its composition failures as new ValidationFailure(\"composition…\"), which FluentValidation does not prefix with the parent path, so the key is 'composition.Unobtainium' instead of 'gas.composition.Unobtainium' (the pipeline's own key).")]
-    public async Task Evaluate_WhenSpeciesIsUnknown_KeysTheErrorByTheFullRequestPath()
-    {
-        var request = Requests.Minimal();
-        request["gas"] = new JsonObject { ["composition"] = new JsonObject { ["N2"] = 0.5, ["Unobtainium"] = 0.5 } };
-
-        using var response = await factory.EvaluateAsync(request);
-
-        var problem = await AssertEx.ProblemAsync(response, HttpStatusCode.BadRequest, "invalid-request");
-        AssertEx.Error(problem, "gas.composition.Unobtainium");
     }
 
     [Fact]
@@ -111,21 +96,9 @@ public sealed class RequestRefusalTests(ServiceFactory factory) : IClassFixture<
         using var response = await factory.EvaluateAsync(request);
 
         var problem = await AssertEx.ProblemAsync(response, HttpStatusCode.BadRequest, "invalid-request");
-        var (key, messages) = Assert.Single(problem.At("errors").EnumerateObject().Select(p => (p.Name, p.Value)));
-        Assert.EndsWith("composition", key, StringComparison.Ordinal);
-        Assert.Contains("sum to 0.9", messages[0].GetString(), StringComparison.Ordinal);
-    }
-
-    [Fact(Skip = "Evaluation bug: the sum error is keyed 'composition' instead of 'gas.composition' (GasInputValidator adds an unprefixed ValidationFailure), and its message ends in \" (Parameter 'composition')\" because the ArgumentException message of InvalidCompositionException is passed through.")]
-    public async Task Evaluate_WhenFractionsDoNotSumToOne_KeysTheErrorByTheFullPathWithoutDotNetText()
-    {
-        var request = Requests.Minimal();
-        request["gas"] = new JsonObject { ["composition"] = new JsonObject { ["N2"] = 0.5, ["O2"] = 0.4 } };
-
-        using var response = await factory.EvaluateAsync(request);
-
-        var problem = await AssertEx.ProblemAsync(response, HttpStatusCode.BadRequest, "invalid-request");
-        Assert.DoesNotContain("(Parameter", AssertEx.Error(problem, "gas.composition"), StringComparison.Ordinal);
+        var message = AssertEx.Error(problem, "gas.composition");
+        Assert.Contains("sum to 0.9", message, StringComparison.Ordinal);
+        Assert.DoesNotContain("(Parameter", message, StringComparison.Ordinal);
     }
 
     [Fact]
