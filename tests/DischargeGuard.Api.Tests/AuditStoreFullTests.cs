@@ -31,13 +31,15 @@ public sealed class AuditStoreFullTests
         Assert.Equal(before.Records, store.Statistics.Records);
         Assert.Equal(before.FailedBatches + 1, store.Statistics.FailedBatches);
 
-        // The readiness probe writes one small row in place, which needs no new page, so it still reports the store
-        // writable while appends fail: readiness does not detect a full store (the 503 answers do).
+        // The readiness probe allocates (and rolls back) new pages, so a full file is reported: not ready.
         var (ready, readiness) = await factory.GetJsonAsync("/health/ready");
-        Assert.Equal(HttpStatusCode.OK, ready.StatusCode);
-        Assert.Equal("Healthy", readiness.At("checks.audit.status").GetString());
+        Assert.Equal(HttpStatusCode.ServiceUnavailable, ready.StatusCode);
+        Assert.Equal("Unhealthy", readiness.At("checks.audit.status").GetString());
 
         await store.SetMaxPageCountForTestingAsync(null);
+        var (readyAgain, readinessAgain) = await factory.GetJsonAsync("/health/ready");
+        Assert.Equal(HttpStatusCode.OK, readyAgain.StatusCode);
+        Assert.Equal("Healthy", readinessAgain.At("checks.audit.status").GetString());
         using var recovered = await factory.EvaluateAsync(Requests.PassingStage(), "?curve=true");
         var body = await Json.ReadAsync(recovered);
 

@@ -83,6 +83,11 @@ internal static class AuditSchema
                 checked_at TEXT NOT NULL
             ) STRICT;
             """),
+        new(6, "health probe room table, written and rolled back to prove new pages can be allocated", """
+            CREATE TABLE health_probe_room (
+                pad BLOB NOT NULL
+            ) STRICT;
+            """),
     ];
 
     /// <summary>The version a file has after every step.</summary>

@@ -451,6 +451,12 @@ public sealed class SqliteAuditStore : IAuditStore
             command.ExecuteNonQuery();
         }
 
+        // An in-place update needs no new page, so a full file would still pass; allocating (and rolling back) a few
+        // pages proves an append would find room.
+        AuditSchema.Execute(connection, "SAVEPOINT room;");
+        AuditSchema.Execute(connection, "INSERT INTO health_probe_room (pad) VALUES (zeroblob(16384));");
+        AuditSchema.Execute(connection, "ROLLBACK TO room;");
+        AuditSchema.Execute(connection, "RELEASE room;");
         AuditSchema.Execute(connection, "COMMIT;");
         return Task.CompletedTask;
     }
