@@ -11,15 +11,21 @@ work="$(mktemp -d)"
 trap 'kill "${pid:-0}" 2>/dev/null || true; rm -rf "$work"' EXIT
 
 dotnet publish src/DischargeGuard.Api -c Release -o "$work/app" >/dev/null
-# Request logging at Warning so the console sink is not what is measured; the evaluation event stays on.
-DischargeGuard__RulesWatch=false Audit__SqlitePath="$work/audit.db" Serilog__MinimumLevel__Default=Warning \
-  Serilog__MinimumLevel__Override__DischargeGuard.Evaluations=Warning \
+# Shipped configuration (Information events to console and file), audit file in the temp folder.
+# LOG_LEVEL=Warning measures the service without per-request log events.
+env DischargeGuard__RulesWatch=false Audit__SqlitePath="$work/audit.db" Serilog__MinimumLevel__Default="${LOG_LEVEL:-Information}" \
   dotnet "$work/app/DischargeGuard.Api.dll" --urls "http://127.0.0.1:$port" >"$work/service.log" 2>&1 &
 pid=$!
-for _ in $(seq 1 60); do
-  curl -fs "http://127.0.0.1:$port/health/live" >/dev/null 2>&1 && break
+ready=0
+for _ in $(seq 1 120); do
+  if curl -fs "http://127.0.0.1:$port/health/live" >/dev/null 2>&1; then ready=1; break; fi
   sleep 0.5
 done
+if [ "$ready" != 1 ]; then
+  echo "service did not start; its log:" >&2
+  cat "$work/service.log" >&2
+  exit 1
+fi
 
 echo "== warm-up"
 wrk -t2 -c"$connections" -d5s -s bench/load/evaluate.lua "http://127.0.0.1:$port/v1/evaluations" >/dev/null

@@ -32,7 +32,17 @@ public sealed class GasMixture
         SpecificGasConstantJoulesPerKilogramKelvin = ThermoConstants.MolarGasConstantJoulesPerMoleKelvin / molarMass;
         MinimumKelvin = minK;
         MaximumKelvin = maxK;
+        foreach (var c in components)
+        {
+            if (c.Species.Id == "H2O")
+            {
+                WaterMoleFraction = c.MoleFraction;
+            }
+        }
     }
+
+    /// <summary>Mole fraction of water vapour (0 for a dry gas); kept as a field because trains ask for it per stage.</summary>
+    public double WaterMoleFraction { get; }
 
     /// <summary>The components, largest mole fraction first.</summary>
     public IReadOnlyList<MixtureComponent> Components => _components;

@@ -188,7 +188,7 @@ public static class TrainSolver
             if (!ReferenceEquals(before, gas))
             {
                 MassFlow? rate = flow is { } f ? UnitsNet.MassFlow.FromKilogramsPerSecond(f * massFraction) : null;
-                condensate = new Condensate(massFraction, rate, gas.MoleFractionOf("H2O"));
+                condensate = new Condensate(massFraction, rate, gas.WaterMoleFraction);
                 flow *= 1 - massFraction;
             }
 
@@ -241,7 +241,7 @@ public static class TrainSolver
     internal static GasMixture DropOutWater(GasMixture gas, double tKelvin, double pPascals, out double condensedMassFraction)
     {
         condensedMassFraction = 0;
-        var y = gas.MoleFractionOf("H2O");
+        var y = gas.WaterMoleFraction;
         if (y <= 0 || tKelvin > WaterSaturation.CriticalKelvin || tKelvin < WaterSaturation.MinimumKelvin)
         {
             return gas;

@@ -25,12 +25,16 @@ public static class HostingExtensions
         builder.Services.AddSerilog((services, logger) => logger
             .ReadFrom.Configuration(builder.Configuration)
             .Enrich.FromLogContext()
-            .WriteTo.Console(new RenderedCompactJsonFormatter())
-            .WriteTo.File(
-                new CompactJsonFormatter(),
-                Path.Combine(builder.Environment.ContentRootPath, "data", "logs", "dischargeguard-.log"),
-                rollingInterval: RollingInterval.Day,
-                retainedFileCountLimit: 14));
+            // Log events are not the audit trail (that is the store), so they may be written in the background;
+            // blockWhenFull keeps them from being dropped under load.
+            .WriteTo.Async(a => a.Console(new RenderedCompactJsonFormatter()), blockWhenFull: true)
+            .WriteTo.Async(
+                a => a.File(
+                    new CompactJsonFormatter(),
+                    Path.Combine(builder.Environment.ContentRootPath, "data", "logs", "dischargeguard-.log"),
+                    rollingInterval: RollingInterval.Day,
+                    retainedFileCountLimit: 14),
+                blockWhenFull: true));
 
         builder.WebHost.ConfigureKestrel((context, kestrel) =>
             kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue<long?>($"{ServiceOptions.SectionName}:MaxRequestBodyBytes") ?? 1024 * 1024);

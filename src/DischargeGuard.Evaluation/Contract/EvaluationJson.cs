@@ -39,7 +39,14 @@ public static class EvaluationJson
     }
 }
 
-/// <summary>Source-generated metadata for the contract types.</summary>
+/// <summary>Source-generated metadata for the contract types (options match <see cref="EvaluationJson.Options"/>, so the
+/// generated fast path serialises answers without reflection).</summary>
+[JsonSourceGenerationOptions(
+    PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase,
+    DefaultIgnoreCondition = JsonIgnoreCondition.WhenWritingNull,
+    UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow,
+    NumberHandling = JsonNumberHandling.Strict,
+    MaxDepth = 32)]
 [JsonSerializable(typeof(EvaluationRequest))]
 [JsonSerializable(typeof(EvaluationResponse))]
 [JsonSerializable(typeof(QuantityDto))]
