@@ -6,7 +6,7 @@ namespace DischargeGuard.Api.Tests;
 /// <summary>Editing the rule directory while the service runs (its own factory: the edits are its state).</summary>
 public sealed class RuleReloadTests
 {
-    private static readonly TimeSpan ReloadTimeout = TimeSpan.FromSeconds(10);
+    private static readonly TimeSpan ReloadTimeout = TimeSpan.FromSeconds(30);
 
     // Site layer of the invented site kestrel-ridge (Harrow Basin Gas Co.), in the format of rules/sites/marlow-fen.yaml.
     private const string TightenedSite = """
@@ -44,7 +44,7 @@ public sealed class RuleReloadTests
     [Fact]
     public async Task Rules_WhenSiteFileIsAddedThenBroken_ReloadsTheGoodOneAndKeepsItWhileDegraded()
     {
-        await using var factory = new ServiceFactory();
+        await using var factory = ServiceFactory.WatchingRules();
         var (_, initial) = await factory.GetJsonAsync("/v1/rules?site=kestrel-ridge");
         Assert.DoesNotContain(initial.At("layers").EnumerateArray(), l => l.At("name").GetString() == "site:kestrel-ridge");
         var sitePath = Path.Combine(factory.RulesDirectory, "sites", "kestrel-ridge.yaml");

@@ -20,6 +20,10 @@ public class ServiceFactory : WebApplicationFactory<Program>
     {
     }
 
+    /// <summary>A factory whose host watches its rule directory (only the reload tests need it: each watcher holds an
+    /// inotify instance, of which a Linux user gets 128 by default).</summary>
+    public static ServiceFactory WatchingRules() => new(new Dictionary<string, string?> { ["DischargeGuard:RulesWatch"] = "true" });
+
     protected ServiceFactory(IDictionary<string, string?> settings)
     {
         Folder = Directory.CreateTempSubdirectory("dischargeguard-api-tests-").FullName;
@@ -35,6 +39,7 @@ public class ServiceFactory : WebApplicationFactory<Program>
             ["DischargeGuard:RulesDirectory"] = RulesDirectory,
             ["Serilog:MinimumLevel:Default"] = "Warning",
         };
+        _settings.TryAdd("DischargeGuard:RulesWatch", "false");
     }
 
     /// <summary>The temp folder holding everything this factory wrote.</summary>
@@ -53,6 +58,9 @@ public class ServiceFactory : WebApplicationFactory<Program>
     {
         ArgumentNullException.ThrowIfNull(builder);
         builder.UseEnvironment("Production");
+
+        // No configuration-file watcher per test host either (same inotify budget).
+        builder.UseSetting("hostBuilder:reloadConfigOnChange", "false");
         builder.UseContentRoot(ContentRoot);
         foreach (var (key, value) in _settings)
         {

@@ -2,9 +2,9 @@ using System.Globalization;
 using System.Runtime.CompilerServices;
 using Xunit.Sdk;
 
-namespace DischargeGuard.Evaluation.Tests;
+namespace DischargeGuard.Testing;
 
-/// <summary>Tolerance asserts that print expected, actual and the difference.</summary>
+/// <summary>Tolerance asserts that print expected, actual and the difference (linked into every test project).</summary>
 internal static class AssertEx
 {
     public static void Within(double expected, double actual, double absoluteTolerance, string? what = null, [CallerArgumentExpression(nameof(actual))] string? expression = null)
