@@ -50,6 +50,8 @@ public class DefaultRulesTests
         ["R-COOLING-UNLOADED"] = new(v => Quiet() with { Estimated = K(v), UnloadedRunning = true }, 373.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Unloaded running and adiabatic rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so isentropic = 303.15 K + rise.
         ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Carbon steel in chlorine: 120 °C warning — survey default (c, low), from memory — verify.
+        ["R-CL2-CARBON-STEEL"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel" }, 393.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
     };
 
     /// <summary>Facts with the rule's input removed, and the input the result must name.</summary>
@@ -77,6 +79,8 @@ public class DefaultRulesTests
         ["R-SPECIAL-O2"] = (Quiet() with { CompressorTypeId = null, OxygenMoleFraction = Ratio.FromPercent(30) }, ""),
         ["R-SPECIAL-CL2"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["chlorine"] }, ""),
         ["R-SPECIAL-C2H2"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["acetylene"] }, ""),
+        ["R-CL2-CARBON-STEEL"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
+        ["R-CL2-TITANIUM"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
     };
 
     public static TheoryData<string> BoundaryRules() => new(Cases.Keys.Order(StringComparer.Ordinal));
@@ -86,10 +90,22 @@ public class DefaultRulesTests
     private static StageResult Evaluate(StageFacts facts) => RuleEngine.EvaluateStage(Repo.Defaults, facts);
 
     [Fact]
+    public void TitaniumInChlorine_AtAnyTemperature_IsAViolation()
+    {
+        // Chlorine Institute Pamphlet 1 §8.3.2: titanium reacts violently with dry chlorine ((a)); no safe temperature.
+        var cold = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(20) }).Find("R-CL2-TITANIUM");
+        Assert.Equal(Severity.Violation, cold.Severity);
+        var other = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel", Isentropic = C(20) });
+        Assert.DoesNotContain(other.Findings, f => f.RuleId == "R-CL2-TITANIUM");
+        var noChlorine = Evaluate(Quiet() with { ValveMaterialId = "titanium" });
+        Assert.DoesNotContain(noChlorine.Findings, f => f.RuleId == "R-CL2-TITANIUM");
+    }
+
+    [Fact]
     public void DefaultFile_WhenLoaded_EveryRuleHasATriggerOrSpecialCase()
     {
         // Guards the tables: a shipped rule added without tests fails here.
-        var covered = Cases.Keys.Concat(["R-SCREW-PREDICTION", "R-SETPOINTS", "R-SPECIAL-O2", "R-SPECIAL-CL2", "R-SPECIAL-C2H2"]).ToHashSet();
+        var covered = Cases.Keys.Concat(["R-SCREW-PREDICTION", "R-SETPOINTS", "R-SPECIAL-O2", "R-SPECIAL-CL2", "R-SPECIAL-C2H2", "R-CL2-TITANIUM"]).ToHashSet();
         Assert.Equal(covered.Order(), Repo.Defaults.Rules.Select(r => r.Id).Order());
         Assert.Equal(covered.Order(), MissingCases.Keys.Order());
     }

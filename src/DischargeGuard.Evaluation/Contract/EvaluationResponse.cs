@@ -181,7 +181,18 @@ public sealed record GoverningDto(string RuleId, string Quantity, QuantityDto Li
 /// <param name="MaxSuctionTemperature">Highest suction temperature, when one exists.</param>
 /// <param name="GoverningRule">The rule whose limit bounds the envelope.</param>
 /// <param name="Note">Why a bound is missing, or how it was found.</param>
-public sealed record EnvelopeDto(QuantityDto? MaxDischargePressure, QuantityDto? MaxSuctionTemperature, string GoverningRule, string Note);
+/// <param name="ByLimit">For each violation-level temperature limit that applied, the highest pressure ratio and discharge
+/// pressure before it is reached at this stage's suction temperature (the R-RATIO report), governing or not.</param>
+public sealed record EnvelopeDto(QuantityDto? MaxDischargePressure, QuantityDto? MaxSuctionTemperature, string GoverningRule, string Note, IReadOnlyList<LimitEnvelopeDto> ByLimit);
+
+/// <summary>How far one limit lets the stage's pressure ratio rise.</summary>
+/// <param name="RuleId">The rule.</param>
+/// <param name="Quantity">The temperature it checks.</param>
+/// <param name="Limit">Its violation limit.</param>
+/// <param name="MaxPressureRatio">Highest P2/P1 before the limit, when one exists.</param>
+/// <param name="MaxDischargePressure">Highest absolute discharge pressure before the limit, when one exists.</param>
+/// <param name="Status">found, already-exceeded or not-reachable-in-range.</param>
+public sealed record LimitEnvelopeDto(string RuleId, string Quantity, QuantityDto Limit, double? MaxPressureRatio, QuantityDto? MaxDischargePressure, string Status);
 
 /// <summary>One finding.</summary>
 public sealed record FindingDto

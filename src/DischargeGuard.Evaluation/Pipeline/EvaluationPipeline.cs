@@ -105,7 +105,7 @@ public sealed class EvaluationPipeline
             anyNotChecked |= ruled.NotChecked.Count > 0;
             var findings = ruled.Findings.Select(f => FindingOf(f, output, null)).ToList();
             allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
-            stageDtos.Add(StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null));
+            stageDtos.Add(StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null, LimitsOf(s, conditions, ruled, output)));
         }
 
         var cautions = new List<string> { Cautions.DeferToCodes, Cautions.KeepProtection, Cautions.IdealGas };
@@ -438,7 +438,7 @@ public sealed class EvaluationPipeline
 
     private static StageDto StageOf(
         TrainStageResult s, RuleStageResult ruled, IReadOnlyList<FindingDto> findings, (string Source, string? Basis) efficiencySource,
-        StageEfficiency efficiency, OutputUnitSystem u, IReadOnlyList<CurvePointDto>? curve)
+        StageEfficiency efficiency, OutputUnitSystem u, IReadOnlyList<CurvePointDto>? curve, IReadOnlyList<LimitEnvelopeDto> byLimit)
     {
         var r = s.Stage;
         GoverningDto? governing = ruled.Governing is { Limit: { } limit } g
@@ -449,7 +449,8 @@ public sealed class EvaluationPipeline
                 e.MaxDischargePressure.Value is { } p ? u.PressureAbsolute(p) : null,
                 e.MaxSuctionTemperature.Value is { } t ? u.Temperature(t) : null,
                 e.RuleId,
-                EnvelopeNote(e))
+                EnvelopeNote(e),
+                byLimit)
             : null;
         return new StageDto
         {
@@ -489,6 +490,43 @@ public sealed class EvaluationPipeline
             NotChecked = ruled.NotChecked.Select(n => new NotCheckedDto(n.RuleId, n.MissingInputs, n.Reason)).ToArray(),
             Curve = curve,
         };
+    }
+
+    // R-RATIO's report: the highest ratio each violation-level temperature limit allows, not only the governing one.
+    private static LimitEnvelopeDto[] LimitsOf(TrainStageResult s, StageConditions conditions, RuleStageResult ruled, OutputUnitSystem u)
+    {
+        var list = new List<LimitEnvelopeDto>();
+        foreach (var f in ruled.Findings)
+        {
+            TemperatureQuantity? q = f.Quantity switch
+            {
+                CheckedQuantity.Isentropic => TemperatureQuantity.Isentropic,
+                CheckedQuantity.Estimated => TemperatureQuantity.Estimated,
+                CheckedQuantity.EstimatedUpperBound => TemperatureQuantity.EstimatedUpperBound,
+                _ => null,
+            };
+            if (f.RuleSeverity != Severity.Violation || q is null || f.Direction != LimitDirection.Upper || f.Limit?.Temperature is not { } limit)
+            {
+                continue;
+            }
+
+            var e = EnvelopeSolver.MaxDischargePressure(s.Gas, conditions, q.Value, limit);
+            var found = e.Status == EnvelopeStatus.Found && e.Value is not null;
+            list.Add(new LimitEnvelopeDto(
+                f.RuleId,
+                f.Quantity.ToName(),
+                u.Reading(f.Limit.Value),
+                found ? Math.Round(e.Value!.Value.Pascals / conditions.SuctionPressure.Pascals, 4) : null,
+                found ? u.PressureAbsolute(e.Value!.Value) : null,
+                e.Status switch
+                {
+                    EnvelopeStatus.Found => "found",
+                    EnvelopeStatus.AlreadyExceeded => "already-exceeded",
+                    _ => "not-reachable-in-range",
+                }));
+        }
+
+        return list.ToArray();
     }
 
     private static string EnvelopeNote(EnvelopeEstimate e)

@@ -1,0 +1,45 @@
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Thermo;
+using UnitsNet;
+
+namespace DischargeGuard.Evaluation.Tests;
+
+/// <summary>The R-RATIO report: the highest pressure ratio every violation-level temperature limit allows.</summary>
+public sealed class LimitEnvelopeTests
+{
+    [Fact]
+    public void Envelope_ByLimit_ListsEachTemperatureLimitAndItsRatioRoundTrips()
+    {
+        var request = new EvaluationRequest
+        {
+            Asset = "K-101A",
+            Gas = new GasInput { Preset = "dry-air" },
+            Stages =
+            [
+                new StageInput
+                {
+                    Suction = new SuctionInput { Pressure = new QuantityInput("100 kPa(a)"), Temperature = new QuantityInput("30 °C") },
+                    Discharge = new DischargeInput { Pressure = new QuantityInput("600 kPa(a)") },
+                    Efficiency = new EfficiencyInput { Isentropic = 0.8 },
+                    Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "mineral-vdl", ValveMaterial = "peek", SealMaterial = "fkm" },
+                },
+            ],
+        };
+        var response = new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch)).Response!;
+        var stage = response.Stages[0];
+        var byLimit = stage.Envelope!.ByLimit;
+
+        // R-API618-GEN (isentropic, 150 °C) and R-AIT (estimated, 170 °C) both limit this stage; the governing one is listed too.
+        Assert.Contains(byLimit, l => l.RuleId == "R-API618-GEN" && l.Quantity == "isentropic");
+        Assert.Contains(byLimit, l => l.RuleId == stage.Envelope.GoverningRule);
+        var air = GasCatalog.Default.Preset("dry-air");
+        foreach (var l in byLimit.Where(l => l.Status == "found"))
+        {
+            var r = StageSolver.Solve(air, new StageConditions(Pressure.FromKilopascals(100), Temperature.FromDegreesCelsius(30), Pressure.FromKilopascals(100 * l.MaxPressureRatio!.Value), StageEfficiency.Isentropic(0.8)));
+            var t = l.Quantity == "isentropic" ? r.IsentropicDischargeTemperature : r.EstimatedDischargeTemperature;
+            // The ratio is rounded to 4 decimals, which moves the temperature by well under 0.05 K here.
+            AssertEx.Within(l.Limit.Value, t.DegreesCelsius, 0.05, l.RuleId);
+        }
+    }
+}
