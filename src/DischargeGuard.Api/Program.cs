@@ -1,6 +1,12 @@
 using DischargeGuard.Api.Infrastructure;
 using Serilog;
 
+// `new-key` prints a key and its configuration entry; it needs no host, rules or store.
+if (DischargeGuard.Api.KeyCommand.IsCommand(args))
+{
+    return DischargeGuard.Api.KeyCommand.Run(args, Console.Out);
+}
+
 Log.Logger = new LoggerConfiguration().WriteTo.Console().CreateBootstrapLogger();
 try
 {

@@ -1,6 +1,8 @@
 using System.Diagnostics;
+using System.Security.Claims;
 using System.Text.Json;
 using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
@@ -17,7 +19,7 @@ public static partial class EvaluationsApi
     /// <summary>Maps <c>/v1/evaluations</c>.</summary>
     public static RouteGroupBuilder MapEvaluations(this IEndpointRouteBuilder routes)
     {
-        var group = routes.MapGroup("/v1/evaluations").WithTags("Evaluations");
+        var group = routes.MapGroup("/v1/evaluations").WithTags("Evaluations").RequireKey();
         group.MapPost("/", Evaluate)
             .WithName("CreateEvaluation")
             .WithSummary("Evaluate a proposed stage or train; the answer is recorded in the audit store before it is sent.")
@@ -25,6 +27,7 @@ public static partial class EvaluationsApi
                 + "Add ?curve=true for the discharge-temperature curve per stage. A rule violation is a 200 with verdict \"fail\".")
             .Accepts<EvaluationRequest>("application/json")
             .WithValidation<EvaluationRequest>()
+            .RequireRoles(Policies.Evaluate)
             // ProblemHttpResult declares no status of its own: name every problem the handler and the host can answer.
             .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
             .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
@@ -32,6 +35,8 @@ public static partial class EvaluationsApi
         group.MapGet("/{id:guid}", GetEvaluation)
             .WithName("GetEvaluation")
             .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.")
+            .WithDescription("Planner and admin keys read any record; a technician key reads only the records it made (others answer 404).")
+            .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
         return group;
     }
@@ -97,13 +102,22 @@ public static partial class EvaluationsApi
         return new Utf8JsonResult<EvaluationResponse>(body);
     }
 
-    internal static async Task<Results<Utf8JsonResult<StoredEvaluation>, ProblemHttpResult>> GetEvaluation(Guid id, IAuditStore audit, CancellationToken cancellationToken)
+    internal static async Task<Results<Utf8JsonResult<StoredEvaluation>, ProblemHttpResult>> GetEvaluation(
+        Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
-        return record is null
+
+        // A technician reads only its own records; another caller's record answers as missing, so ids cannot be probed.
+        return record is null || !MayRead(user, keys, record)
             ? Problems.Missing($"No evaluation with id {id} is recorded.")
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
     }
+
+    internal static bool MayRead(ClaimsPrincipal user, ApiKeyRegistry keys, AuditRecord record) =>
+        keys.IsOpen
+        || user.IsInRole(Roles.Planner)
+        || user.IsInRole(Roles.Admin)
+        || (user.IsInRole(Roles.Technician) && string.Equals(record.Caller, user.Identity?.Name, StringComparison.Ordinal));
 
     internal static string CallerOf(HttpContext http) =>
         http.User.Identity?.IsAuthenticated == true && http.User.Identity.Name is { } name ? name : AuditRecord.AnonymousCaller;

@@ -1,3 +1,4 @@
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules.Provider;
 using DischargeGuard.Thermo;
@@ -11,7 +12,7 @@ public static class GasesApi
     /// <summary>Maps <c>/v1/gases</c>.</summary>
     public static RouteGroupBuilder MapGases(this IEndpointRouteBuilder routes)
     {
-        var group = routes.MapGroup("/v1/gases").WithTags("Gases");
+        var group = routes.MapGroup("/v1/gases").WithTags("Gases").RequireKey();
         group.MapGet("/", GetGases)
             .WithName("GetGases")
             .WithSummary("Supported species (with data range and source), presets, service classes and standard-volume references.");

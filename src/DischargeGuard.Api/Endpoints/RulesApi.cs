@@ -1,4 +1,6 @@
 using System.Text;
+using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Rules;
 using DischargeGuard.Rules.Loading;
 using DischargeGuard.Rules.Model;
@@ -11,7 +13,7 @@ using UnitsNet;
 namespace DischargeGuard.Api.Endpoints;
 
 /// <summary>The active rules: effective layers and catalogues, and a dry check of a candidate file.</summary>
-public static class RulesApi
+public static partial class RulesApi
 {
     /// <summary>Largest candidate rule file accepted by the check, bytes.</summary>
     public const int MaxRuleFileBytes = 512 * 1024;
@@ -19,16 +21,28 @@ public static class RulesApi
     /// <summary>Maps <c>/v1/rules</c>.</summary>
     public static RouteGroupBuilder MapRules(this IEndpointRouteBuilder routes)
     {
-        var group = routes.MapGroup("/v1/rules").WithTags("Rules");
+        var group = routes.MapGroup("/v1/rules").WithTags("Rules").RequireKey();
         group.MapGet("/", GetRules)
             .WithName("GetRules")
             .WithSummary("The effective rule set for a site and asset: layers with digests, catalogues and rules.");
         group.MapPost("/check", CheckRuleFile)
             .WithName("CheckRuleFile")
             .WithSummary("Validate a candidate rule file (YAML in the body); nothing is activated.")
-            .Accepts<string>("application/yaml", "text/yaml", "text/plain");
+            .Accepts<string>("application/yaml", "text/yaml", "text/plain")
+            .RequireRoles(Policies.Admin);
+        group.MapPost("/reload", ReloadRules)
+            .WithName("ReloadRules")
+            .WithSummary("Re-read the rule directory now. On success the new digest is active; on a broken set (422) the last good set stays in force.")
+            .RequireRoles(Policies.Admin)
+            .ProducesProblem(StatusCodes.Status422UnprocessableEntity);
         return group;
     }
+
+    [LoggerMessage(EventId = 30, Level = LogLevel.Information, Message = "Rules reloaded on request of {Caller}: digest {RuleDigest}")]
+    private static partial void LogReloaded(ILogger logger, string ruleDigest, string caller);
+
+    [LoggerMessage(EventId = 31, Level = LogLevel.Warning, Message = "Rule reload requested by {Caller} refused with {ErrorCount} errors; {RuleDigest} stays in force")]
+    private static partial void LogReloadRefused(ILogger logger, int errorCount, string ruleDigest, string caller);
 
     internal static Ok<RulesDocument> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
     {
@@ -44,6 +58,32 @@ public static class RulesApi
         }
 
         return TypedResults.Ok(RulesDocument.From(set, snapshot, provider.LastError));
+    }
+
+    internal static async Task<Results<Ok<RuleReloadResult>, ProblemHttpResult>> ReloadRules(
+        HttpContext http, IRuleSetProvider provider, ILoggerFactory loggers, CancellationToken cancellationToken)
+    {
+        var result = await provider.ReloadAsync(cancellationToken).ConfigureAwait(false);
+        var caller = EvaluationsApi.CallerOf(http);
+        var logger = loggers.CreateLogger("DischargeGuard.Rules");
+        if (result.Succeeded)
+        {
+            LogReloaded(logger, result.Digest, caller);
+            return TypedResults.Ok(new RuleReloadResult(result.Digest, provider.Current.LoadedAt));
+        }
+
+        LogReloadRefused(logger, result.Errors.Count, result.Digest, caller);
+        return TypedResults.Problem(
+            detail: "The rule directory does not load; nothing changed and the last good rule set (digest below) is still in force. See 'errors' for file, line and key.",
+            statusCode: StatusCodes.Status422UnprocessableEntity,
+            title: "The rule set is invalid.",
+            type: Problems.TypeUri(Problems.RulesInvalid),
+            extensions: new Dictionary<string, object?>
+            {
+                ["code"] = Problems.RulesInvalid,
+                ["activeDigest"] = result.Digest,
+                ["errors"] = result.Errors.Select(RuleErrorDto.From).ToArray(),
+            });
     }
 
     internal static async Task<Ok<RuleCheckResult>> CheckRuleFile(HttpRequest request, [FromQuery] string? name, CancellationToken cancellationToken)
@@ -68,6 +108,9 @@ public static class RulesApi
         }
     }
 }
+
+/// <summary>The rule set in force after a successful reload.</summary>
+public sealed record RuleReloadResult(string Digest, DateTimeOffset LoadedAt);
 
 /// <summary>The effective rule set as <c>GET /v1/rules</c> returns it.</summary>
 public sealed record RulesDocument(

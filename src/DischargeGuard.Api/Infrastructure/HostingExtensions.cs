@@ -1,4 +1,5 @@
 using DischargeGuard.Api.Endpoints;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Audit.Sqlite;
 using DischargeGuard.Evaluation.Contract;
@@ -73,6 +74,7 @@ public static class HostingExtensions
             .AddCheck<AuditStoreHealthCheck>("audit");
         builder.Services.AddEndpointsApiExplorer();
         builder.Services.AddSwaggerGen(OpenApiSetup.Configure);
+        builder.AddDischargeGuardSecurity();
         return builder;
     }
 
@@ -102,6 +104,7 @@ public static class HostingExtensions
 
             return next(context);
         });
+        app.UseDischargeGuardSecurity();
         app.UseSwagger();
         app.UseSwaggerUI(o => o.DocumentTitle = "DischargeGuard API");
 

@@ -65,8 +65,28 @@ internal static class OpenApiSetup
                 },
             ],
         });
+        options.AddSecurityDefinition(Security.AuthOptions.Scheme, new OpenApiSecurityScheme
+        {
+            Type = SecuritySchemeType.ApiKey,
+            In = ParameterLocation.Header,
+            Name = Security.AuthOptions.HeaderName,
+            Description = "An API key (see docs/security.md for the roles of each endpoint). Without configured keys the service is anonymous and listens on loopback only.",
+        });
+        options.OperationFilter<ApiKeyOperationFilter>();
         options.SchemaFilter<ExampleSchemaFilter>();
         options.SupportNonNullableReferenceTypes();
+    }
+
+    // Operations behind a policy name the ApiKey scheme; health and the document itself stay anonymous.
+    private sealed class ApiKeyOperationFilter : IOperationFilter
+    {
+        public void Apply(OpenApiOperation operation, OperationFilterContext context)
+        {
+            if (context.ApiDescription.ActionDescriptor.EndpointMetadata.OfType<Microsoft.AspNetCore.Authorization.IAuthorizeData>().Any())
+            {
+                operation.Security = [new OpenApiSecurityRequirement { [new OpenApiSecuritySchemeReference(Security.AuthOptions.Scheme, context.Document)] = [] }];
+            }
+        }
     }
 
     private sealed class ExampleSchemaFilter : ISchemaFilter

@@ -13,6 +13,10 @@ internal static class Problems
     public const string NotFound = "not-found";
     public const string PayloadTooLarge = "payload-too-large";
     public const string Internal = "internal-error";
+    public const string Unauthorized = "unauthorized";
+    public const string Forbidden = "forbidden";
+    public const string RateLimited = "rate-limited";
+    public const string RulesInvalid = "rules-invalid";
 
     public static string TypeUri(string code) => "urn:dischargeguard:problem:" + code;
 

@@ -1,0 +1,118 @@
+using System.Text.RegularExpressions;
+using Microsoft.Extensions.Options;
+
+namespace DischargeGuard.Api.Infrastructure.Security;
+
+/// <summary>The roles a key can hold.</summary>
+public static class Roles
+{
+    /// <summary>Evaluates, and reads back the evaluations it recorded itself.</summary>
+    public const string Technician = "technician";
+
+    /// <summary>Reads any recorded evaluation (batch, query, export and replay will be theirs too).</summary>
+    public const string Planner = "planner";
+
+    /// <summary>An automated gate (permit system, control-of-work tool): evaluates only.</summary>
+    public const string Gate = "gate";
+
+    /// <summary>Checks and reloads rules; reads any recorded evaluation.</summary>
+    public const string Admin = "admin";
+
+    /// <summary>Every role.</summary>
+    public static readonly IReadOnlyList<string> All = [Technician, Planner, Gate, Admin];
+}
+
+/// <summary>API keys (section <c>Auth</c>). With no keys the service is anonymous and listens on loopback only.</summary>
+public sealed class AuthOptions
+{
+    /// <summary>The configuration section.</summary>
+    public const string SectionName = "Auth";
+
+    /// <summary>The header that carries the key.</summary>
+    public const string HeaderName = "X-Api-Key";
+
+    /// <summary>The authentication scheme.</summary>
+    public const string Scheme = "ApiKey";
+
+    /// <summary>The accepted keys, by the SHA-256 of the key (never the key itself).</summary>
+    public IList<ApiKeyEntry> Keys { get; } = [];
+}
+
+/// <summary>One accepted key.</summary>
+public sealed class ApiKeyEntry
+{
+    /// <summary>Who holds the key (e.g. <c>tablet-07</c>); the audit records this as the caller.</summary>
+    public string Id { get; set; } = string.Empty;
+
+    /// <summary>SHA-256 of the key's UTF-8 text, 64 hex digits.</summary>
+    public string Sha256 { get; set; } = string.Empty;
+
+    /// <summary>Roles, from <see cref="Security.Roles.All"/>.</summary>
+    public IList<string> Roles { get; } = [];
+}
+
+/// <summary>Per-caller rate limit (section <c>RateLimits</c>): a token bucket per key id, or per remote address without a key.</summary>
+public sealed class RateLimitOptions
+{
+    /// <summary>The configuration section.</summary>
+    public const string SectionName = "RateLimits";
+
+    /// <summary>Sustained requests per second per caller (fractions allowed: 0.5 is one request every 2 s).</summary>
+    [System.ComponentModel.DataAnnotations.Range(0.001, 100_000)]
+    public double PermitsPerSecond { get; set; } = 20;
+
+    /// <summary>Requests a caller may make at once before the sustained rate applies.</summary>
+    [System.ComponentModel.DataAnnotations.Range(1, 1_000_000)]
+    public int Burst { get; set; } = 40;
+}
+
+/// <summary>Refuses a key list that would fail open or be ambiguous; names the entry by index and id, never by hash.</summary>
+internal sealed partial class AuthOptionsValidator : IValidateOptions<AuthOptions>
+{
+    public ValidateOptionsResult Validate(string? name, AuthOptions options)
+    {
+        var failures = new List<string>();
+        var ids = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
+        var hashes = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
+        for (var i = 0; i < options.Keys.Count; i++)
+        {
+            var key = options.Keys[i];
+            var where = $"Auth:Keys:{i} ('{key.Id}')";
+            if (!IdPattern().IsMatch(key.Id))
+            {
+                failures.Add($"{where}: id must be 1-64 letters, digits, '.', '_' or '-', starting with a letter or digit.");
+            }
+            else if (!ids.Add(key.Id))
+            {
+                failures.Add($"{where}: id is used by another key.");
+            }
+
+            if (!HashPattern().IsMatch(key.Sha256))
+            {
+                failures.Add($"{where}: sha256 must be 64 hex digits (run the new-key command).");
+            }
+            else if (!hashes.Add(key.Sha256))
+            {
+                failures.Add($"{where}: the same key is configured twice.");
+            }
+
+            if (key.Roles.Count == 0)
+            {
+                failures.Add($"{where}: roles is empty; give at least one of {string.Join(", ", Roles.All)}.");
+            }
+
+            foreach (var role in key.Roles.Where(r => !Roles.All.Contains(r, StringComparer.Ordinal)))
+            {
+                failures.Add($"{where}: unknown role '{role}'; roles are {string.Join(", ", Roles.All)}.");
+            }
+        }
+
+        return failures.Count == 0 ? ValidateOptionsResult.Success : ValidateOptionsResult.Fail(failures);
+    }
+
+    [GeneratedRegex("^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")]
+    internal static partial Regex IdPattern();
+
+    [GeneratedRegex("^[0-9A-Fa-f]{64}$")]
+    private static partial Regex HashPattern();
+}
