@@ -9,23 +9,6 @@ public sealed class HealthTests : IAsyncLifetime
     public async Task DisposeAsync() => await _folder.CleanUpAsync();
 
     [Fact]
-    public async Task CheckHealth_WhenStoreIsOpen_ReportsReachableAndWritable()
-    {
-        var store = await _folder.OpenAsync();
-        await store.AppendAsync(Sample.Record(), CancellationToken.None);
-
-        var health = await store.CheckHealthAsync(CancellationToken.None);
-
-        Assert.True(health.Reachable);
-        Assert.True(health.Writable);
-        Assert.True(health.IsHealthy);
-        Assert.Null(health.LastError);
-        Assert.NotNull(health.LastCommitAt);
-        Assert.Equal(1, _folder.Scalar("SELECT count(*) FROM health_probe;"));
-        Assert.Equal(1, _folder.CountEvaluations()); // the probe writes its own table, never evaluations
-    }
-
-    [Fact]
     public async Task CheckHealth_WhenAnotherProcessHoldsWriteLock_ReportsNotWritableThenRecovers()
     {
         var store = await _folder.OpenAsync(_folder.Options(busyTimeout: TimeSpan.FromMilliseconds(100)));
@@ -56,18 +39,5 @@ public sealed class HealthTests : IAsyncLifetime
 
         Assert.True(recovered.Writable);
         Assert.Equal(1, _folder.CountEvaluations());
-    }
-
-    [Fact]
-    public async Task CheckHealth_WhenStoreDisposed_ReportsNeitherReachableNorWritable()
-    {
-        var store = await _folder.OpenAsync();
-        await store.DisposeAsync();
-
-        var health = await store.CheckHealthAsync(CancellationToken.None);
-
-        Assert.False(health.Reachable);
-        Assert.False(health.Writable);
-        Assert.Contains("closed", health.LastError, StringComparison.Ordinal);
     }
 }

@@ -37,114 +37,6 @@ public sealed class QueryTests : IAsyncLifetime
         .ThenByDescending(r => r.Id.ToString(), StringComparer.Ordinal);
 
     [Fact]
-    public async Task QueryPage_When25RecordsInPagesOf10_Returns3PagesNewestFirstWithoutGapsOrDuplicates()
-    {
-        var pages = new List<AuditPage>();
-        string? cursor = null;
-        do
-        {
-            var page = await _store.QueryPageAsync(new AuditQuery { Limit = 10, Cursor = cursor }, CancellationToken.None);
-            pages.Add(page);
-            cursor = page.NextCursor;
-        }
-        while (cursor is not null && pages.Count < 10);
-
-        Assert.Equal([10, 10, 5], pages.Select(p => p.Records.Count));
-        Assert.Null(pages[^1].NextCursor);
-        Assert.Equal(NewestFirst(_records).Select(r => r.Id), pages.SelectMany(p => p.Records).Select(r => r.Id));
-    }
-
-    [Fact]
-    public async Task QueryPage_WhenExactlyOnePageMatches_HasNoNextCursor()
-    {
-        var page = await _store.QueryPageAsync(new AuditQuery { Limit = 25 }, CancellationToken.None);
-
-        Assert.Equal(25, page.Records.Count);
-        Assert.Null(page.NextCursor);
-    }
-
-    [Fact]
-    public async Task Query_WhenFilteredByAssetAndVerdict_ReturnsOnlyMatchesNewestFirst()
-    {
-        var found = await ToListAsync(_store.QueryAsync(new AuditQuery { Asset = "K-101A", Verdict = AuditVerdict.Fail }, CancellationToken.None));
-
-        var expected = NewestFirst(_records.Where(r => r.Asset == "K-101A" && r.Verdict == AuditVerdict.Fail)).Select(r => r.Id).ToList();
-        Assert.NotEmpty(expected);
-        Assert.Equal(expected, found.Select(r => r.Id));
-    }
-
-    [Fact]
-    public async Task Query_WhenFilteredBySiteAndCaller_ReturnsOnlyMatches()
-    {
-        var found = await ToListAsync(_store.QueryAsync(new AuditQuery { SiteId = "osprey-flats", Caller = AuditRecord.AnonymousCaller }, CancellationToken.None));
-
-        var expected = NewestFirst(_records.Where(r => r.SiteId == "osprey-flats" && r.Caller == AuditRecord.AnonymousCaller)).Select(r => r.Id).ToList();
-        Assert.NotEmpty(expected);
-        Assert.Equal(expected, found.Select(r => r.Id));
-    }
-
-    [Fact]
-    public async Task Query_WhenTimeWindowGiven_IncludesFromAndExcludesTo()
-    {
-        var from = Sample.Start.AddMinutes(2);
-        var to = Sample.Start.AddMinutes(5);
-
-        var found = await ToListAsync(_store.QueryAsync(new AuditQuery { From = from, To = to }, CancellationToken.None));
-
-        Assert.Equal(9, found.Count); // minutes 2, 3 and 4, three records each
-        Assert.Contains(found, r => r.EvaluatedAt == from);
-        Assert.DoesNotContain(found, r => r.EvaluatedAt >= to);
-        Assert.Equal(NewestFirst(_records.Where(r => r.EvaluatedAt >= from && r.EvaluatedAt < to)).Select(r => r.Id), found.Select(r => r.Id));
-    }
-
-    [Fact]
-    public async Task QueryPage_WhenFilteredAndPaged_PagesCoverExactlyTheFilteredSet()
-    {
-        var query = new AuditQuery { Asset = "K-102B", Limit = 5 };
-        var ids = new List<Guid>();
-        string? cursor = null;
-        var pages = 0;
-        do
-        {
-            var page = await _store.QueryPageAsync(query with { Cursor = cursor }, CancellationToken.None);
-            ids.AddRange(page.Records.Select(r => r.Id));
-            cursor = page.NextCursor;
-            pages++;
-        }
-        while (cursor is not null && pages < 10);
-
-        Assert.Equal(NewestFirst(_records.Where(r => r.Asset == "K-102B")).Select(r => r.Id), ids);
-        Assert.Equal(3, pages); // 12 records in pages of 5
-    }
-
-    [Fact]
-    public async Task Query_WhenLimitSetOnStream_StopsAfterLimit()
-    {
-        var found = await ToListAsync(_store.QueryAsync(new AuditQuery { Limit = 4 }, CancellationToken.None));
-
-        Assert.Equal(NewestFirst(_records).Take(4).Select(r => r.Id), found.Select(r => r.Id));
-    }
-
-    [Theory]
-    [InlineData("not-a-cursor")]
-    [InlineData("")]
-    [InlineData("AQAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAA==")] // padded: not the canonical spelling
-    [InlineData("AgAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAA")] // format byte 2 is unknown
-    public void Query_WhenCursorIsNotAToken_ThrowsArgumentExceptionAtCall(string cursor)
-    {
-        Assert.Throws<ArgumentException>(() => _store.QueryAsync(new AuditQuery { Cursor = cursor }, CancellationToken.None));
-    }
-
-    [Fact]
-    public async Task Query_WhenCursorIsOlderThanEveryRecord_ReturnsNothing()
-    {
-        // Format 1, tick 0, the zero id: well formed, and before every record.
-        var found = await ToListAsync(_store.QueryAsync(new AuditQuery { Cursor = "AQAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAAA" }, CancellationToken.None));
-
-        Assert.Empty(found);
-    }
-
-    [Fact]
     public void Cursor_WhenRoundTripped_KeepsTicksAndId()
     {
         var record = _records[7] with { EvaluatedAt = Sample.Start.AddTicks(9_876_543) };
@@ -156,13 +48,6 @@ public sealed class QueryTests : IAsyncLifetime
         Assert.Equal(34, token.Length);
         Assert.DoesNotContain('=', token);
         Assert.False(AuditCursor.TryParse("B" + token[1..], out _)); // unknown format byte
-    }
-
-    [Fact]
-    public async Task QueryPage_WhenLimitOutOfRange_ThrowsArgumentOutOfRange()
-    {
-        await Assert.ThrowsAsync<ArgumentOutOfRangeException>(() => _store.QueryPageAsync(new AuditQuery { Limit = 0 }, CancellationToken.None));
-        await Assert.ThrowsAsync<ArgumentOutOfRangeException>(() => _store.QueryPageAsync(new AuditQuery { Limit = AuditQuery.MaxPageSize + 1 }, CancellationToken.None));
     }
 
     [Theory]
@@ -192,16 +77,5 @@ public sealed class QueryTests : IAsyncLifetime
         var text = string.Join(" | ", details);
         Assert.Contains(index, text, StringComparison.Ordinal);
         Assert.DoesNotContain("TEMP B-TREE", text, StringComparison.Ordinal);
-    }
-
-    private static async Task<List<AuditRecord>> ToListAsync(IAsyncEnumerable<AuditRecord> source)
-    {
-        var list = new List<AuditRecord>();
-        await foreach (var item in source)
-        {
-            list.Add(item);
-        }
-
-        return list;
     }
 }

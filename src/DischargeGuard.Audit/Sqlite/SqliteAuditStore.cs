@@ -642,7 +642,7 @@ public sealed class SqliteAuditStore : IAuditStore
 
     internal static string FormatId(Guid id) => id.ToString("D", CultureInfo.InvariantCulture);
 
-    private static AuditRecord Prepare(AuditRecord record)
+    internal static AuditRecord Prepare(AuditRecord record)
     {
         ArgumentNullException.ThrowIfNull(record);
         if (record.Id.Version != 7)

@@ -1,0 +1,115 @@
+using DischargeGuard.Audit.Postgres;
+using Npgsql;
+
+namespace DischargeGuard.Audit.Tests.Postgres;
+
+/// <summary>What only the PostgreSQL store has: migration under an advisory lock, the durability check, its triggers and checks.</summary>
+[Collection(PostgresServerGroup.Name)]
+public sealed class PostgresAuditStoreTests(PostgresFixture fixture) : IAsyncLifetime
+{
+    private readonly List<IAuditStore> _stores = [];
+    private string _connectionString = null!;
+
+    public async Task InitializeAsync()
+    {
+        var server = fixture.RequireServer();
+        _connectionString = server.ConnectionString(await server.CreateDatabaseAsync());
+    }
+
+    public async Task DisposeAsync()
+    {
+        foreach (var store in _stores)
+        {
+            await store.DisposeAsync();
+        }
+    }
+
+    private async Task<PostgresAuditStore> OpenAsync(string? connectionString = null)
+    {
+        var store = await PostgresAuditStore.OpenAsync(new PostgresAuditStoreOptions { ConnectionString = connectionString ?? _connectionString }, CancellationToken.None);
+        _stores.Add(store);
+        return store;
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenReplicasStartAtOnceOnAFreshDatabase_AllSucceedAndEachMigrationIsAppliedOnce()
+    {
+        var opening = Enumerable.Range(0, 4).Select(_ => Task.Run(() => OpenAsync())).ToArray();
+
+        var stores = await Task.WhenAll(opening);
+
+        Assert.Equal(PostgresAuditSchema.Migrations.Count, await PostgresRaw.ScalarAsync(_connectionString, "SELECT count(*) FROM schema_migrations;"));
+        Assert.Equal(PostgresAuditSchema.LatestVersion, await PostgresRaw.ScalarAsync(_connectionString, "SELECT max(version) FROM schema_migrations;"));
+        await Task.WhenAll(stores.Select((s, i) => s.AppendAsync(Sample.Record(asset: $"K-10{i}A"), CancellationToken.None).AsTask()));
+        Assert.Equal(4, await PostgresRaw.ScalarAsync(_connectionString, "SELECT count(*) FROM evaluations;"));
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenDatabaseIsCurrent_AppliesNothing()
+    {
+        await (await OpenAsync()).DisposeAsync();
+        var appliedAt = await PostgresRaw.ScalarAsync(_connectionString, "SELECT extract(epoch FROM max(applied_at))::bigint FROM schema_migrations;");
+
+        await OpenAsync();
+
+        Assert.Equal(PostgresAuditSchema.Migrations.Count, await PostgresRaw.ScalarAsync(_connectionString, "SELECT count(*) FROM schema_migrations;"));
+        Assert.Equal(appliedAt, await PostgresRaw.ScalarAsync(_connectionString, "SELECT extract(epoch FROM max(applied_at))::bigint FROM schema_migrations;"));
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenSchemaIsNewerThanThisBuild_ThrowsUnavailable()
+    {
+        await (await OpenAsync()).DisposeAsync();
+        await ExecuteAsync("INSERT INTO schema_migrations (version, description) VALUES (99, 'from a later build');");
+
+        var e = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => OpenAsync());
+
+        Assert.Contains("version 99", e.Message, StringComparison.Ordinal);
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenSessionHasSynchronousCommitOff_RefusesToStart()
+    {
+        var relaxed = new NpgsqlConnectionStringBuilder(_connectionString) { Options = "-c synchronous_commit=off" }.ConnectionString;
+
+        var e = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => OpenAsync(relaxed));
+
+        Assert.Contains("synchronous_commit=off", e.Message, StringComparison.Ordinal);
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenNothingListens_ThrowsUnavailable()
+    {
+        var listener = new System.Net.Sockets.TcpListener(System.Net.IPAddress.Loopback, 0);
+        listener.Start();
+        var port = ((System.Net.IPEndPoint)listener.LocalEndpoint).Port;
+        listener.Stop();
+        var nowhere = new NpgsqlConnectionStringBuilder(_connectionString) { Port = port }.ConnectionString;
+
+        await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => OpenAsync(nowhere));
+    }
+
+    [SkippableTheory]
+    [InlineData("TRUNCATE evaluations;", "evaluations are append-only")]
+    [InlineData("TRUNCATE retention_grants;", "retention grants are append-only")]
+    [InlineData("INSERT INTO evaluations SELECT * FROM evaluations ON CONFLICT (id) DO UPDATE SET verdict = 'fail';", "evaluations are append-only")]
+    [InlineData("INSERT INTO evaluations SELECT * FROM evaluations;", "evaluations_pkey")]
+    [InlineData("INSERT INTO evaluations SELECT gen_random_uuid(), evaluated_at, evaluated_at_tick, caller, asset, site_id, verdict, rule_digest, engine_version, request, request_sha256, '\\x7b7d', response_sha256, replay_of FROM evaluations;", "evaluations_response_hash")]
+    public async Task RawSql_WhenItWouldRewriteOrForgeARecord_IsRefused(string sql, string reason)
+    {
+        var store = await OpenAsync();
+        await store.AppendAsync(Sample.Record(), CancellationToken.None);
+
+        var e = await Assert.ThrowsAsync<PostgresException>(() => ExecuteAsync(sql));
+
+        Assert.Contains(reason, e.Message + " " + e.ConstraintName, StringComparison.Ordinal);
+        Assert.Equal(1, await PostgresRaw.ScalarAsync(_connectionString, "SELECT count(*) FROM evaluations WHERE verdict = 'pass';"));
+    }
+
+    private async Task ExecuteAsync(string sql)
+    {
+        await using var connection = await PostgresRaw.OpenAsync(_connectionString);
+        await using var command = new NpgsqlCommand(sql, connection);
+        await command.ExecuteNonQueryAsync();
+    }
+}
