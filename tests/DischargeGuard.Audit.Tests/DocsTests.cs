@@ -17,6 +17,20 @@ public class DocsTests
         Assert.True(missing.Count == 0, "Migrations not in docs/audit.md: " + string.Join(", ", missing));
     }
 
+    [Fact]
+    public void AuditDoc_WhenPostgresMigrationsChange_ListsEveryMigrationInThePostgresSection()
+    {
+        var doc = File.ReadAllText(Path.Combine(RepoRoot(), "docs", "audit.md"));
+        var section = doc[doc.IndexOf("## PostgreSQL", StringComparison.Ordinal)..];
+
+        var missing = DischargeGuard.Audit.Postgres.PostgresAuditSchema.Migrations
+            .Where(m => !section.Contains($"| {m.Version} | {m.Description} |", StringComparison.Ordinal))
+            .Select(m => m.Version)
+            .ToList();
+
+        Assert.True(missing.Count == 0, "PostgreSQL migrations not in docs/audit.md: " + string.Join(", ", missing));
+    }
+
     private static string RepoRoot()
     {
         for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)

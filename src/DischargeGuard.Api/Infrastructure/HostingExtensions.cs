@@ -56,6 +56,17 @@ public static class HostingExtensions
         builder.Services.AddSingleton<IAuditStore>(sp =>
         {
             var settings = sp.GetRequiredService<IOptions<AuditSettings>>().Value;
+            if (settings.Provider == "postgresql")
+            {
+                if (string.IsNullOrWhiteSpace(settings.ConnectionString))
+                {
+                    throw new InvalidOperationException("Audit:ConnectionString must be set when Audit:Provider is 'postgresql'.");
+                }
+
+                var pgOptions = new DischargeGuard.Audit.Postgres.PostgresAuditStoreOptions { ConnectionString = settings.ConnectionString, MaxBatchSize = settings.MaxBatchSize };
+                return DischargeGuard.Audit.Postgres.PostgresAuditStore.OpenAsync(pgOptions, CancellationToken.None).GetAwaiter().GetResult();
+            }
+
             var path = Path.IsPathRooted(settings.SqlitePath) ? settings.SqlitePath : Path.Combine(builder.Environment.ContentRootPath, settings.SqlitePath);
             var options = new AuditStoreOptions { SqlitePath = path, MaxBatchSize = settings.MaxBatchSize };
 

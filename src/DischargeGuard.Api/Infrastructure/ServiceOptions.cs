@@ -33,13 +33,16 @@ public sealed class AuditSettings
     /// <summary>The configuration section.</summary>
     public const string SectionName = "Audit";
 
-    /// <summary>Store provider: sqlite.</summary>
-    [RegularExpression("^sqlite$", ErrorMessage = "Audit:Provider must be 'sqlite'.")]
+    /// <summary>Store provider: sqlite (a local file) or postgresql (a server, see <see cref="ConnectionString"/>).</summary>
+    [RegularExpression("^(sqlite|postgresql)$", ErrorMessage = "Audit:Provider must be 'sqlite' or 'postgresql'.")]
     public string Provider { get; set; } = "sqlite";
 
-    /// <summary>SQLite file; a relative path is under the content root.</summary>
+    /// <summary>SQLite file; a relative path is under the content root. Used when the provider is sqlite.</summary>
     [Required]
     public string SqlitePath { get; set; } = "data/audit.db";
+
+    /// <summary>Npgsql connection string; required when the provider is postgresql (keep the password in a secret, not in appsettings).</summary>
+    public string ConnectionString { get; set; } = string.Empty;
 
     /// <summary>Most records committed in one transaction.</summary>
     [Range(1, 10_000)]
