@@ -17,6 +17,7 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
     [
         ("POST /v1/evaluations", [Roles.Technician, Roles.Gate]),
         ("GET /v1/evaluations/{id}", [Roles.Technician, Roles.Planner, Roles.Admin]),
+        ("GET /v1/evaluations/{id}/verify", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/rules", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("GET /v1/gases", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("POST /v1/rules/check", [Roles.Admin]),

@@ -279,6 +279,33 @@ public sealed class EvaluationContractTests(ServiceFactory factory) : IClassFixt
     }
 
     [Fact]
+    public async Task VerifyEvaluation_WhenRecordIsUntouched_RecomputesBothHashesAndReportsIntact()
+    {
+        var requestText = Requests.PassingStage().ToJsonString();
+        using var post = await factory.EvaluateRawAsync(requestText);
+        var postBytes = await post.Content.ReadAsByteArrayAsync();
+        var id = JsonDocument.Parse(postBytes).RootElement.At("id").GetGuid();
+
+        var (response, verify) = await factory.GetJsonAsync($"/v1/evaluations/{id}/verify");
+
+        // SHA-256 as specified in FIPS 180-4, computed here by the framework over the bytes the client sent and received.
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.True(verify.At("intact").GetBoolean());
+        Assert.Equal(Convert.ToHexStringLower(System.Security.Cryptography.SHA256.HashData(postBytes)), verify.At("responseSha256").GetString());
+        Assert.Equal(verify.At("responseSha256").GetString(), verify.At("storedResponseSha256").GetString());
+        Assert.Equal(Convert.ToHexStringLower(System.Security.Cryptography.SHA256.HashData(Encoding.UTF8.GetBytes(requestText))), verify.At("requestSha256").GetString());
+        Assert.Equal(verify.At("requestSha256").GetString(), verify.At("storedRequestSha256").GetString());
+    }
+
+    [Fact]
+    public async Task VerifyEvaluation_WhenIdIsUnknown_Answers404Problem()
+    {
+        using var client = factory.CreateClient();
+        using var response = await client.GetAsync(new Uri($"/v1/evaluations/{Guid.CreateVersion7()}/verify", UriKind.Relative));
+        await AssertEx.ProblemAsync(response, HttpStatusCode.NotFound, "not-found");
+    }
+
+    [Fact]
     public async Task GetEvaluation_WhenIdIsUnknown_Answers404Problem()
     {
         var unknown = Guid.CreateVersion7();

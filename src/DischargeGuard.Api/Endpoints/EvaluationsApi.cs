@@ -38,6 +38,10 @@ public static partial class EvaluationsApi
             .WithDescription("Planner and admin keys read any record; a technician key reads only the records it made (others answer 404).")
             .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
+        group.MapGet("/{id:guid}/verify", VerifyEvaluation)
+            .WithName("VerifyEvaluation")
+            .WithSummary("Recompute the SHA-256 of a record's stored request and response and compare them with the hashes stored when it was written.")
+            .RequireRoles(Policies.ReadEvaluation);
         return group;
     }
 
@@ -111,6 +115,23 @@ public static partial class EvaluationsApi
         return record is null || !MayRead(user, keys, record)
             ? Problems.Missing($"No evaluation with id {id} is recorded.")
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
+    }
+
+    internal static async Task<Results<Ok<VerificationResult>, ProblemHttpResult>> VerifyEvaluation(
+        Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
+    {
+        var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
+        if (record is null || !MayRead(user, keys, record))
+        {
+            return Problems.Missing($"No evaluation with id {id} is recorded.");
+        }
+
+        // Recompute from the stored bytes; the hashes stored beside them were taken when the record was written.
+        var requestSha256 = AuditDigest.Sha256Hex(record.Request);
+        var responseSha256 = AuditDigest.Sha256Hex(record.Response);
+        var intact = string.Equals(requestSha256, record.RequestSha256, StringComparison.Ordinal)
+            && string.Equals(responseSha256, record.ResponseSha256, StringComparison.Ordinal);
+        return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty));
     }
 
     internal static bool MayRead(ClaimsPrincipal user, ApiKeyRegistry keys, AuditRecord record) =>
@@ -193,3 +214,12 @@ public sealed record StoredEvaluation(
         return buffer.ToArray();
     }
 }
+
+/// <summary>The answer of <c>GET /v1/evaluations/{id}/verify</c>.</summary>
+/// <param name="Id">The evaluation.</param>
+/// <param name="Intact">Whether both recomputed hashes equal the stored ones.</param>
+/// <param name="RequestSha256">SHA-256 (hex) recomputed from the stored request bytes.</param>
+/// <param name="StoredRequestSha256">The request hash stored with the record.</param>
+/// <param name="ResponseSha256">SHA-256 (hex) recomputed from the stored response bytes.</param>
+/// <param name="StoredResponseSha256">The response hash stored with the record.</param>
+public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256);
