@@ -16,6 +16,7 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
     private static readonly (string Endpoint, string[] Allowed)[] Table =
     [
         ("POST /v1/evaluations", [Roles.Technician, Roles.Gate]),
+        ("GET /v1/evaluations", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}/verify", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/rules", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),

@@ -298,6 +298,42 @@ public sealed class EvaluationContractTests(ServiceFactory factory) : IClassFixt
     }
 
     [Fact]
+    public async Task ListEvaluations_ForOneAsset_PagesNewestFirstWithoutGapsOrRepeats()
+    {
+        var asset = "K-3" + Guid.NewGuid().ToString("N")[..6];
+        var ids = new List<Guid>();
+        for (var i = 0; i < 3; i++)
+        {
+            var request = Requests.PassingStage();
+            request["asset"] = asset;
+            using var post = await factory.EvaluateRawAsync(request.ToJsonString());
+            ids.Add((await Json.ReadAsync(post)).At("id").GetGuid());
+        }
+
+        var (first, page1) = await factory.GetJsonAsync($"/v1/evaluations?asset={asset}&limit=2");
+        Assert.Equal(HttpStatusCode.OK, first.StatusCode);
+        var cursor = page1.At("nextCursor").GetString();
+        var (_, page2) = await factory.GetJsonAsync($"/v1/evaluations?asset={asset}&limit=2&cursor={cursor}");
+
+        var listed = page1.At("evaluations").EnumerateArray().Concat(page2.At("evaluations").EnumerateArray()).Select(e => e.At("id").GetGuid()).ToList();
+        Assert.Equal(ids.AsEnumerable().Reverse(), listed); // UUIDv7 ids were made in time order; the list is newest first
+        Assert.False(page2.Has("nextCursor"));
+        Assert.All(page1.At("evaluations").EnumerateArray(), e => Assert.Equal(asset, e.At("asset").GetString()));
+    }
+
+    [Theory]
+    [InlineData("verdict=passed", "verdict")]
+    [InlineData("limit=0", "limit")]
+    [InlineData("cursor=not-a-cursor", "cursor")]
+    [InlineData("from=2026-12-02T00:00:00Z&to=2026-12-01T00:00:00Z", "to")]
+    public async Task ListEvaluations_WithBadQuery_Answers400NamingTheParameter(string query, string field)
+    {
+        var (response, problem) = await factory.GetJsonAsync($"/v1/evaluations?{query}");
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.True(problem.At("errors").TryGetProperty(field, out _), problem.ToString());
+    }
+
+    [Fact]
     public async Task VerifyEvaluation_WhenIdIsUnknown_Answers404Problem()
     {
         using var client = factory.CreateClient();

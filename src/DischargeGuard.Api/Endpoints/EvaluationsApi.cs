@@ -38,6 +38,11 @@ public static partial class EvaluationsApi
             .WithDescription("Planner and admin keys read any record; a technician key reads only the records it made (others answer 404).")
             .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
+        group.MapGet("/", ListEvaluations)
+            .WithName("ListEvaluations")
+            .WithSummary("Recorded evaluations, newest first, with keyset paging (cursor); filters by asset, site, verdict and time.")
+            .WithDescription("Planner and admin keys list every record; a technician key lists only the records it made. `from` is inclusive, `to` exclusive (ISO 8601).")
+            .RequireRoles(Policies.ReadEvaluation);
         group.MapGet("/{id:guid}/verify", VerifyEvaluation)
             .WithName("VerifyEvaluation")
             .WithSummary("Recompute the SHA-256 of a record's stored request and response and compare them with the hashes stored when it was written.")
@@ -134,6 +139,55 @@ public static partial class EvaluationsApi
         return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty));
     }
 
+    internal static async Task<Results<Ok<EvaluationList>, ValidationProblem>> ListEvaluations(
+        [FromQuery] string? asset,
+        [FromQuery] string? site,
+        [FromQuery] string? verdict,
+        [FromQuery] DateTimeOffset? from,
+        [FromQuery] DateTimeOffset? to,
+        [FromQuery] string? cursor,
+        [FromQuery] int? limit,
+        ClaimsPrincipal user,
+        ApiKeyRegistry keys,
+        IAuditStore audit,
+        CancellationToken cancellationToken)
+    {
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        if (verdict is not null && !AuditVerdict.IsKnown(verdict))
+        {
+            errors["verdict"] = ["Accepted values: 'pass', 'review', 'fail'."];
+        }
+
+        if (limit is < 1 or > AuditQuery.MaxPageSize)
+        {
+            errors["limit"] = [$"The page size must be 1 to {AuditQuery.MaxPageSize}."];
+        }
+
+        if (cursor is not null && !AuditCursor.TryParse(cursor, out _))
+        {
+            errors["cursor"] = ["Not a cursor this service issued; pass back the nextCursor of the previous page unchanged."];
+        }
+
+        if (from is not null && to is not null && from >= to)
+        {
+            errors["to"] = ["'to' must be later than 'from'."];
+        }
+
+        if (errors.Count > 0)
+        {
+            return Problems.Validation(errors);
+        }
+
+        // A technician lists only the records it made, as it reads only those.
+        var caller = keys.IsOpen || user.IsInRole(Roles.Planner) || user.IsInRole(Roles.Admin) ? null : user.Identity?.Name ?? AuditRecord.AnonymousCaller;
+        var page = await audit.QueryPageAsync(
+            new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit, Caller = caller },
+            cancellationToken).ConfigureAwait(false);
+        return TypedResults.Ok(new EvaluationList(
+            page.Records.Select(r => new EvaluationSummary(r.Id, r.EvaluatedAt, r.Caller, r.Asset, r.SiteId, r.Verdict, r.RuleDigest, r.EngineVersion)).ToArray(),
+            page.NextCursor));
+    }
+
     internal static bool MayRead(ClaimsPrincipal user, ApiKeyRegistry keys, AuditRecord record) =>
         keys.IsOpen
         || user.IsInRole(Roles.Planner)
@@ -223,3 +277,11 @@ public sealed record StoredEvaluation(
 /// <param name="ResponseSha256">SHA-256 (hex) recomputed from the stored response bytes.</param>
 /// <param name="StoredResponseSha256">The response hash stored with the record.</param>
 public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256);
+
+/// <summary>A page of recorded evaluations, newest first.</summary>
+/// <param name="Evaluations">The records on this page (without their bodies: read one with <c>GET /v1/evaluations/{id}</c>).</param>
+/// <param name="NextCursor">Pass as <c>cursor</c> for the next page; absent on the last page.</param>
+public sealed record EvaluationList(IReadOnlyList<EvaluationSummary> Evaluations, string? NextCursor);
+
+/// <summary>One recorded evaluation in a list.</summary>
+public sealed record EvaluationSummary(Guid Id, DateTimeOffset EvaluatedAt, string Caller, string Asset, string? Site, string Verdict, string RuleDigest, string EngineVersion);
