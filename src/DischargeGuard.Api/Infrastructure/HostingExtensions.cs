@@ -23,7 +23,10 @@ public static class HostingExtensions
         builder.Services.AddOptions<ServiceOptions>().BindConfiguration(ServiceOptions.SectionName).ValidateDataAnnotations().ValidateOnStart();
         builder.Services.AddOptions<AuditSettings>().BindConfiguration(AuditSettings.SectionName).ValidateDataAnnotations().ValidateOnStart();
 
-        builder.Services.AddSerilog((services, logger) => logger
+        // preserveStaticLogger: each host builds its own logger instead of freezing the static bootstrap logger, which can be
+        // frozen only once per process (a second host in the same process, as in the in-process tests, would fail to start).
+        builder.Services.AddSerilog(
+            (services, logger) => logger
             .ReadFrom.Configuration(builder.Configuration)
             .Enrich.FromLogContext()
             // Log events are not the audit trail (that is the store), so they may be written in the background;
@@ -35,7 +38,8 @@ public static class HostingExtensions
                     Path.Combine(builder.Environment.ContentRootPath, "data", "logs", "dischargeguard-.log"),
                     rollingInterval: RollingInterval.Day,
                     retainedFileCountLimit: 14),
-                blockWhenFull: true));
+                blockWhenFull: true),
+            preserveStaticLogger: true);
 
         builder.WebHost.ConfigureKestrel((context, kestrel) =>
             kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue<long?>($"{ServiceOptions.SectionName}:MaxRequestBodyBytes") ?? 1024 * 1024);
@@ -94,7 +98,11 @@ public static class HostingExtensions
     {
         ArgumentNullException.ThrowIfNull(app);
         // Outermost, so the one event per request carries the status the client received.
-        app.UseSerilogRequestLogging(o => o.MessageTemplate = "HTTP {RequestMethod} {RequestPath} responded {StatusCode} in {Elapsed:0.0} ms");
+        app.UseSerilogRequestLogging(o =>
+        {
+            o.MessageTemplate = "HTTP {RequestMethod} {RequestPath} responded {StatusCode} in {Elapsed:0.0} ms";
+            o.Logger = app.Services.GetRequiredService<Serilog.ILogger>();
+        });
         app.UseExceptionHandler();
         app.UseStatusCodePages();
         app.Use((context, next) =>
