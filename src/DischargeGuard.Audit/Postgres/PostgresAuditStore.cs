@@ -39,7 +39,7 @@ public sealed class PostgresAuditStore : IAuditStore
     private readonly PostgresAuditStoreOptions _options;
     private readonly NpgsqlDataSource _writerSource;
     private readonly NpgsqlDataSource _readerSource;
-    private readonly Channel<WorkItem> _queue;
+    private readonly Channel<AuditWorkItem> _queue;
     private readonly CancellationTokenSource _closing = new();
     private readonly Lock _stateLock = new();
     private Task _writerLoop = Task.CompletedTask;
@@ -69,7 +69,7 @@ public sealed class PostgresAuditStore : IAuditStore
         var reader = new NpgsqlConnectionStringBuilder(builder.ConnectionString) { Pooling = true, ApplicationName = "dischargeguard-audit-reader" };
         _writerSource = NpgsqlDataSource.Create(writer.ConnectionString);
         _readerSource = NpgsqlDataSource.Create(reader.ConnectionString);
-        _queue = Channel.CreateBounded<WorkItem>(new BoundedChannelOptions(options.QueueCapacity)
+        _queue = Channel.CreateBounded<AuditWorkItem>(new BoundedChannelOptions(options.QueueCapacity)
         {
             SingleReader = true,
             FullMode = BoundedChannelFullMode.Wait,
@@ -120,7 +120,7 @@ public sealed class PostgresAuditStore : IAuditStore
     /// <inheritdoc />
     public async ValueTask AppendAsync(AuditRecord record, CancellationToken cancellationToken)
     {
-        var item = WorkItem.ForAppend(SqliteAuditStore.Prepare(record), cancellationToken);
+        var item = AuditWorkItem.ForAppend(SqliteAuditStore.Prepare(record), cancellationToken);
         cancellationToken.ThrowIfCancellationRequested();
         ThrowIfDisposed();
         try
@@ -198,7 +198,7 @@ public sealed class PostgresAuditStore : IAuditStore
         var writable = false;
         if (reachable)
         {
-            var probe = WorkItem.ForControl(ProbeWriteAsync, cancellationToken);
+            var probe = AuditWorkItem.ForControl(ProbeWriteAsync, cancellationToken);
             try
             {
                 await _queue.Writer.WriteAsync(probe, cancellationToken).ConfigureAwait(false);
@@ -251,7 +251,7 @@ public sealed class PostgresAuditStore : IAuditStore
     internal async Task HoldWriterForTestingAsync(Task release)
     {
         var held = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-        var item = WorkItem.ForControl(
+        var item = AuditWorkItem.ForControl(
             async () =>
             {
                 held.SetResult();
@@ -265,7 +265,7 @@ public sealed class PostgresAuditStore : IAuditStore
     private async Task RunWriterAsync()
     {
         var reader = _queue.Reader;
-        var batch = new List<WorkItem>(_options.MaxBatchSize);
+        var batch = new List<AuditWorkItem>(_options.MaxBatchSize);
         try
         {
             while (await reader.WaitToReadAsync().ConfigureAwait(false))
@@ -275,7 +275,7 @@ public sealed class PostgresAuditStore : IAuditStore
                     break;
                 }
 
-                WorkItem? control = null;
+                AuditWorkItem? control = null;
                 while (batch.Count < _options.MaxBatchSize && reader.TryRead(out var item))
                 {
                     if (item.Control is not null)
@@ -315,7 +315,7 @@ public sealed class PostgresAuditStore : IAuditStore
         }
     }
 
-    private async Task CommitBatchAsync(List<WorkItem> batch)
+    private async Task CommitBatchAsync(List<AuditWorkItem> batch)
     {
         try
         {
@@ -418,7 +418,7 @@ public sealed class PostgresAuditStore : IAuditStore
         return (new DateTimeOffset(ticks - tick, TimeSpan.Zero), tick);
     }
 
-    private async Task RunControlAsync(WorkItem control)
+    private async Task RunControlAsync(AuditWorkItem control)
     {
         try
         {
@@ -629,29 +629,6 @@ public sealed class PostgresAuditStore : IAuditStore
         }
     }
 
-    /// <summary>An append waiting for the writer, or a piece of work the writer must do between batches.</summary>
-    private sealed class WorkItem
-    {
-        private WorkItem(AuditRecord? record, Func<Task>? control, CancellationToken cancellationToken)
-        {
-            Record = record;
-            Control = control;
-            CancellationToken = cancellationToken;
-        }
-
-        public AuditRecord? Record { get; }
-
-        public Func<Task>? Control { get; }
-
-        public CancellationToken CancellationToken { get; }
-
-        // Continuations run off the writer, so a batch's callers do not run on (and stall) the writer loop.
-        public TaskCompletionSource Completion { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
-
-        public static WorkItem ForAppend(AuditRecord record, CancellationToken cancellationToken) => new(record, null, cancellationToken);
-
-        public static WorkItem ForControl(Func<Task> control, CancellationToken cancellationToken) => new(null, control, cancellationToken);
-    }
 
     /// <summary>The SQL and parameters of one query, validated before anything is read.</summary>
     internal sealed class QueryPlan

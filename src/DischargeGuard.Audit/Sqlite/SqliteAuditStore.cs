@@ -37,7 +37,7 @@ public sealed class SqliteAuditStore : IAuditStore
     private readonly AuditStoreOptions _options;
     private readonly string _writerConnectionString;
     private readonly string _readerConnectionString;
-    private readonly Channel<WorkItem> _queue;
+    private readonly Channel<AuditWorkItem> _queue;
     private readonly CancellationTokenSource _closing = new();
     private readonly Lock _stateLock = new();
     private Task _writerLoop = Task.CompletedTask;
@@ -74,7 +74,7 @@ public sealed class SqliteAuditStore : IAuditStore
             Pooling = true,
             DefaultTimeout = timeoutSeconds,
         }.ToString();
-        _queue = Channel.CreateBounded<WorkItem>(new BoundedChannelOptions(options.QueueCapacity)
+        _queue = Channel.CreateBounded<AuditWorkItem>(new BoundedChannelOptions(options.QueueCapacity)
         {
             SingleReader = true,
             FullMode = BoundedChannelFullMode.Wait,
@@ -139,7 +139,7 @@ public sealed class SqliteAuditStore : IAuditStore
     /// <inheritdoc />
     public async ValueTask AppendAsync(AuditRecord record, CancellationToken cancellationToken)
     {
-        var item = WorkItem.ForAppend(Prepare(record), cancellationToken);
+        var item = AuditWorkItem.ForAppend(Prepare(record), cancellationToken);
         cancellationToken.ThrowIfCancellationRequested();
         ThrowIfDisposed();
         try
@@ -217,7 +217,7 @@ public sealed class SqliteAuditStore : IAuditStore
         var writable = false;
         if (reachable)
         {
-            var probe = WorkItem.ForControl(ProbeWrite, cancellationToken);
+            var probe = AuditWorkItem.ForControl(ProbeWrite, cancellationToken);
             try
             {
                 await _queue.Writer.WriteAsync(probe, cancellationToken).ConfigureAwait(false);
@@ -274,7 +274,7 @@ public sealed class SqliteAuditStore : IAuditStore
     internal async Task<long> SetMaxPageCountForTestingAsync(long? maxPages)
     {
         long pageCount = 0;
-        var item = WorkItem.ForControl(
+        var item = AuditWorkItem.ForControl(
             () =>
             {
                 _maxPageCountForTesting = maxPages;
@@ -300,7 +300,7 @@ public sealed class SqliteAuditStore : IAuditStore
     internal async Task HoldWriterForTestingAsync(Task release)
     {
         var held = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-        var item = WorkItem.ForControl(
+        var item = AuditWorkItem.ForControl(
             async () =>
             {
                 held.SetResult();
@@ -314,7 +314,7 @@ public sealed class SqliteAuditStore : IAuditStore
     private async Task RunWriterAsync()
     {
         var reader = _queue.Reader;
-        var batch = new List<WorkItem>(_options.MaxBatchSize);
+        var batch = new List<AuditWorkItem>(_options.MaxBatchSize);
         try
         {
             while (await reader.WaitToReadAsync().ConfigureAwait(false))
@@ -324,7 +324,7 @@ public sealed class SqliteAuditStore : IAuditStore
                     break;
                 }
 
-                WorkItem? control = null;
+                AuditWorkItem? control = null;
                 while (batch.Count < _options.MaxBatchSize && reader.TryRead(out var item))
                 {
                     if (item.Control is not null)
@@ -364,7 +364,7 @@ public sealed class SqliteAuditStore : IAuditStore
         }
     }
 
-    private void CommitBatch(List<WorkItem> batch)
+    private void CommitBatch(List<AuditWorkItem> batch)
     {
         try
         {
@@ -418,7 +418,7 @@ public sealed class SqliteAuditStore : IAuditStore
         }
     }
 
-    private async Task RunControlAsync(WorkItem control)
+    private async Task RunControlAsync(AuditWorkItem control)
     {
         try
         {
@@ -744,29 +744,6 @@ public sealed class SqliteAuditStore : IAuditStore
         }
     }
 
-    /// <summary>An append waiting for the writer, or a piece of work the writer must do between batches.</summary>
-    private sealed class WorkItem
-    {
-        private WorkItem(AuditRecord? record, Func<Task>? control, CancellationToken cancellationToken)
-        {
-            Record = record;
-            Control = control;
-            CancellationToken = cancellationToken;
-        }
-
-        public AuditRecord? Record { get; }
-
-        public Func<Task>? Control { get; }
-
-        public CancellationToken CancellationToken { get; }
-
-        // Continuations run off the writer, so a batch's callers do not run on (and stall) the writer loop.
-        public TaskCompletionSource Completion { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
-
-        public static WorkItem ForAppend(AuditRecord record, CancellationToken cancellationToken) => new(record, null, cancellationToken);
-
-        public static WorkItem ForControl(Func<Task> control, CancellationToken cancellationToken) => new(null, control, cancellationToken);
-    }
 
     /// <summary>The SQL and parameters of one query, validated before anything is read.</summary>
     internal sealed class QueryPlan

@@ -1,0 +1,25 @@
+namespace DischargeGuard.Audit;
+
+/// <summary>An append waiting for a store's writer loop, or a piece of work the writer must do between batches (shared by the SQLite and PostgreSQL stores).</summary>
+internal sealed class AuditWorkItem
+{
+    private AuditWorkItem(AuditRecord? record, Func<Task>? control, CancellationToken cancellationToken)
+    {
+        Record = record;
+        Control = control;
+        CancellationToken = cancellationToken;
+    }
+
+    public AuditRecord? Record { get; }
+
+    public Func<Task>? Control { get; }
+
+    public CancellationToken CancellationToken { get; }
+
+    // Continuations run off the writer, so a batch's callers do not run on (and stall) the writer loop.
+    public TaskCompletionSource Completion { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
+
+    public static AuditWorkItem ForAppend(AuditRecord record, CancellationToken cancellationToken) => new(record, null, cancellationToken);
+
+    public static AuditWorkItem ForControl(Func<Task> control, CancellationToken cancellationToken) => new(null, control, cancellationToken);
+}
