@@ -43,6 +43,24 @@ public interface IAuditStore : IAsyncDisposable
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
     IAsyncEnumerable<AuditRecord> QueryAsync(AuditQuery query, CancellationToken cancellationToken);
 
+    /// <summary>Counts the records evaluated before <paramref name="before"/> (what a retention run would delete).</summary>
+    /// <param name="before">The instant (exclusive).</param>
+    /// <param name="cancellationToken">Cancels the count.</param>
+    /// <returns>The number of records.</returns>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<long> CountBeforeAsync(DateTimeOffset before, CancellationToken cancellationToken);
+
+    /// <summary>
+    /// The only way records leave the store: in one transaction, stores <paramref name="grant"/> and deletes every record
+    /// evaluated before its <see cref="RetentionGrant.DeleteBefore"/>. The schema refuses any other delete.
+    /// </summary>
+    /// <param name="grant">The decision, with who made it and why.</param>
+    /// <param name="cancellationToken">Cancels the wait (a run already started completes or rolls back whole).</param>
+    /// <returns>The grant id and the number of records deleted.</returns>
+    /// <exception cref="ArgumentException">The grant has no author or reason, or reaches into the future.</exception>
+    /// <exception cref="AuditStoreUnavailableException">Nothing was deleted: the store failed or is closed.</exception>
+    Task<RetentionResult> ApplyRetentionAsync(RetentionGrant grant, CancellationToken cancellationToken);
+
     /// <summary>Checks that the store can be read and written. Never throws for a store failure; reports it.</summary>
     /// <param name="cancellationToken">Cancels the check.</param>
     /// <returns>What the check found.</returns>

@@ -270,6 +270,53 @@ public abstract class AuditStoreContract : IAsyncLifetime
         Assert.Equal(1, await CountEvaluationsAsync());
     }
 
+    [SkippableFact]
+    public async Task ApplyRetention_WhenGranted_DeletesOnlyOlderRecordsAndKeepsTheGrant()
+    {
+        var store = await OpenStoreAsync();
+        var old = Sample.Record(at: Sample.Start.AddDays(-400), asset: "K-101A");
+        var recent = Sample.Record(at: Sample.Start, asset: "K-102A");
+        await store.AppendAsync(old, CancellationToken.None);
+        await store.AppendAsync(recent, CancellationToken.None);
+        var cutoff = Sample.Start.AddDays(-365);
+
+        Assert.Equal(1, await store.CountBeforeAsync(cutoff, CancellationToken.None));
+        var result = await store.ApplyRetentionAsync(new RetentionGrant(cutoff, "key-admin-01", "keep 1 year (site records policy RP-7)", Sample.Start), CancellationToken.None);
+
+        Assert.Equal(1, result.Deleted);
+        Assert.True(result.GrantId > 0);
+        Assert.Null(await store.GetAsync(old.Id, CancellationToken.None));
+        Assert.NotNull(await store.GetAsync(recent.Id, CancellationToken.None));
+        Assert.Equal(1, await ScalarAsync("SELECT count(*) FROM retention_grants WHERE granted_by = 'key-admin-01';"));
+        Assert.Equal(0, await store.CountBeforeAsync(cutoff, CancellationToken.None));
+
+        // The store still takes appends after a retention run.
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddMinutes(1)), CancellationToken.None);
+        Assert.Equal(2, await CountEvaluationsAsync());
+    }
+
+    [SkippableTheory]
+    [InlineData("", "reason")]
+    [InlineData("key-admin-01", " ")]
+    public async Task ApplyRetention_WhenGrantHasNoAuthorOrReason_ThrowsAndDeletesNothing(string by, string reason)
+    {
+        var store = await OpenStoreAsync();
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddDays(-400)), CancellationToken.None);
+
+        await Assert.ThrowsAsync<ArgumentException>(() => store.ApplyRetentionAsync(new RetentionGrant(Sample.Start, by, reason, Sample.Start), CancellationToken.None));
+
+        Assert.Equal(1, await CountEvaluationsAsync());
+        Assert.Equal(0, await ScalarAsync("SELECT count(*) FROM retention_grants;"));
+    }
+
+    [SkippableFact]
+    public async Task ApplyRetention_WhenCutoffIsInTheFuture_Throws()
+    {
+        var store = await OpenStoreAsync();
+
+        await Assert.ThrowsAsync<ArgumentException>(() => store.ApplyRetentionAsync(new RetentionGrant(Sample.Start.AddDays(1), "key-admin-01", "r", Sample.Start), CancellationToken.None));
+    }
+
     [SkippableTheory]
     [InlineData("UPDATE retention_grants SET delete_before = '9999-12-31T00:00:00.0000000Z';")]
     [InlineData("DELETE FROM retention_grants;")]

@@ -168,6 +168,80 @@ public sealed class PostgresAuditStore : IAuditStore
     }
 
     /// <inheritdoc />
+    public async Task<long> CountBeforeAsync(DateTimeOffset before, CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                using var command = connection.CreateCommand();
+                command.CommandText = "SELECT count(*) FROM evaluations WHERE evaluated_at < @before;";
+                command.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = before.ToUniversalTime() });
+                return Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), System.Globalization.CultureInfo.InvariantCulture);
+            }
+        }
+        catch (NpgsqlException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    /// <inheritdoc />
+    public async Task<RetentionResult> ApplyRetentionAsync(RetentionGrant grant, CancellationToken cancellationToken)
+    {
+        ArgumentNullException.ThrowIfNull(grant);
+        grant.Validate();
+        ThrowIfDisposed();
+        RetentionResult? result = null;
+
+        // On the writer connection, between batches: the grant and the delete commit together or not at all.
+        var item = AuditWorkItem.ForControl(
+            async () =>
+            {
+                var connection = await EnsureWriterAsync(migrate: false, CancellationToken.None).ConfigureAwait(false);
+                var transaction = await connection.BeginTransactionAsync().ConfigureAwait(false);
+                await using (transaction.ConfigureAwait(false))
+                {
+                    long grantId;
+                    using (var insert = connection.CreateCommand())
+                    {
+                        insert.CommandText = "INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES (@at, @before, @by, @reason) RETURNING id;";
+                        insert.Parameters.Add(new NpgsqlParameter("at", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.GrantedAt.ToUniversalTime() });
+                        insert.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.DeleteBefore.ToUniversalTime() });
+                        insert.Parameters.Add(new NpgsqlParameter("by", grant.GrantedBy));
+                        insert.Parameters.Add(new NpgsqlParameter("reason", grant.Reason));
+                        grantId = Convert.ToInt64(await insert.ExecuteScalarAsync().ConfigureAwait(false), System.Globalization.CultureInfo.InvariantCulture);
+                    }
+
+                    long deleted;
+                    using (var delete = connection.CreateCommand())
+                    {
+                        delete.CommandText = "DELETE FROM evaluations WHERE evaluated_at < @before;";
+                        delete.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.DeleteBefore.ToUniversalTime() });
+                        deleted = await delete.ExecuteNonQueryAsync().ConfigureAwait(false);
+                    }
+
+                    await transaction.CommitAsync().ConfigureAwait(false);
+                    result = new RetentionResult(grantId, deleted);
+                }
+            },
+            cancellationToken);
+        try
+        {
+            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
+        }
+        catch (ChannelClosedException e)
+        {
+            throw Closed(e);
+        }
+
+        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        return result!;
+    }
+
+    /// <inheritdoc />
     public async Task<AuditHealth> CheckHealthAsync(CancellationToken cancellationToken)
     {
         if (Volatile.Read(ref _disposed) != 0)

@@ -188,6 +188,78 @@ public sealed class SqliteAuditStore : IAuditStore
     }
 
     /// <inheritdoc />
+    public async Task<long> CountBeforeAsync(DateTimeOffset before, CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await OpenReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                using var command = connection.CreateCommand();
+                command.CommandText = "SELECT count(*) FROM evaluations WHERE evaluated_at < $before;";
+                command.Parameters.AddWithValue("$before", AuditTime.Format(before));
+                return Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), CultureInfo.InvariantCulture);
+            }
+        }
+        catch (SqliteException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    /// <inheritdoc />
+    public async Task<RetentionResult> ApplyRetentionAsync(RetentionGrant grant, CancellationToken cancellationToken)
+    {
+        ArgumentNullException.ThrowIfNull(grant);
+        grant.Validate();
+        ThrowIfDisposed();
+        RetentionResult? result = null;
+
+        // On the writer, between batches: the grant and the delete are one transaction, so either both are stored or neither.
+        var item = AuditWorkItem.ForControl(
+            () =>
+            {
+                var connection = EnsureWriter(migrate: false);
+                AuditSchema.Execute(connection, "BEGIN IMMEDIATE;");
+                long grantId;
+                using (var insert = connection.CreateCommand())
+                {
+                    insert.CommandText = "INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES ($at, $before, $by, $reason) RETURNING id;";
+                    insert.Parameters.AddWithValue("$at", AuditTime.Format(grant.GrantedAt));
+                    insert.Parameters.AddWithValue("$before", AuditTime.Format(grant.DeleteBefore));
+                    insert.Parameters.AddWithValue("$by", grant.GrantedBy);
+                    insert.Parameters.AddWithValue("$reason", grant.Reason);
+                    grantId = Convert.ToInt64(insert.ExecuteScalar(), CultureInfo.InvariantCulture);
+                }
+
+                long deleted;
+                using (var delete = connection.CreateCommand())
+                {
+                    delete.CommandText = "DELETE FROM evaluations WHERE evaluated_at < $before;";
+                    delete.Parameters.AddWithValue("$before", AuditTime.Format(grant.DeleteBefore));
+                    deleted = delete.ExecuteNonQuery();
+                }
+
+                AuditSchema.Execute(connection, "COMMIT;");
+                result = new RetentionResult(grantId, deleted);
+                return Task.CompletedTask;
+            },
+            cancellationToken);
+        try
+        {
+            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
+        }
+        catch (ChannelClosedException e)
+        {
+            throw Closed(e);
+        }
+
+        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        return result!;
+    }
+
+    /// <inheritdoc />
     public async Task<AuditHealth> CheckHealthAsync(CancellationToken cancellationToken)
     {
         if (Volatile.Read(ref _disposed) != 0)
