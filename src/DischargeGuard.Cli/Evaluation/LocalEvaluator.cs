@@ -1,0 +1,156 @@
+using System.Text.Json;
+using DischargeGuard.Audit;
+using DischargeGuard.Audit.Sqlite;
+using DischargeGuard.Cli.Proposals;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Evaluation.Validation;
+using DischargeGuard.Rules.Provider;
+
+namespace DischargeGuard.Cli.Evaluation;
+
+/// <summary>
+/// Evaluates in-process with the service's own parts: the rule directory loaded as the service loads it, the same
+/// FluentValidation validator, the same <see cref="EvaluationPipeline"/>; and records every evaluation in a local SQLite
+/// audit file before its result is reported, so the gate never evaluates without a record.
+/// </summary>
+public sealed class LocalEvaluator : ICaseEvaluator
+{
+    private readonly RuleSetSnapshot _rules;
+    private readonly string _auditFile;
+    private readonly string _caller;
+    private readonly ApprovedRules _approved;
+    private readonly TimeProvider _time;
+    private readonly EvaluationPipeline _pipeline = new();
+    private readonly EvaluationRequestValidator _validator = new();
+    private SqliteAuditStore? _store;
+
+    private LocalEvaluator(RuleSetSnapshot rules, string rulesDirectory, string auditFile, string caller, ApprovedRules approved, TimeProvider time)
+    {
+        _rules = rules;
+        _auditFile = auditFile;
+        _caller = caller;
+        _approved = approved;
+        _time = time;
+        Description = $"local (rules {rulesDirectory}, audit file {auditFile})";
+    }
+
+    /// <inheritdoc />
+    public string Description { get; }
+
+    /// <summary>The loaded rules.</summary>
+    public RuleSetSnapshot Rules => _rules;
+
+    /// <summary>Loads the rule directory (throws <see cref="DischargeGuard.Rules.Loading.RuleFileException"/> with file, line and key when it is invalid).</summary>
+    /// <param name="rulesDirectory">The rules directory.</param>
+    /// <param name="auditFile">The SQLite audit file (created when missing).</param>
+    /// <param name="caller">The caller recorded in each audit record.</param>
+    /// <param name="approved">The approved digests.</param>
+    /// <param name="time">Clock.</param>
+    /// <returns>The evaluator.</returns>
+    public static LocalEvaluator Open(string rulesDirectory, string auditFile, string caller, ApprovedRules approved, TimeProvider? time = null)
+    {
+        var t = time ?? TimeProvider.System;
+        var snapshot = FileRuleSetProvider.LoadDirectory(rulesDirectory, t.GetUtcNow());
+        return new LocalEvaluator(snapshot, rulesDirectory, auditFile, caller, approved, t);
+    }
+
+    /// <inheritdoc />
+    public async Task<CaseResult> EvaluateAsync(ProposalCase proposalCase, CancellationToken cancellationToken)
+    {
+        ArgumentNullException.ThrowIfNull(proposalCase);
+        var request = proposalCase.Request ?? throw new ArgumentException("The case has no request.", nameof(proposalCase));
+        var validation = _validator.Validate(request);
+        if (!validation.IsValid)
+        {
+            var invalid = new CaseResult(proposalCase, ExitCodes.InvalidInput);
+            foreach (var f in validation.Errors)
+            {
+                invalid.Errors.Add(proposalCase.ErrorAt(DocPath.FromPropertyName(f.PropertyName), f.ErrorMessage));
+            }
+
+            return invalid;
+        }
+
+        if (_approved.Digests.Count > 0 && DigestFor(request) is { } digest && !_approved.Approves(digest))
+        {
+            var refused = new CaseResult(proposalCase, ExitCodes.InvalidInput);
+            refused.Messages.Add(_approved.Mismatch(digest, request.Site?.Id, request.Asset));
+            return refused;
+        }
+
+        var now = _time.GetUtcNow();
+        var id = Guid.CreateVersion7(now);
+        var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(id, now));
+        if (outcome.Problem is { } problem)
+        {
+            var invalid = new CaseResult(proposalCase, ExitCodes.InvalidInput);
+            foreach (var (path, messages) in problem.Errors)
+            {
+                foreach (var m in messages)
+                {
+                    invalid.Errors.Add(proposalCase.ErrorAt(path, m));
+                }
+            }
+
+            if (invalid.Errors.Count == 0)
+            {
+                invalid.Messages.Add(problem.Title);
+            }
+
+            return invalid;
+        }
+
+        var response = outcome.Response!;
+        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
+        var record = new AuditRecord
+        {
+            Id = id,
+            EvaluatedAt = now,
+            Caller = _caller,
+            Asset = request.Asset!,
+            SiteId = request.Site?.Id,
+            Verdict = response.Verdict,
+            RuleDigest = response.RuleSet.Digest,
+            EngineVersion = response.EngineVersion,
+            Request = proposalCase.RequestJson,
+            Response = body,
+        };
+        try
+        {
+            _store ??= await SqliteAuditStore.OpenAsync(new AuditStoreOptions { SqlitePath = _auditFile }, cancellationToken).ConfigureAwait(false);
+            await _store.AppendAsync(record, cancellationToken).ConfigureAwait(false);
+        }
+        catch (AuditStoreUnavailableException ex)
+        {
+            // No record, no result: the answer is withheld exactly as the service withholds it (503).
+            var unavailable = new CaseResult(proposalCase, ExitCodes.ServiceUnavailable);
+            unavailable.Messages.Add($"The local audit file {_auditFile} could not record the evaluation, so no result is reported: {ex.Message}");
+            return unavailable;
+        }
+
+        return new CaseResult(proposalCase, ExitCodes.OfVerdict(response.Verdict)) { Response = response, ResponseJson = body, EvaluatedBy = "local" };
+    }
+
+    private string? DigestFor(EvaluationRequest request)
+    {
+        try
+        {
+            return _rules.Resolve(request.Site?.Id, request.Asset).Digest;
+        }
+        catch (ArgumentOutOfRangeException)
+        {
+            // The pipeline names the site/asset conflict as a field error.
+            return null;
+        }
+    }
+
+    /// <inheritdoc />
+    public async ValueTask DisposeAsync()
+    {
+        if (_store is not null)
+        {
+            await _store.DisposeAsync().ConfigureAwait(false);
+        }
+    }
+}
