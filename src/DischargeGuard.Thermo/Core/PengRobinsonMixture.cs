@@ -143,21 +143,30 @@ internal sealed class PengRobinsonMixture
         Span<double> du = n <= MaxStackComponents ? stackalloc double[n] : new double[n];
         Span<double> d2u = n <= MaxStackComponents ? stackalloc double[n] : new double[n];
         SqrtAlpha(tKelvin, u, du, d2u);
+
+        // a = Σ_ij m_ij u_i u_j, a' = 2 Σ_ij m_ij u'_i u_j, a'' = 2 Σ_ij m_ij (u''_i u_j + u'_i u'_j); m is symmetric, so
+        // the off-diagonal terms are summed once and doubled.
         double a = 0, da = 0, d2a = 0;
-        var m = _m;
+        var m = _m.AsSpan();
         for (var i = 0; i < n; i++)
         {
-            double w = 0, wd = 0;
-            var row = i * n;
-            for (var j = 0; j < n; j++)
+            var row = m.Slice(i * n, n);
+            var ui = u[i];
+            var dui = du[i];
+            var d2ui = d2u[i];
+            double w = 0, wd = 0, wdd = 0;
+            for (var j = i + 1; j < n; j++)
             {
-                w += m[row + j] * u[j];
-                wd += m[row + j] * du[j];
+                var mij = row[j];
+                w += mij * u[j];
+                wd += mij * du[j];
+                wdd += mij * d2u[j];
             }
 
-            a += u[i] * w;
-            da += du[i] * w;
-            d2a += (d2u[i] * w) + (du[i] * wd);
+            var mii = row[i];
+            a += (mii * ui * ui) + (2 * ui * w);
+            da += (mii * dui * ui) + (dui * w) + (ui * wd);
+            d2a += (mii * ((d2ui * ui) + (dui * dui))) + (d2ui * w) + (ui * wdd) + (2 * dui * wd);
         }
 
         return new Attraction(a, 2 * da, 2 * d2a);
