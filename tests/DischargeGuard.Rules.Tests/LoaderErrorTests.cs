@@ -67,6 +67,52 @@ public class LoaderErrorTests
     }
 
     [Fact]
+    public void Parse_WhenTrendRuleHasItsWindow_ReadsIt()
+    {
+        var yaml = Head.Replace("quantity: isentropic", "quantity: measuredMinusPredictedRise", StringComparison.Ordinal)
+            .Replace("severity: violation", "severity: warning", StringComparison.Ordinal)
+            + "    limit: 5 K\n    trend:\n      evaluations: 6\n      steadyPressureWithin: 4 %\n";
+
+        var rule = Assert.Single(RuleFileParser.Parse("default.yaml", yaml).Rules);
+
+        Assert.Equal(new TrendSpec(6, 0.04), rule.Trend);
+    }
+
+    [Fact]
+    public void Parse_WhenTrendRuleHasNoWindow_IsMissingKey()
+    {
+        var yaml = Head.Replace("quantity: isentropic", "quantity: measuredMinusPredictedRise", StringComparison.Ordinal)
+            .Replace("severity: violation", "severity: warning", StringComparison.Ordinal) + "    limit: 5 K\n";
+
+        var e = Fails(yaml, RuleFileErrorKind.MissingKey);
+
+        Assert.Equal("rules[0].trend", e.Key);
+    }
+
+    [Theory]
+    [InlineData("2", "4 %", "rules[0].trend.evaluations")]
+    [InlineData("4.5", "4 %", "rules[0].trend.evaluations")]
+    [InlineData("5", "80 %", "rules[0].trend.steadyPressureWithin")]
+    public void Parse_WhenTrendWindowIsOutOfRange_NamesTheKey(string evaluations, string steady, string key)
+    {
+        var yaml = Head.Replace("quantity: isentropic", "quantity: measuredMinusPredictedRise", StringComparison.Ordinal)
+            .Replace("severity: violation", "severity: warning", StringComparison.Ordinal)
+            + $"    limit: 5 K\n    trend:\n      evaluations: {evaluations}\n      steadyPressureWithin: {steady}\n";
+
+        var e = Fails(yaml, RuleFileErrorKind.BadValue);
+
+        Assert.Equal(key, e.Key);
+    }
+
+    [Fact]
+    public void Parse_WhenTrendIsGivenForAnotherQuantity_IsBadValue()
+    {
+        var e = Fails(Head + "    limit: 150 °C\n    trend:\n      evaluations: 5\n      steadyPressureWithin: 5 %\n", RuleFileErrorKind.BadValue);
+
+        Assert.Equal("rules[0].trend", e.Key);
+    }
+
+    [Fact]
     public void Parse_WhenWrongType_NamesKey()
     {
         var e = Fails(Head.Replace("title: Test rule", "title: [a, b]", StringComparison.Ordinal), RuleFileErrorKind.WrongType);

@@ -124,6 +124,8 @@ public enum NotCheckedReason
     LimitInput,
     /// <summary>The value the rule checks is absent (e.g. the measured discharge temperature).</summary>
     CheckedValue,
+    /// <summary>A trend rule has too few earlier evaluations of the asset to fit a trend through.</summary>
+    History,
 }
 
 /// <summary>A rule that applied but could not be checked.</summary>
@@ -138,6 +140,7 @@ public sealed record NotChecked(string RuleId, string Title, IReadOnlyList<strin
     {
         NotCheckedReason.ApplicabilityInput => $"Whether the rule applies depends on {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
         NotCheckedReason.LimitInput => $"The limit is computed from {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
+        NotCheckedReason.History => $"The trend is fitted through the asset's recorded evaluations and needs {string.Join(" and ", MissingInputs.Select(m => m.Replace("history: ", string.Empty, StringComparison.Ordinal)))}; it is checked once they are recorded.",
         _ => $"The rule checks a value that needs {string.Join(" or ", MissingInputs)}; supply it to have the rule checked.",
     };
 }

@@ -378,8 +378,10 @@ public static class RuleEngine
         return false;
     }
 
-    private static (double? Value, string? Missing) ValueOf(CheckedQuantity q, StageFacts s) => q switch
+    private static (double? Value, string? Missing) ValueOf(CheckedQuantity q, StageFacts s, RuleDefinition rule) => q switch
     {
+        CheckedQuantity.MeasuredMinusPredictedRise when s.MeasuredDischarge is null => (null, "measuredDischargeTemperature"),
+        CheckedQuantity.MeasuredMinusPredictedRise => (DeviationTrend.Rise(s, rule.Trend!), DeviationTrend.MissingHistory(rule.Trend!)),
         CheckedQuantity.Isentropic => (s.Isentropic.Kelvins, null),
         CheckedQuantity.Estimated => (s.Estimated.Kelvins, null),
         CheckedQuantity.EstimatedUpperBound => (s.EstimatedUpperBound.Kelvins, null),
@@ -507,7 +509,7 @@ public static class RuleEngine
         string[]? missingQ = null;
         foreach (var q in rule.Quantities)
         {
-            var (v, miss) = ValueOf(q, s);
+            var (v, miss) = ValueOf(q, s, rule);
             if (v is null)
             {
                 missingQ = missingQ is null ? [miss!] : [.. missingQ, miss!];
@@ -528,7 +530,8 @@ public static class RuleEngine
             if (!(rule.RequiresSignedLimit && !hasLimit))
             {
                 var distinct = missingQ!.Distinct(StringComparer.Ordinal).ToArray();
-                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, distinct, NotCheckedReason.CheckedValue));
+                var why = distinct.All(m => m.StartsWith("history", StringComparison.Ordinal)) ? NotCheckedReason.History : NotCheckedReason.CheckedValue;
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, distinct, why));
                 return null;
             }
         }

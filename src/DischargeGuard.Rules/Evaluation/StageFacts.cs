@@ -50,6 +50,11 @@ public sealed record StageFacts
     public Temperature? JacketCoolantInlet { get; init; }
     /// <summary>Whether the stage runs unloaded for long periods.</summary>
     public bool? UnloadedRunning { get; init; }
+    /// <summary>
+    /// This stage in the asset's earlier evaluations, oldest first (the current one excluded), for trend rules; empty
+    /// when the caller has none.
+    /// </summary>
+    public IReadOnlyList<DeviationSample> DeviationHistory { get; init; } = [];
     /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
     public Temperature? DischargeWaterDewPoint { get; init; }
 

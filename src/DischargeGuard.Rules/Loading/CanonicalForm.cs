@@ -246,6 +246,14 @@ public static class CanonicalForm
             w.WriteEndObject();
         }
 
+        if (r.Trend is { } tr)
+        {
+            w.WriteStartObject("trend");
+            w.WriteNumber("evaluations", tr.Evaluations);
+            WriteNum(w, "steadyPressureFraction", tr.SteadyPressureFraction);
+            w.WriteEndObject();
+        }
+
         if (withProvenance)
         {
             w.WriteString("limitLayer", r.LimitLayer);

@@ -20,12 +20,13 @@ public static class RuleFileParser
     private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "basis"];
     private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound"];
     private static readonly string[] EfficiencyKeys = ["kind", "value", "basis"];
-    private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "setPoints"];
+    private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "setPoints", "trend"];
     private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning"];
     private static readonly string[] CatalogueLimitKeys = ["from", "deratingForPressure", "margin", "plus"];
     private static readonly string[] GreaterOfKeys = ["atLeast", "fractionOfPredicted"];
     private static readonly string[] SetPointKeys = ["alarm", "trip"];
     private static readonly string[] StepKeys = ["fraction", "atMost"];
+    private static readonly string[] TrendKeys = ["evaluations", "steadyPressureWithin"];
     private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "approvedBy", "approvedOn", "reference"];
 
     /// <summary>The only format version this loader reads.</summary>
@@ -326,6 +327,32 @@ public static class RuleFileParser
             }
         }
 
+        TrendSpec? trend = null;
+        var wantsTrend = quantities is not null && quantities.Contains(CheckedQuantity.MeasuredMinusPredictedRise);
+        if (ctx.Mapping(m, "trend", path + ".trend", required: wantsTrend) is { } tn)
+        {
+            var t = ctx.Map(tn, path + ".trend", TrendKeys);
+            var count = ctx.Number(t, "evaluations", path + ".trend.evaluations", required: true);
+            var steady = ctx.Quantity(t, "steadyPressureWithin", path + ".trend.steadyPressureWithin", QuantityKind.Fraction, required: true);
+            if (count is { } c && (c != Math.Floor(c) || c < TrendSpec.MinimumEvaluations || c > TrendSpec.MaximumEvaluations))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, t.Get("evaluations")!, path + ".trend.evaluations", $"A whole number of evaluations, {TrendSpec.MinimumEvaluations} to {TrendSpec.MaximumEvaluations}.");
+            }
+            else if (steady is Ratio r && (r.DecimalFractions <= 0 || r.DecimalFractions > 0.5))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, t.Get("steadyPressureWithin")!, path + ".trend.steadyPressureWithin", "Steady pressures are within more than 0 % and at most 50 %.");
+            }
+            else if (count is { } n && steady is Ratio f)
+            {
+                trend = new TrendSpec((int)n, f.DecimalFractions);
+            }
+
+            if (!wantsTrend)
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, tn, path + ".trend", "Only a rule on measuredMinusPredictedRise has a trend window.");
+            }
+        }
+
         if (severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
         {
             ctx.Add(RuleFileErrorKind.MissingKey, m.Key("severity") ?? mapNode, path + ".limit", "A warning or violation rule needs a limit (or requiresSignedLimit: true).");
@@ -358,6 +385,7 @@ public static class RuleFileParser
             Severity = severity,
             Basis = basis,
             Message = message,
+            Trend = trend,
             RequiresSignedLimit = signed,
             SetPoints = setPoints,
             Location = ctx.Loc(mapNode),

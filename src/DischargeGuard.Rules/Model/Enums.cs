@@ -45,6 +45,11 @@ public enum CheckedQuantity
     JacketCoolantInlet,
     /// <summary>Normal operating discharge temperature (for the set-point proposal).</summary>
     NormalOperating,
+    /// <summary>
+    /// Rise of measured minus estimated discharge temperature over the asset's recent evaluations at steady pressures
+    /// (a difference, from a least-squares line through them; needs the rule's <see cref="TrendSpec"/> and history).
+    /// </summary>
+    MeasuredMinusPredictedRise,
 }
 
 /// <summary>What kind of number a checked quantity is.</summary>
@@ -108,6 +113,7 @@ public static class CheckedQuantityNames
         CheckedQuantity.TemperatureRise => "temperatureRise",
         CheckedQuantity.JacketCoolantInlet => "jacketCoolantInlet",
         CheckedQuantity.NormalOperating => "normalOperating",
+        CheckedQuantity.MeasuredMinusPredictedRise => "measuredMinusPredictedRise",
         _ => throw new ArgumentOutOfRangeException(nameof(quantity), quantity, "Unknown quantity."),
     };
 
@@ -139,7 +145,7 @@ public static class CheckedQuantityNames
     public static QuantityDimension Dimension(this CheckedQuantity quantity) => quantity switch
     {
         CheckedQuantity.PressureRatio => QuantityDimension.Ratio,
-        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise => QuantityDimension.TemperatureDifference,
+        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise or CheckedQuantity.MeasuredMinusPredictedRise => QuantityDimension.TemperatureDifference,
         _ => QuantityDimension.Temperature,
     };
 

@@ -156,6 +156,22 @@ public sealed record RuleLimit(LimitSource Source, double? Absolute = null, doub
 /// <param name="AtMostKelvin">Cap on the step.</param>
 public sealed record SetPointStep(double Fraction, double AtMostKelvin);
 
+/// <summary>
+/// How a trend rule reads the asset's history: the newest <paramref name="Evaluations"/> evaluations (this one
+/// included) whose suction and discharge pressures are each within <paramref name="SteadyPressureFraction"/> of this
+/// one's, at least three of them.
+/// </summary>
+/// <param name="Evaluations">Window length, 3 to 50 evaluations.</param>
+/// <param name="SteadyPressureFraction">Largest relative difference of either absolute pressure that still counts as steady.</param>
+public sealed record TrendSpec(int Evaluations, double SteadyPressureFraction)
+{
+    /// <summary>Fewest evaluations a trend is fitted through.</summary>
+    public const int MinimumEvaluations = 3;
+
+    /// <summary>Longest window a rule may ask for.</summary>
+    public const int MaximumEvaluations = 50;
+}
+
 /// <summary>The set-point proposal form of a rule.</summary>
 /// <param name="Alarm">Alarm step.</param>
 /// <param name="Trip">Trip step.</param>
@@ -194,6 +210,8 @@ public sealed record RuleDefinition
     public bool RequiresSignedLimit { get; init; }
     /// <summary>The set-point proposal form, for R-SETPOINTS.</summary>
     public SetPointSpec? SetPoints { get; init; }
+    /// <summary>The history window, for the <see cref="CheckedQuantity.MeasuredMinusPredictedRise"/> quantity.</summary>
+    public TrendSpec? Trend { get; init; }
     /// <summary>The layer that set the effective limit.</summary>
     public string LimitLayer { get; init; } = "default";
     /// <summary>Why the limit was loosened, when a layer loosened it.</summary>
