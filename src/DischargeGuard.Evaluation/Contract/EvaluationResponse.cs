@@ -113,9 +113,17 @@ public sealed record StageDto
     /// <summary>Rules that applied but could not be checked, with the missing input.</summary>
     public required IReadOnlyList<NotCheckedDto> NotChecked { get; init; }
 
+    /// <summary>The measured discharge temperature and its deviation from the estimate, when one was given.</summary>
+    public MeasuredDto? Measured { get; init; }
+
     /// <summary>Estimated and upper-bound temperature against discharge pressure (only with <c>?curve=true</c>).</summary>
     public IReadOnlyList<CurvePointDto>? Curve { get; init; }
 }
+
+/// <summary>A measured discharge temperature beside the prediction.</summary>
+/// <param name="DischargeTemperature">As measured.</param>
+/// <param name="MinusEstimated">Measured minus estimated discharge temperature (a difference: K or Δ°F).</param>
+public sealed record MeasuredDto(QuantityDto DischargeTemperature, QuantityDto MinusEstimated);
 
 /// <summary>A state with pressure and temperature.</summary>
 /// <param name="PressureAbsolute">Absolute pressure.</param>

@@ -17,7 +17,14 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// <param name="Id">The evaluation id (UUIDv7, assigned by the caller so the audit record and the answer share it).</param>
 /// <param name="EvaluatedAt">When (UTC).</param>
 /// <param name="IncludeCurve">Whether to add the discharge-temperature curve per stage.</param>
-public sealed record EvaluationContext(Guid Id, DateTimeOffset EvaluatedAt, bool IncludeCurve = false);
+public sealed record EvaluationContext(Guid Id, DateTimeOffset EvaluatedAt, bool IncludeCurve = false)
+{
+    /// <summary>
+    /// Per stage index, the same stage in the asset's earlier evaluations, oldest first (see
+    /// <see cref="EvaluationHistory.FromStoredResponses"/>); null when the caller read no history.
+    /// </summary>
+    public IReadOnlyList<IReadOnlyList<DeviationSample>>? History { get; init; }
+}
 
 /// <summary>
 /// Turns a validated <see cref="EvaluationRequest"/> into an <see cref="EvaluationResponse"/>: units to absolute SI,
@@ -94,6 +101,11 @@ public sealed class EvaluationPipeline
             var s = solved[i];
             var input = stagesIn[i];
             var facts = FactsOf(s, input, i, solved.Length, declared, efficiencySources[i].Source == "rule-default");
+            if (context.History is { } history && i < history.Count)
+            {
+                facts = facts with { DeviationHistory = history[i] };
+            }
+
             var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
             var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions));
             if (i == 0)
@@ -105,7 +117,13 @@ public sealed class EvaluationPipeline
             anyNotChecked |= ruled.NotChecked.Count > 0;
             var findings = ruled.Findings.Select(f => FindingOf(f, output, null)).ToList();
             allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
-            stageDtos.Add(StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null, LimitsOf(s, conditions, ruled, output)));
+            var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null, LimitsOf(s, conditions, ruled, output));
+            if (facts.MeasuredDischarge is { } measured)
+            {
+                stage = stage with { Measured = new MeasuredDto(output.Temperature(measured), output.DifferenceKelvin(measured.Kelvins - facts.Estimated.Kelvins)) };
+            }
+
+            stageDtos.Add(stage);
         }
 
         var cautions = new List<string> { Cautions.DeferToCodes, Cautions.KeepProtection, Cautions.IdealGas };
