@@ -19,6 +19,10 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
         ("GET /v1/evaluations", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}/verify", [Roles.Technician, Roles.Planner, Roles.Admin]),
+        ("POST /v1/evaluations/batch", [Roles.Planner]),
+        ("GET /v1/evaluations/export", [Roles.Planner]),
+        ("POST /v1/evaluations/{id}/replay", [Roles.Planner]),
+        ("POST /v1/admin/retention", [Roles.Admin]),
         ("GET /v1/rules", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("GET /v1/gases", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("POST /v1/rules/check", [Roles.Admin]),
@@ -83,9 +87,9 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
     }
 
     [Fact]
-    public async Task GetEvaluation_WhenTechnicianReadsAnotherTechniciansRecord_AnswersNotFoundAsIfMissing()
+    public async Task GetEvaluation_WhenTechnicianReadsAnotherTechniciansRecordOfAnAssetItNeverEvaluated_AnswersNotFoundAsIfMissing()
     {
-        var id = await factory.EvaluateAsAsync(factory.KeyOf[KeyedServiceFactory.OtherTechnicianId]);
+        var id = await factory.EvaluateAsAsync(factory.KeyOf[KeyedServiceFactory.OtherTechnicianId], asset: "K-330C");
 
         using var technician = factory.ClientWith(factory.KeyFor(Roles.Technician));
         using var refused = await technician.GetAsync(new Uri($"/v1/evaluations/{id}", UriKind.Relative));
@@ -96,6 +100,28 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
         using var allowed = await planner.GetAsync(new Uri($"/v1/evaluations/{id}", UriKind.Relative));
         Assert.Equal(HttpStatusCode.OK, allowed.StatusCode);
         Assert.Equal(KeyedServiceFactory.OtherTechnicianId, (await Json.ReadAsync(allowed)).At("caller").GetString());
+    }
+
+    [Fact]
+    public async Task History_WhenTechnicianHasEvaluatedTheAsset_ShowsEveryCallersRecordsOfIt()
+    {
+        var own = await factory.EvaluateAsAsync(factory.KeyFor(Roles.Technician), asset: "K-101B");
+        var other = await factory.EvaluateAsAsync(factory.KeyOf[KeyedServiceFactory.OtherTechnicianId], asset: "K-101B");
+        var elsewhere = await factory.EvaluateAsAsync(factory.KeyOf[KeyedServiceFactory.OtherTechnicianId], asset: "K-330D");
+        using var technician = factory.ClientWith(factory.KeyFor(Roles.Technician));
+
+        using var list = await technician.GetAsync(new Uri("/v1/evaluations?asset=K-101B", UriKind.Relative));
+        var ids = (await Json.ReadAsync(list)).At("evaluations").EnumerateArray().Select(e => e.At("id").GetGuid()).ToArray();
+        Assert.Equal([other, own], ids);
+
+        using var read = await technician.GetAsync(new Uri($"/v1/evaluations/{other}", UriKind.Relative));
+        Assert.Equal(HttpStatusCode.OK, read.StatusCode);
+
+        // An asset it never evaluated shows nothing, as if no record existed.
+        using var foreign = await technician.GetAsync(new Uri("/v1/evaluations?asset=K-330D", UriKind.Relative));
+        Assert.Empty((await Json.ReadAsync(foreign)).At("evaluations").EnumerateArray());
+        using var foreignRead = await technician.GetAsync(new Uri($"/v1/evaluations/{elsewhere}", UriKind.Relative));
+        Assert.Equal(HttpStatusCode.NotFound, foreignRead.StatusCode);
     }
 
     [Fact]
@@ -126,6 +152,8 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
         {
             "/v1/evaluations" => new StringContent(Requests.PassingStage().ToJsonString(), Encoding.UTF8, "application/json"),
             "/v1/rules/check" => new StringContent("schemaVersion: 1\n", Encoding.UTF8, "application/yaml"),
+            "/v1/evaluations/batch" => new StringContent("{\"evaluations\": [" + Requests.Minimal().ToJsonString() + "]}", Encoding.UTF8, "application/json"),
+            "/v1/admin/retention" => new StringContent("""{"deleteBefore": "2000-01-01T00:00:00Z", "reason": "access matrix", "dryRun": true}""", Encoding.UTF8, "application/json"),
             _ => request.Content,
         };
         return request;

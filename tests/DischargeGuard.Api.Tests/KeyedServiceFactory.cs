@@ -58,11 +58,13 @@ public class KeyedServiceFactory : ServiceFactory
         return client;
     }
 
-    /// <summary>POSTs an evaluation of K-101A with <paramref name="key"/>; returns the recorded id.</summary>
-    public async Task<Guid> EvaluateAsAsync(string key)
+    /// <summary>POSTs an evaluation of <paramref name="asset"/> with <paramref name="key"/>; returns the recorded id.</summary>
+    public async Task<Guid> EvaluateAsAsync(string key, string asset = "K-101A")
     {
         using var client = ClientWith(key);
-        using var content = new StringContent(Requests.PassingStage().ToJsonString(), Encoding.UTF8, "application/json");
+        var request = Requests.PassingStage();
+        request["asset"] = asset;
+        using var content = new StringContent(request.ToJsonString(), Encoding.UTF8, "application/json");
         using var response = await client.PostAsync(new Uri("/v1/evaluations", UriKind.Relative), content);
         var body = await Json.ReadAsync(response);
         Assert.True(response.IsSuccessStatusCode, $"evaluation refused: {(int)response.StatusCode} {body}");

@@ -35,18 +35,22 @@ public static partial class EvaluationsApi
         group.MapGet("/{id:guid}", GetEvaluation)
             .WithName("GetEvaluation")
             .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.")
-            .WithDescription("Planner and admin keys read any record; a technician key reads only the records it made (others answer 404).")
+            .WithDescription("Planner and admin keys read any record; a technician key reads the records it made and those of assets it has evaluated (others answer 404).")
             .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
         group.MapGet("/", ListEvaluations)
             .WithName("ListEvaluations")
             .WithSummary("Recorded evaluations, newest first, with keyset paging (cursor); filters by asset, site, verdict and time.")
-            .WithDescription("Planner and admin keys list every record; a technician key lists only the records it made. `from` is inclusive, `to` exclusive (ISO 8601).")
+            .WithDescription("Planner and admin keys list every record. A technician key lists the records it made; with `asset` set to an asset it has evaluated, "
+                + "the asset's whole history. `from` is inclusive, `to` exclusive (ISO 8601).")
             .RequireRoles(Policies.ReadEvaluation);
         group.MapGet("/{id:guid}/verify", VerifyEvaluation)
             .WithName("VerifyEvaluation")
             .WithSummary("Recompute the SHA-256 of a record's stored request and response and compare them with the hashes stored when it was written.")
             .RequireRoles(Policies.ReadEvaluation);
+        group.MapBatch();
+        group.MapExport();
+        group.MapReplay();
         return group;
     }
 
@@ -55,69 +59,70 @@ public static partial class EvaluationsApi
         [FromQuery] bool? curve,
         HttpContext http,
         IRuleSetProvider rules,
-        EvaluationPipeline pipeline,
+        EvaluationRunner runner,
         IAuditStore audit,
-        TimeProvider time,
         IOptions<ServiceOptions> options,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
-        var now = time.GetUtcNow();
-        var id = Guid.CreateVersion7(now);
-
-        // One snapshot for the whole evaluation: a reload mid-request cannot mix two rule sets.
-        var snapshot = rules.Current;
-        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve == true));
-        if (outcome.Problem is { } problem)
+        var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
+        AssetHistory? history;
+        try
         {
-            return problem.Kind == ProblemKind.InvalidRequest
-                ? Problems.Validation(problem.Errors.ToDictionary(e => e.Key, e => e.Value), problem.Code, problem.Title)
-                : Problems.Unprocessable(problem);
+            history = await AssetHistory.LoadAsync(audit, request, null, http.RequestAborted).ConfigureAwait(false);
+        }
+        catch (AuditStoreUnavailableException ex)
+        {
+            LogHistoryFailed(logger, ex, request.Asset!);
+            return Unavailable(http, options);
         }
 
-        var response = outcome.Response!;
-        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
-        var record = new AuditRecord
+        // One snapshot for the whole evaluation: a reload mid-request cannot mix two rule sets.
+        var result = runner.Run(request, await RequestBodyAsync(http, request).ConfigureAwait(false), rules.Current, CallerOf(http), curve == true, history);
+        if (result.Record is not { } record)
         {
-            Id = id,
-            EvaluatedAt = now,
-            Caller = CallerOf(http),
-            Asset = request.Asset!,
-            SiteId = request.Site?.Id,
-            Verdict = response.Verdict,
-            RuleDigest = response.RuleSet.Digest,
-            EngineVersion = response.EngineVersion,
-            Request = await RequestBodyAsync(http, request).ConfigureAwait(false),
-            Response = body,
-        };
-        var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
+            return result.Problem is HttpValidationProblemDetails v
+                ? Problems.Validation(v.Errors, (string)v.Extensions["code"]!, v.Title!)
+                : TypedResults.Problem(result.Problem!);
+        }
+
         try
         {
             await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
-            LogAuditFailed(logger, ex, id, request.Asset!);
-            http.Response.Headers.RetryAfter = options.Value.RetryAfterSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture);
-            return Problems.AuditStoreUnavailable();
+            LogAuditFailed(logger, ex, record.Id, record.Asset);
+            return Unavailable(http, options);
         }
 
         if (logger.IsEnabled(LogLevel.Information))
         {
-            var governingMargin = response.Stages.Select(s => s.Governing?.Margin?.Value).Where(m => m is not null).DefaultIfEmpty(null).Min();
+            var response = result.Response!;
+            var margin = GoverningMargin(response);
             var elapsedMs = Stopwatch.GetElapsedTime(started).TotalMilliseconds;
-            LogEvaluated(logger, id, request.Asset!, response.Verdict, governingMargin, response.RuleSet.Digest, record.Caller, elapsedMs);
+            LogEvaluated(logger, record.Id, record.Asset, response.Verdict, margin, response.RuleSet.Digest, record.Caller, elapsedMs);
         }
-        return new Utf8JsonResult<EvaluationResponse>(body);
+
+        return new Utf8JsonResult<EvaluationResponse>(record.Response);
     }
+
+    internal static ProblemHttpResult Unavailable(HttpContext http, IOptions<ServiceOptions> options)
+    {
+        http.Response.Headers.RetryAfter = options.Value.RetryAfterSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture);
+        return Problems.AuditStoreUnavailable();
+    }
+
+    internal static double? GoverningMargin(EvaluationResponse response) =>
+        response.Stages.Select(s => s.Governing?.Margin?.Value).Where(m => m is not null).DefaultIfEmpty(null).Min();
 
     internal static async Task<Results<Utf8JsonResult<StoredEvaluation>, ProblemHttpResult>> GetEvaluation(
         Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
 
-        // A technician reads only its own records; another caller's record answers as missing, so ids cannot be probed.
-        return record is null || !MayRead(user, keys, record)
+        // A record a technician may not read answers as missing, so ids cannot be probed.
+        return record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false)
             ? Problems.Missing($"No evaluation with id {id} is recorded.")
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
     }
@@ -126,7 +131,7 @@ public static partial class EvaluationsApi
         Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
-        if (record is null || !MayRead(user, keys, record))
+        if (record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false))
         {
             return Problems.Missing($"No evaluation with id {id} is recorded.");
         }
@@ -152,12 +157,7 @@ public static partial class EvaluationsApi
         IAuditStore audit,
         CancellationToken cancellationToken)
     {
-        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
-        if (verdict is not null && !AuditVerdict.IsKnown(verdict))
-        {
-            errors["verdict"] = ["Accepted values: 'pass', 'review', 'fail'."];
-        }
-
+        var errors = FilterErrors(verdict, from, to);
         if (limit is < 1 or > AuditQuery.MaxPageSize)
         {
             errors["limit"] = [$"The page size must be 1 to {AuditQuery.MaxPageSize}."];
@@ -168,31 +168,79 @@ public static partial class EvaluationsApi
             errors["cursor"] = ["Not a cursor this service issued; pass back the nextCursor of the previous page unchanged."];
         }
 
-        if (from is not null && to is not null && from >= to)
-        {
-            errors["to"] = ["'to' must be later than 'from'."];
-        }
-
         if (errors.Count > 0)
         {
             return Problems.Validation(errors);
         }
 
-        // A technician lists only the records it made, as it reads only those.
-        var caller = keys.IsOpen || user.IsInRole(Roles.Planner) || user.IsInRole(Roles.Admin) ? null : user.Identity?.Name ?? AuditRecord.AnonymousCaller;
+        // A technician lists the records it made, and the whole history of an asset it has evaluated itself.
+        string? caller = null;
+        if (!SeesEverything(user, keys))
+        {
+            caller = user.Identity?.Name ?? AuditRecord.AnonymousCaller;
+            if (asset is not null && await HasEvaluatedAsync(audit, caller, asset, cancellationToken).ConfigureAwait(false))
+            {
+                caller = null;
+            }
+        }
+
         var page = await audit.QueryPageAsync(
             new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit, Caller = caller },
             cancellationToken).ConfigureAwait(false);
         return TypedResults.Ok(new EvaluationList(
-            page.Records.Select(r => new EvaluationSummary(r.Id, r.EvaluatedAt, r.Caller, r.Asset, r.SiteId, r.Verdict, r.RuleDigest, r.EngineVersion)).ToArray(),
+            page.Records.Select(r => new EvaluationSummary(r.Id, r.EvaluatedAt, r.Caller, r.Asset, r.SiteId, r.Verdict, r.RuleDigest, r.EngineVersion, r.ReplayOf)).ToArray(),
             page.NextCursor));
     }
 
-    internal static bool MayRead(ClaimsPrincipal user, ApiKeyRegistry keys, AuditRecord record) =>
-        keys.IsOpen
-        || user.IsInRole(Roles.Planner)
-        || user.IsInRole(Roles.Admin)
-        || (user.IsInRole(Roles.Technician) && string.Equals(record.Caller, user.Identity?.Name, StringComparison.Ordinal));
+    /// <summary>The filters shared by the list and the export, checked field by field.</summary>
+    internal static Dictionary<string, string[]> FilterErrors(string? verdict, DateTimeOffset? from, DateTimeOffset? to)
+    {
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        if (verdict is not null && !AuditVerdict.IsKnown(verdict))
+        {
+            errors["verdict"] = ["Accepted values: 'pass', 'review', 'fail'."];
+        }
+
+        if (from is not null && to is not null && from >= to)
+        {
+            errors["to"] = ["'to' must be later than 'from'."];
+        }
+
+        return errors;
+    }
+
+    internal static bool SeesEverything(ClaimsPrincipal user, ApiKeyRegistry keys) =>
+        keys.IsOpen || user.IsInRole(Roles.Planner) || user.IsInRole(Roles.Admin);
+
+    /// <summary>
+    /// Planner and admin keys read every record. A technician reads the records it made and every record of an asset it
+    /// has evaluated itself (the machine's history, made by whoever evaluated it).
+    /// </summary>
+    internal static async Task<bool> MayReadAsync(ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, AuditRecord record, CancellationToken cancellationToken)
+    {
+        if (SeesEverything(user, keys))
+        {
+            return true;
+        }
+
+        if (!user.IsInRole(Roles.Technician) || user.Identity?.Name is not { } name)
+        {
+            return false;
+        }
+
+        return string.Equals(record.Caller, name, StringComparison.Ordinal)
+            || await HasEvaluatedAsync(audit, name, record.Asset, cancellationToken).ConfigureAwait(false);
+    }
+
+    private static async Task<bool> HasEvaluatedAsync(IAuditStore audit, string caller, string asset, CancellationToken cancellationToken)
+    {
+        await foreach (var _ in audit.QueryAsync(new AuditQuery { Caller = caller, Asset = asset, Limit = 1 }, cancellationToken).ConfigureAwait(false))
+        {
+            return true;
+        }
+
+        return false;
+    }
 
     internal static string CallerOf(HttpContext http) =>
         http.User.Identity?.IsAuthenticated == true && http.User.Identity.Name is { } name ? name : AuditRecord.AnonymousCaller;
@@ -218,6 +266,9 @@ public static partial class EvaluationsApi
 
     [LoggerMessage(EventId = 2, Level = LogLevel.Error, Message = "Evaluation {EvaluationId} of {Asset} not answered: the audit store refused the write")]
     private static partial void LogAuditFailed(ILogger logger, Exception exception, Guid evaluationId, string asset);
+
+    [LoggerMessage(EventId = 3, Level = LogLevel.Error, Message = "Evaluation of {Asset} not answered: the asset's history could not be read from the audit store")]
+    private static partial void LogHistoryFailed(ILogger logger, Exception exception, string asset);
 }
 
 /// <summary>
@@ -235,6 +286,7 @@ public sealed record StoredEvaluation(
     string EngineVersion,
     string RequestSha256,
     string ResponseSha256,
+    Guid? ReplayOf,
     JsonElement Request,
     JsonElement Response)
 {
@@ -258,6 +310,11 @@ public sealed record StoredEvaluation(
             w.WriteString("engineVersion", record.EngineVersion);
             w.WriteString("requestSha256", record.RequestSha256);
             w.WriteString("responseSha256", record.ResponseSha256);
+            if (record.ReplayOf is { } replayOf)
+            {
+                w.WriteString("replayOf", replayOf);
+            }
+
             w.WritePropertyName("request");
             w.WriteRawValue(record.Request, skipInputValidation: false);
             w.WritePropertyName("response");
@@ -284,4 +341,13 @@ public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha2
 public sealed record EvaluationList(IReadOnlyList<EvaluationSummary> Evaluations, string? NextCursor);
 
 /// <summary>One recorded evaluation in a list.</summary>
-public sealed record EvaluationSummary(Guid Id, DateTimeOffset EvaluatedAt, string Caller, string Asset, string? Site, string Verdict, string RuleDigest, string EngineVersion);
+/// <param name="Id">The evaluation id.</param>
+/// <param name="EvaluatedAt">When it was made (UTC).</param>
+/// <param name="Caller">The key id that asked, or anonymous.</param>
+/// <param name="Asset">The asset tag.</param>
+/// <param name="Site">The site, when the request named one.</param>
+/// <param name="Verdict">pass, review or fail.</param>
+/// <param name="RuleDigest">SHA-256 of the effective rule set used.</param>
+/// <param name="EngineVersion">The engine version that answered.</param>
+/// <param name="ReplayOf">The evaluation this one replays, when it is a replay.</param>
+public sealed record EvaluationSummary(Guid Id, DateTimeOffset EvaluatedAt, string Caller, string Asset, string? Site, string Verdict, string RuleDigest, string EngineVersion, Guid? ReplayOf);

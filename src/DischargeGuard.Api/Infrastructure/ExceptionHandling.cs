@@ -69,7 +69,7 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
     }
 
     // The serializer's messages name .NET types; say what the contract expects instead.
-    private static string CleanJsonMessage(JsonException json)
+    internal static string CleanJsonMessage(JsonException json)
     {
         var m = json.Message;
         if (m.Contains("could not be mapped", StringComparison.Ordinal) || m.Contains("unmapped", StringComparison.OrdinalIgnoreCase))

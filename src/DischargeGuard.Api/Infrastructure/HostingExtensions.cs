@@ -78,6 +78,7 @@ public static class HostingExtensions
             return SqliteAuditStore.OpenAsync(options, CancellationToken.None).GetAwaiter().GetResult();
         });
         builder.Services.AddSingleton<EvaluationPipeline>();
+        builder.Services.AddSingleton<EvaluationRunner>();
         builder.Services.AddSingleton<IValidator<EvaluationRequest>, EvaluationRequestValidator>();
         builder.Services.AddHostedService<StartupWarmup>();
 
@@ -108,16 +109,28 @@ public static class HostingExtensions
         app.Use((context, next) =>
         {
             // The Kestrel limit does not apply under other servers; a declared length over the limit is refused
-            // everywhere, before the body is read.
-            var limit = context.RequestServices.GetRequiredService<IOptions<ServiceOptions>>().Value.MaxRequestBodyBytes;
+            // everywhere, before the body is read. A JSON batch has its own, larger limit (NDJSON is read line by line).
+            var service = context.RequestServices.GetRequiredService<IOptions<ServiceOptions>>().Value;
+            var post = HttpMethods.IsPost(context.Request.Method);
+            var batch = post && context.Request.Path.Equals("/v1/evaluations/batch", StringComparison.Ordinal);
+            var limit = batch ? Math.Max(service.MaxBatchBodyBytes, service.MaxRequestBodyBytes) : service.MaxRequestBodyBytes;
             if (context.Request.ContentLength > limit)
             {
                 throw new BadHttpRequestException("The request body is too large.", StatusCodes.Status413PayloadTooLarge);
             }
 
-            // Evaluations record the request exactly as received, so its body is kept for a second read.
-            if (HttpMethods.IsPost(context.Request.Method) && context.Request.Path.StartsWithSegments("/v1/evaluations", StringComparison.Ordinal))
+            if (batch)
             {
+                var isNdjson = context.Request.ContentType?.StartsWith(BatchApi.Ndjson, StringComparison.OrdinalIgnoreCase) == true;
+                if (context.Features.Get<Microsoft.AspNetCore.Http.Features.IHttpMaxRequestBodySizeFeature>() is { IsReadOnly: false } size)
+                {
+                    // NDJSON streams, so its total is bounded by the item count and each line by MaxRequestBodyBytes.
+                    size.MaxRequestBodySize = isNdjson ? null : limit;
+                }
+            }
+            else if (post && context.Request.Path.StartsWithSegments("/v1/evaluations", StringComparison.Ordinal))
+            {
+                // Evaluations record the request exactly as received, so its body is kept for a second read.
                 context.Request.EnableBuffering();
             }
 
@@ -129,6 +142,7 @@ public static class HostingExtensions
 
         app.MapEvaluations();
         app.MapRules();
+        app.MapAdmin();
         app.MapGases();
         app.MapHealth();
         return app;

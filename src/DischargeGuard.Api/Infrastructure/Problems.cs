@@ -20,10 +20,13 @@ internal static class Problems
 
     public static string TypeUri(string code) => "urn:dischargeguard:problem:" + code;
 
-    public static ValidationProblem Validation(IEnumerable<ValidationFailure> failures) =>
-        Validation(failures
+    public static ValidationProblem Validation(IEnumerable<ValidationFailure> failures) => Validation(ErrorsOf(failures));
+
+    /// <summary>FluentValidation failures as the contract's errors: camelCase paths, each with its distinct messages.</summary>
+    public static Dictionary<string, string[]> ErrorsOf(IEnumerable<ValidationFailure> failures) =>
+        failures
             .GroupBy(f => CamelPath(f.PropertyName), StringComparer.Ordinal)
-            .ToDictionary(g => g.Key, g => g.Select(f => f.ErrorMessage).Distinct(StringComparer.Ordinal).ToArray(), StringComparer.Ordinal));
+            .ToDictionary(g => g.Key, g => g.Select(f => f.ErrorMessage).Distinct(StringComparer.Ordinal).ToArray(), StringComparer.Ordinal);
 
     public static ValidationProblem Validation(IDictionary<string, string[]> errors, string code = InvalidRequest, string title = "The request has invalid fields.") =>
         TypedResults.ValidationProblem(

@@ -18,6 +18,14 @@ public sealed class ServiceOptions
     [Range(1024, 256 * 1024 * 1024)]
     public long MaxRequestBodyBytes { get; set; } = 1024 * 1024;
 
+    /// <summary>Largest accepted body of <c>POST /v1/evaluations/batch</c> in JSON form, bytes (NDJSON limits each line to <see cref="MaxRequestBodyBytes"/> instead).</summary>
+    [Range(1024, 1024L * 1024 * 1024)]
+    public long MaxBatchBodyBytes { get; set; } = 64L * 1024 * 1024;
+
+    /// <summary>Youngest records a retention run may delete, days: <c>deleteBefore</c> must be at least this long ago.</summary>
+    [Range(1, 36_500)]
+    public int MinimumRetentionDays { get; set; } = 730;
+
     /// <summary>Seconds a client should wait before retrying after a 503.</summary>
     [Range(1, 3600)]
     public int RetryAfterSeconds { get; set; } = 5;

@@ -11,16 +11,20 @@ public static class Policies
     /// <summary><c>GET /v1/evaluations/{id}</c>: planner, admin; a technician only for the records it made (checked in the endpoint).</summary>
     public const string ReadEvaluation = "read-evaluation";
 
+    /// <summary><c>POST /v1/evaluations/batch</c>, <c>GET /v1/evaluations/export</c>, <c>POST /v1/evaluations/{id}/replay</c>: planner.</summary>
+    public const string Plan = "plan";
+
     /// <summary><c>GET /v1/rules</c>, <c>GET /v1/gases</c>: any valid key.</summary>
     public const string ReadCatalogue = "read-catalogue";
 
-    /// <summary><c>POST /v1/rules/check</c>, <c>POST /v1/rules/reload</c>: admin.</summary>
+    /// <summary><c>POST /v1/rules/check</c>, <c>POST /v1/rules/reload</c>, <c>POST /v1/admin/retention</c>: admin.</summary>
     public const string Admin = "admin";
 
     internal static readonly IReadOnlyDictionary<string, string[]> RolesOf = new Dictionary<string, string[]>(StringComparer.Ordinal)
     {
         [Evaluate] = [Roles.Technician, Roles.Gate],
         [ReadEvaluation] = [Roles.Technician, Roles.Planner, Roles.Admin],
+        [Plan] = [Roles.Planner],
         [ReadCatalogue] = [.. Roles.All],
         [Admin] = [Roles.Admin],
     };

@@ -1,0 +1,190 @@
+using System.Text.Json;
+using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Audit;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Rules.Provider;
+using FluentValidation;
+using Microsoft.AspNetCore.Mvc;
+
+namespace DischargeGuard.Api.Endpoints;
+
+/// <summary>
+/// One evaluation from request bytes to an audit record and its answer, the same for a single post, a batch item and a
+/// replay: read, validate, evaluate, serialise. Appending the record is the caller's step (a batch appends many at once).
+/// </summary>
+internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<EvaluationRequest> validator, TimeProvider time)
+{
+    /// <summary>Reads and validates one request document (a batch item or a stored request).</summary>
+    /// <param name="json">The request as received (UTF-8 JSON).</param>
+    /// <returns>The request, or the 400 problem that refuses it.</returns>
+    public (EvaluationRequest? Request, RunResult? Refusal) Read(ReadOnlyMemory<byte> json)
+    {
+        EvaluationRequest? request;
+        try
+        {
+            request = JsonSerializer.Deserialize(json.Span, EvaluationJsonContext.Default.EvaluationRequest);
+        }
+        catch (JsonException e)
+        {
+            var errors = new Dictionary<string, string[]>(StringComparer.Ordinal)
+            {
+                [ProblemExceptionHandler.JsonPathToField(e.Path)] = [ProblemExceptionHandler.CleanJsonMessage(e)],
+            };
+            return (null, RunResult.Refused(ItemProblems.Invalid(errors, "The request body could not be read.")));
+        }
+
+        if (request is null)
+        {
+            return (null, RunResult.Refused(ItemProblems.Invalid(new Dictionary<string, string[]> { [string.Empty] = ["Each item is an evaluation request object."] }, "The request body could not be read.")));
+        }
+
+        var validation = validator.Validate(request);
+        return validation.IsValid
+            ? (request, null)
+            : (null, RunResult.Refused(ItemProblems.Invalid(Problems.ErrorsOf(validation.Errors), "The request has invalid fields.")));
+    }
+
+    /// <summary>Evaluates a request that has been read and validated.</summary>
+    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null)
+    {
+        var now = time.GetUtcNow();
+        var id = Guid.CreateVersion7(now);
+        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages });
+        if (outcome.Problem is { } problem)
+        {
+            return RunResult.Refused(problem.Kind == ProblemKind.InvalidRequest
+                ? ItemProblems.Invalid(problem.Errors, problem.Title, problem.Code)
+                : ItemProblems.Unprocessable(problem));
+        }
+
+        var response = outcome.Response!;
+        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
+        var record = new AuditRecord
+        {
+            Id = id,
+            EvaluatedAt = now,
+            Caller = caller,
+            Asset = request.Asset!,
+            SiteId = request.Site?.Id,
+            Verdict = response.Verdict,
+            RuleDigest = response.RuleSet.Digest,
+            EngineVersion = response.EngineVersion,
+            Request = requestBytes,
+            Response = body,
+            ReplayOf = replayOf,
+        };
+        return new RunResult(StatusCodes.Status200OK, record, response, null);
+    }
+}
+
+/// <summary>What one evaluation came to before it was recorded.</summary>
+/// <param name="Status">200, 400 or 422.</param>
+/// <param name="Record">The record to append (on 200).</param>
+/// <param name="Response">The answer (on 200); its bytes are <see cref="AuditRecord.Response"/>.</param>
+/// <param name="Problem">Why it was refused (otherwise).</param>
+internal sealed record RunResult(int Status, AuditRecord? Record, EvaluationResponse? Response, ProblemDetails? Problem)
+{
+    public static RunResult Refused(ProblemDetails problem) => new(problem.Status!.Value, null, null, problem);
+}
+
+/// <summary>The problem documents of batch items: the same types, codes and fields as a single post's answers.</summary>
+internal static class ItemProblems
+{
+    public static HttpValidationProblemDetails Invalid(IReadOnlyDictionary<string, string[]> errors, string title, string code = Problems.InvalidRequest)
+    {
+        var details = new HttpValidationProblemDetails(errors.ToDictionary(e => e.Key, e => e.Value, StringComparer.Ordinal))
+        {
+            Status = StatusCodes.Status400BadRequest,
+            Type = Problems.TypeUri(code),
+            Title = title,
+            Detail = "See 'errors': each entry names the request field and what is accepted there.",
+        };
+        details.Extensions["code"] = code;
+        return details;
+    }
+
+    public static ProblemDetails Unprocessable(RequestProblem problem)
+    {
+        var details = new ProblemDetails
+        {
+            Status = StatusCodes.Status422UnprocessableEntity,
+            Type = Problems.TypeUri(problem.Code),
+            Title = problem.Title,
+            Detail = "See 'errors': each entry names the request field and the allowed range.",
+        };
+        details.Extensions["code"] = problem.Code;
+        details.Extensions["errors"] = problem.Errors;
+        return details;
+    }
+
+    public static ProblemDetails AuditUnavailable()
+    {
+        var details = new ProblemDetails
+        {
+            Status = StatusCodes.Status503ServiceUnavailable,
+            Type = Problems.TypeUri(Problems.AuditUnavailable),
+            Title = "The audit store is unavailable.",
+            Detail = "This item was computed but could not be recorded, so no result is given. Retry it later; nothing was stored for it.",
+        };
+        details.Extensions["code"] = Problems.AuditUnavailable;
+        return details;
+    }
+
+    public static ProblemDetails Internal()
+    {
+        var details = new ProblemDetails
+        {
+            Status = StatusCodes.Status500InternalServerError,
+            Type = Problems.TypeUri(Problems.Internal),
+            Title = "An unexpected error occurred.",
+            Detail = "The error was logged; no result was given for this item.",
+        };
+        details.Extensions["code"] = Problems.Internal;
+        return details;
+    }
+
+    public static ProblemDetails OverLimit(int limit)
+    {
+        var details = new ProblemDetails
+        {
+            Status = StatusCodes.Status413PayloadTooLarge,
+            Type = Problems.TypeUri(Problems.PayloadTooLarge),
+            Title = "The batch has more items than one batch may hold.",
+            Detail = $"A batch holds at most {limit} evaluations; this item and any after it were not read. Send them in another batch.",
+        };
+        details.Extensions["code"] = Problems.PayloadTooLarge;
+        return details;
+    }
+}
+
+/// <summary>The asset's earlier evaluations as trend rules read them: per stage, oldest first.</summary>
+/// <param name="Stages">One list per stage of the request.</param>
+internal sealed record AssetHistory(IReadOnlyList<IReadOnlyList<DischargeGuard.Rules.Evaluation.DeviationSample>> Stages)
+{
+    /// <summary>Whether the request has anything a trend could use: a measured discharge temperature on some stage.</summary>
+    public static bool IsUseful(EvaluationRequest request) =>
+        request.Stages is { } stages && stages.Any(s => s.Measured?.DischargeTemperature is not null);
+
+    /// <summary>
+    /// Reads the newest stored answers for the request's asset (and site), before <paramref name="before"/> when given,
+    /// or returns null when the request has no measurement a trend could use.
+    /// </summary>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    public static async Task<AssetHistory?> LoadAsync(IAuditStore audit, EvaluationRequest request, DateTimeOffset? before, CancellationToken cancellationToken)
+    {
+        if (!IsUseful(request))
+        {
+            return null;
+        }
+
+        var responses = new List<ReadOnlyMemory<byte>>(EvaluationHistory.MaxEvaluations);
+        var query = new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations };
+        await foreach (var record in audit.QueryAsync(query, cancellationToken).ConfigureAwait(false))
+        {
+            responses.Add(record.Response);
+        }
+
+        return new AssetHistory(EvaluationHistory.FromStoredResponses(responses, request.Stages!.Count));
+    }
+}

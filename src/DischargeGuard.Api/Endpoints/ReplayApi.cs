@@ -1,0 +1,231 @@
+using System.Text.Json;
+using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Api.Infrastructure.Security;
+using DischargeGuard.Audit;
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Rules.Provider;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Options;
+
+namespace DischargeGuard.Api.Endpoints;
+
+/// <summary>
+/// <c>POST /v1/evaluations/{id}/replay</c>: the stored request evaluated again against the rules active now, recorded as
+/// a new evaluation that names the one it replays, with what changed: verdict, rule digest, and per stage the verdict,
+/// the governing rule and its margin.
+/// </summary>
+internal static partial class ReplayApi
+{
+    public static RouteHandlerBuilder MapReplay(this RouteGroupBuilder group) =>
+        group.MapPost("/{id:guid}/replay", ReplayAsync)
+            .WithName("ReplayEvaluation")
+            .WithSummary("Evaluate a recorded request again against the rules active now; the replay is recorded and compared with the original.")
+            .WithDescription("The replay's own record has `replayOf` set to the original id and stores the new evaluation as its response. "
+                + "History for trend rules is read as it stood before the original evaluation. A stored request that the rules active now refuse answers 400 or 422 and records nothing.")
+            .Produces<ReplayResult>(StatusCodes.Status200OK)
+            .ProducesProblem(StatusCodes.Status404NotFound)
+            .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
+            .RequireRoles(Policies.Plan);
+
+    internal static async Task<Results<Utf8JsonResult<ReplayResult>, ValidationProblem, ProblemHttpResult>> ReplayAsync(
+        Guid id,
+        HttpContext http,
+        IRuleSetProvider rules,
+        EvaluationRunner runner,
+        IAuditStore audit,
+        IOptions<ServiceOptions> options,
+        ILoggerFactory loggers)
+    {
+        var logger = loggers.CreateLogger("DischargeGuard.Evaluations.Replay");
+        AuditRecord? original;
+        AssetHistory? history = null;
+        try
+        {
+            original = await audit.GetAsync(id, http.RequestAborted).ConfigureAwait(false);
+            if (original is null)
+            {
+                return Problems.Missing($"No evaluation with id {id} is recorded.");
+            }
+
+            var (request, refusal) = runner.Read(original.Request);
+            if (refusal is not null)
+            {
+                return ProblemOf(refusal, "The stored request is not accepted by the contract of this version; it cannot be replayed.");
+            }
+
+            history = await AssetHistory.LoadAsync(audit, request!, original.EvaluatedAt, http.RequestAborted).ConfigureAwait(false);
+            var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id);
+            if (result.Record is not { } record)
+            {
+                return ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.");
+            }
+
+            await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+            LogReplayed(logger, record.Id, original.Id, original.Verdict, record.Verdict, original.RuleDigest, record.RuleDigest);
+            return new Utf8JsonResult<ReplayResult>(Write(original, record));
+        }
+        catch (AuditStoreUnavailableException ex)
+        {
+            LogReplayFailed(logger, ex, id);
+            return EvaluationsApi.Unavailable(http, options);
+        }
+    }
+
+    private static ProblemHttpResult ProblemOf(RunResult refused, string detail)
+    {
+        var problem = refused.Problem!;
+        problem.Detail = detail;
+        return TypedResults.Problem(problem);
+    }
+
+    // {"original": {…}, "replay": <the new evaluation, as recorded>, "changes": {…}}
+    private static byte[] Write(AuditRecord original, AuditRecord replay)
+    {
+        using var before = JsonDocument.Parse(original.Response);
+        using var after = JsonDocument.Parse(replay.Response);
+        using var buffer = new MemoryStream(replay.Response.Length + 1024);
+        using (var w = new Utf8JsonWriter(buffer, new JsonWriterOptions { Encoder = System.Text.Encodings.Web.JavaScriptEncoder.UnsafeRelaxedJsonEscaping }))
+        {
+            w.WriteStartObject();
+            w.WriteStartObject("original");
+            w.WriteString("id", original.Id);
+            w.WriteString("evaluatedAt", original.EvaluatedAt);
+            w.WriteString("verdict", original.Verdict);
+            w.WriteString("ruleDigest", original.RuleDigest);
+            w.WriteString("engineVersion", original.EngineVersion);
+            w.WriteEndObject();
+            w.WritePropertyName("replay");
+            w.WriteRawValue(replay.Response, skipInputValidation: true);
+
+            w.WriteStartObject("changes");
+            var changed = false;
+            changed |= WriteChange(w, "verdict", original.Verdict, replay.Verdict);
+            changed |= WriteChange(w, "ruleDigest", original.RuleDigest, replay.RuleDigest);
+            changed |= WriteChange(w, "engineVersion", original.EngineVersion, replay.EngineVersion);
+            w.WriteStartArray("stages");
+            var stagesBefore = Stages(before.RootElement);
+            var stagesAfter = Stages(after.RootElement);
+            for (var i = 0; i < Math.Max(stagesBefore.Count, stagesAfter.Count); i++)
+            {
+                var b = i < stagesBefore.Count ? stagesBefore[i] : default;
+                var a = i < stagesAfter.Count ? stagesAfter[i] : default;
+                w.WriteStartObject();
+                w.WriteNumber("index", i);
+                var stageChanged = WriteChange(w, "verdict", Text(b, "verdict"), Text(a, "verdict"));
+                stageChanged |= WriteChange(w, "governingRule", Text(Member(b, "governing"), "ruleId"), Text(Member(a, "governing"), "ruleId"));
+                stageChanged |= WriteMargin(w, Member(Member(b, "governing"), "margin"), Member(Member(a, "governing"), "margin"));
+                w.WriteBoolean("changed", stageChanged);
+                w.WriteEndObject();
+                changed |= stageChanged;
+            }
+
+            w.WriteEndArray();
+            w.WriteBoolean("changed", changed);
+            w.WriteEndObject();
+            w.WriteEndObject();
+        }
+
+        return buffer.ToArray();
+    }
+
+    private static bool WriteChange(Utf8JsonWriter w, string name, string? from, string? to)
+    {
+        w.WriteStartObject(name);
+        WriteNullable(w, "from", from);
+        WriteNullable(w, "to", to);
+        var changed = !string.Equals(from, to, StringComparison.Ordinal);
+        w.WriteBoolean("changed", changed);
+        w.WriteEndObject();
+        return changed;
+    }
+
+    // Margins in the answer's units (both answers use the stored request's units); the change is to − from.
+    private static bool WriteMargin(Utf8JsonWriter w, JsonElement from, JsonElement to)
+    {
+        w.WriteStartObject("governingMargin");
+        WriteQuantity(w, "from", from);
+        WriteQuantity(w, "to", to);
+        var changed = from.ValueKind != to.ValueKind;
+        if (from.ValueKind == JsonValueKind.Object && to.ValueKind == JsonValueKind.Object
+            && from.GetProperty("value").TryGetDouble(out var f) && to.GetProperty("value").TryGetDouble(out var t)
+            && Text(from, "unit") == Text(to, "unit"))
+        {
+            w.WriteStartObject("change");
+            w.WriteNumber("value", Math.Round(t - f, 3));
+            w.WriteString("unit", Text(to, "unit"));
+            w.WriteEndObject();
+            changed = Math.Round(t - f, 3) != 0;
+        }
+        else if (from.ValueKind == JsonValueKind.Object || to.ValueKind == JsonValueKind.Object)
+        {
+            changed = true;
+        }
+
+        w.WriteBoolean("changed", changed);
+        w.WriteEndObject();
+        return changed;
+    }
+
+    private static void WriteQuantity(Utf8JsonWriter w, string name, JsonElement q)
+    {
+        if (q.ValueKind == JsonValueKind.Object)
+        {
+            w.WritePropertyName(name);
+            q.WriteTo(w);
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+
+    private static void WriteNullable(Utf8JsonWriter w, string name, string? value)
+    {
+        if (value is null)
+        {
+            w.WriteNull(name);
+        }
+        else
+        {
+            w.WriteString(name, value);
+        }
+    }
+
+    private static List<JsonElement> Stages(JsonElement root) =>
+        root.TryGetProperty("stages", out var s) && s.ValueKind == JsonValueKind.Array ? [.. s.EnumerateArray()] : [];
+
+    private static JsonElement Member(JsonElement e, string name) =>
+        e.ValueKind == JsonValueKind.Object && e.TryGetProperty(name, out var v) ? v : default;
+
+    private static string? Text(JsonElement e, string name) =>
+        e.ValueKind == JsonValueKind.Object && e.TryGetProperty(name, out var v) && v.ValueKind == JsonValueKind.String ? v.GetString() : null;
+
+    [LoggerMessage(EventId = 30, Level = LogLevel.Information,
+        Message = "Replay {EvaluationId} of {OriginalId}: verdict {OriginalVerdict} -> {Verdict}, rules {OriginalRuleDigest} -> {RuleDigest}")]
+    private static partial void LogReplayed(ILogger logger, Guid evaluationId, Guid originalId, string originalVerdict, string verdict, string originalRuleDigest, string ruleDigest);
+
+    [LoggerMessage(EventId = 31, Level = LogLevel.Error, Message = "Replay of {OriginalId} not answered: the audit store could not be read or written")]
+    private static partial void LogReplayFailed(ILogger logger, Exception exception, Guid originalId);
+}
+
+/// <summary>The answer of <c>POST /v1/evaluations/{id}/replay</c>.</summary>
+/// <param name="Original">The replayed record.</param>
+/// <param name="Replay">The new evaluation, byte-identical to its own audit record's response.</param>
+/// <param name="Changes">What differs between the two.</param>
+public sealed record ReplayResult(ReplayOriginal Original, EvaluationResponse Replay, ReplayChanges Changes);
+
+/// <summary>The replayed record's identity and outcome.</summary>
+public sealed record ReplayOriginal(Guid Id, DateTimeOffset EvaluatedAt, string Verdict, string RuleDigest, string EngineVersion);
+
+/// <summary>A value before and after.</summary>
+public sealed record ReplayChange(string? From, string? To, bool Changed);
+
+/// <summary>A margin before and after, and to − from when both exist in the same unit.</summary>
+public sealed record ReplayMarginChange(QuantityDto? From, QuantityDto? To, QuantityDto? Change, bool Changed);
+
+/// <summary>One stage before and after.</summary>
+public sealed record ReplayStageChange(int Index, ReplayChange Verdict, ReplayChange GoverningRule, ReplayMarginChange GoverningMargin, bool Changed);
+
+/// <summary>Everything that differs.</summary>
+public sealed record ReplayChanges(ReplayChange Verdict, ReplayChange RuleDigest, ReplayChange EngineVersion, IReadOnlyList<ReplayStageChange> Stages, bool Changed);
