@@ -12,11 +12,18 @@ namespace DischargeGuard.Api.Tests;
 /// POST /v1/evaluations/batch: every item answered and audited as if posted alone (its own id and record, byte-identical
 /// to the answer), in order, in JSON and NDJSON; a bad item never fails the others; limits refuse before evaluating.
 /// </summary>
-public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<ServiceFactory>
+public abstract class BatchEndpointContract(ServiceFactory factory)
 {
-    private readonly ServiceFactory _factory = factory;
+    private ServiceFactory _factory
+    {
+        get
+        {
+            factory.Require();
+            return factory;
+        }
+    }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenItemsAreGoodBadAndImpossible_AnswersEachInOrderAndAuditsOnlyTheGoodOnes()
     {
         var before = await CountAsync();
@@ -58,7 +65,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(before + 2, await CountAsync());
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenItemIsStored_ItsRequestIsTheItemAsSent()
     {
         const string item = """{ "asset" : "K-101A", "gas": {"preset": "dry-air"}, "stages": [{"suction": {"pressure": "1 bara", "temperature": "35 °C"}, "discharge": {"pressure": "3 bara"}, "efficiency": {"isentropic": 0.8}}] }""";
@@ -70,7 +77,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(item, Encoding.UTF8.GetString(record!.Request));
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenNdjson_AnswersOneLinePerItemAndTakesABadLineAsThatItemsProblem()
     {
         var body = string.Join('\n',
@@ -94,7 +101,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal("invalid-request", parsed[1].GetProperty("problem").GetProperty("code").GetString());
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenJsonButAcceptAsksForNdjson_AnswersNdjson()
     {
         using var client = _factory.CreateClient();
@@ -110,7 +117,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(2, (await response.Content.ReadAsStringAsync()).Split('\n', StringSplitOptions.RemoveEmptyEntries).Length);
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenTenThousandItems_AnswersAndAuditsEveryOne()
     {
         var before = await CountAsync();
@@ -127,7 +134,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(before + 10_000, await CountAsync());
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenMoreThanTenThousandItems_Answers413AndStoresNothing()
     {
         var before = await CountAsync();
@@ -139,7 +146,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(before, await CountAsync());
     }
 
-    [Theory]
+    [SkippableTheory]
     [InlineData("[]", "")]
     [InlineData("{\"evaluations\": {}}", "evaluations")]
     [InlineData("{\"items\": []}", "items")]
@@ -156,7 +163,7 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         Assert.Equal(before, await CountAsync());
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Batch_WhenMediaTypeIsNeitherJsonNorNdjson_Answers415()
     {
         using var content = new StringContent("asset,stage\nK-101A,1\n", Encoding.UTF8, "text/csv");
@@ -186,3 +193,9 @@ public sealed class BatchEndpointTests(ServiceFactory factory) : IClassFixture<S
         return n;
     }
 }
+
+/// <summary>The batch contract on the default SQLite audit file.</summary>
+public sealed class BatchEndpointTests(ServiceFactory factory) : BatchEndpointContract(factory), IClassFixture<ServiceFactory>;
+
+/// <summary>The batch contract with the audit store on a real PostgreSQL server.</summary>
+public sealed class PostgresBatchEndpointTests(PostgresServiceFactory factory) : BatchEndpointContract(factory), IClassFixture<PostgresServiceFactory>;

@@ -13,11 +13,20 @@ namespace DischargeGuard.Api.Tests;
 /// The planners' read and re-check endpoints (CSV export, replay), the admin's retention run, and the trend finding
 /// from an asset's history. Each test uses its own invented asset tag so tests sharing the host do not see each other.
 /// </summary>
-public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixture<ServiceFactory>
+public abstract class PlanningEndpointsContract(ServiceFactory fixture)
 {
+    private ServiceFactory factory
+    {
+        get
+        {
+            fixture.Require();
+            return fixture;
+        }
+    }
+
     // ---- Export ----
 
-    [Fact]
+    [SkippableFact]
     public async Task Export_WhenAnAssetHasATrainAndAnImperialAnswer_WritesOneMetricRowPerStageUnderTheUnitHeader()
     {
         var train = Requests.Minimal("1 bara", "35 °C", "3 bara");
@@ -63,7 +72,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         AssertEx.Near(estimated, double.Parse(rows[3][column("estimated_discharge_temperature_degC")], CultureInfo.InvariantCulture), 0.0005, "stage 2 estimate");
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Export_WhenFilterIsInvalid_Answers400NamingIt()
     {
         using var client = factory.CreateClient();
@@ -73,7 +82,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.Contains("pass", AssertEx.Error(problem, "verdict"), StringComparison.Ordinal);
     }
 
-    [Theory]
+    [SkippableTheory]
     [InlineData("=HYPERLINK(\"http://x\")", "'=HYPERLINK(\"http://x\")")]
     [InlineData("+1+1", "'+1+1")]
     [InlineData("-2+3", "'-2+3")]
@@ -83,7 +92,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
     public void Neutralise_WhenTextWouldStartAFormula_PrefixesAnApostrophe(string cell, string expected) =>
         Assert.Equal(expected, ExportApi.Neutralise(cell));
 
-    [Fact]
+    [SkippableFact]
     public void AppendRow_WhenCellsHoldCommasQuotesAndFormulas_QuotesAndNeutralisesTextButNotNumbers()
     {
         var sb = new StringBuilder();
@@ -95,7 +104,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
 
     // ---- Replay ----
 
-    [Fact]
+    [SkippableFact]
     public async Task Replay_WhenRulesAreUnchanged_RecordsANewEvaluationThatNamesTheOriginalAndReportsNoChange()
     {
         var request = Requests.PassingStage();
@@ -118,7 +127,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.Equal(body.At("replay").GetRawText(), stored.At("response").GetRawText());
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Replay_WhenAnAssetLayerNowTightensTheLimit_ReportsTheNewVerdictGoverningRuleAndMargin()
     {
         var request = Requests.PassingStage();
@@ -165,7 +174,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         }
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Replay_WhenIdIsUnknown_Answers404()
     {
         using var client = factory.CreateClient();
@@ -176,7 +185,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
 
     // ---- Retention ----
 
-    [Fact]
+    [SkippableFact]
     public async Task Retention_WhenCutoffIsOldEnough_CountsOnADryRunThenDeletesOnlyOlderRecordsAndKeepsTheGrant()
     {
         var store = factory.Services.GetRequiredService<IAuditStore>();
@@ -198,7 +207,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.NotNull(await store.GetAsync(recent.At("id").GetGuid(), CancellationToken.None));
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Retention_WhenCutoffIsYoungerThanTheMinimum_Answers422AndDeletesNothing()
     {
         var cutoff = DateTimeOffset.UtcNow.AddDays(-30).ToString("O", CultureInfo.InvariantCulture);
@@ -210,7 +219,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.True(body.At("errors").TryGetProperty("deleteBefore", out _));
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Retention_WhenReasonIsMissing_Answers400NamingIt()
     {
         var (response, body) = await PostAsync("/v1/admin/retention", """{"deleteBefore": "2001-01-01T00:00:00Z"}""");
@@ -221,7 +230,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
 
     // ---- Trend finding ----
 
-    [Fact]
+    [SkippableFact]
     public async Task Trend_WhenDeviationRisesTwoKelvinPerEvaluationAtSteadyPressures_NewestCarriesTheTrendWarning()
     {
         // Deviations 1, 3, 5, 7, 9 K: a straight line, so the fitted rise over five evaluations is 8 K (above R-DEVIATION-TREND's 5 K),
@@ -240,7 +249,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.DoesNotContain(Findings(last), f => f.At("ruleId").GetString() == "R-DEVIATION" && f.At("severity").GetString() != "pass");
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Trend_WhenPressuresChangedBetweenEvaluations_TheyDoNotCountAndTheTrendIsNotChecked()
     {
         var estimated = await EstimatedAsync("K-606A");
@@ -253,7 +262,7 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         Assert.Contains("history", notChecked.At("missing[0]").GetString(), StringComparison.Ordinal);
     }
 
-    [Fact]
+    [SkippableFact]
     public async Task Trend_WhenDeviationIsSteady_ThePassIsReportedWithItsMargin()
     {
         var estimated = await EstimatedAsync("K-607A");
@@ -341,3 +350,9 @@ public sealed class PlanningEndpointsTests(ServiceFactory factory) : IClassFixtu
         return id;
     }
 }
+
+/// <summary>The planning contract on the default SQLite audit file.</summary>
+public sealed class PlanningEndpointsTests(ServiceFactory factory) : PlanningEndpointsContract(factory), IClassFixture<ServiceFactory>;
+
+/// <summary>The planning contract with the audit store on a real PostgreSQL server.</summary>
+public sealed class PostgresPlanningEndpointsTests(PostgresServiceFactory factory) : PlanningEndpointsContract(factory), IClassFixture<PostgresServiceFactory>;

@@ -42,6 +42,14 @@ public class ServiceFactory : WebApplicationFactory<Program>
         _settings.TryAdd("DischargeGuard:RulesWatch", "false");
     }
 
+    /// <summary>Sets a host setting; only before the host is first used.</summary>
+    protected void Set(string key, string? value) => _settings[key] = value;
+
+    /// <summary>Throws <c>SkipException</c> (or fails under CI=true) when this factory's dependencies are missing; the SQLite factory has none.</summary>
+    public virtual void Require()
+    {
+    }
+
     /// <summary>The temp folder holding everything this factory wrote.</summary>
     public string Folder { get; }
 
