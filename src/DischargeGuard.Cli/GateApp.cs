@@ -31,8 +31,10 @@ public static partial class GateApp
         ArgumentNullException.ThrowIfNull(environment);
         try
         {
+            StartupTrace.Mark("main");
             var root = Build(stdout, stderr, environment);
             var parsed = root.Parse(args);
+            StartupTrace.Mark("command line parsed");
             if (parsed.Errors.Count > 0)
             {
                 foreach (var e in parsed.Errors)

@@ -109,14 +109,25 @@ internal static class CheckCommand
             }
         }
 
+        // Local mode starts loading the rules (and building the validator) at once, on another core, while the proposals
+        // are read; the audit file is opened in parallel too once there is a case to record.
+        var approved = new ApprovedRules(s.ExpectedDigests.Select(d => d.ToLowerInvariant()).ToArray());
+        var rulesDir = s.Rules ?? environment.ShippedRulesDirectory;
+        var caller = s.Caller ?? environment.Variable(GateEnvironment.CallerVariable) ?? "local:" + Environment.UserName;
+        var opening = serverUri is null ? Task.Run(() => LocalEvaluator.Open(rulesDir, s.AuditFile, caller, approved), cancellationToken) : null;
+        var warming = serverUri is null ? Task.Run(Warm, cancellationToken) : null;
+
         // Read every file; a file's errors do not stop the others.
         var files = s.Files.Select(ProposalReader.ReadFile).ToList();
+        StartupTrace.Mark("proposals read");
         foreach (var e in files.SelectMany(f => f.Errors.Concat(f.Cases.SelectMany(c => c.Errors))))
         {
             await stderr.WriteLineAsync(e.ToString()).ConfigureAwait(false);
         }
 
-        var approved = new ApprovedRules(s.ExpectedDigests.Select(d => d.ToLowerInvariant()).ToArray());
+        var auditFile = opening is not null && files.SelectMany(f => f.Cases).Any(c => c.Errors.Count == 0 && c.Request is not null)
+            ? LocalEvaluator.BeginOpeningAuditFile(s.AuditFile)
+            : null;
         var results = new List<CaseResult>();
         ICaseEvaluator? evaluator = null;
         string evaluatedBy;
@@ -128,14 +139,20 @@ internal static class CheckCommand
             }
             else
             {
-                var rulesDir = s.Rules ?? environment.ShippedRulesDirectory;
                 try
                 {
-                    var caller = s.Caller ?? environment.Variable(GateEnvironment.CallerVariable) ?? "local:" + Environment.UserName;
-                    evaluator = LocalEvaluator.Open(rulesDir, s.AuditFile, caller, approved);
+                    var local = await opening!.ConfigureAwait(false);
+                    if (auditFile is not null)
+                    {
+                        local.UseAuditStore(auditFile);
+                    }
+
+                    evaluator = local;
+                    await warming!.ConfigureAwait(false);
                 }
                 catch (RuleFileException ex)
                 {
+                    await CloseAsync(auditFile).ConfigureAwait(false);
                     foreach (var e in ex.Errors)
                     {
                         await stderr.WriteLineAsync(Path.Combine(rulesDir, e.File) + ":" + e.Line.ToString(CultureInfo.InvariantCulture) + ":" + e.Column.ToString(CultureInfo.InvariantCulture) + ": " + e.Key + ": " + e.Message).ConfigureAwait(false);
@@ -146,12 +163,14 @@ internal static class CheckCommand
                 }
                 catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or ArgumentException)
                 {
+                    await CloseAsync(auditFile).ConfigureAwait(false);
                     await stderr.WriteLineAsync($"dischargeguard: cannot read the rules directory {rulesDir}: {ex.Message} (exit 64).").ConfigureAwait(false);
                     return ExitCodes.InvalidInput;
                 }
             }
 
             evaluatedBy = evaluator.Description;
+            StartupTrace.Mark("evaluator ready (rules loaded)");
             foreach (var c in files.SelectMany(f => f.Cases))
             {
                 var result = c.Errors.Count > 0 || c.Request is null ? CaseResult.Invalid(c) : await evaluator.EvaluateAsync(c, cancellationToken).ConfigureAwait(false);
@@ -169,6 +188,7 @@ internal static class CheckCommand
                 }
 
                 results.Add(result);
+                StartupTrace.Mark($"case '{c.Name}' evaluated and recorded");
             }
         }
         finally
@@ -211,7 +231,31 @@ internal static class CheckCommand
         }
 
         await stdout.FlushAsync(cancellationToken).ConfigureAwait(false);
+        StartupTrace.Mark("report written");
         return report.ExitCode;
+    }
+
+    // First use of the gas data and the unit vocabulary, off the main thread: the first evaluation then finds them built.
+    private static void Warm()
+    {
+        _ = DischargeGuard.Thermo.GasCatalog.Default;
+        _ = DischargeGuard.Rules.Units.UnitVocabulary.Default;
+    }
+
+    private static async Task CloseAsync(Task<DischargeGuard.Audit.Sqlite.SqliteAuditStore>? opening)
+    {
+        if (opening is null)
+        {
+            return;
+        }
+
+        try
+        {
+            await (await opening.ConfigureAwait(false)).DisposeAsync().ConfigureAwait(false);
+        }
+        catch (DischargeGuard.Audit.AuditStoreUnavailableException)
+        {
+        }
     }
 
     private static async Task<int> UsageAsync(TextWriter stderr, string message)

@@ -23,7 +23,7 @@ public sealed class LocalEvaluator : ICaseEvaluator
     private readonly TimeProvider _time;
     private readonly EvaluationPipeline _pipeline = new();
     private readonly EvaluationRequestValidator _validator = new();
-    private SqliteAuditStore? _store;
+    private Task<SqliteAuditStore>? _store;
 
     private LocalEvaluator(RuleSetSnapshot rules, string rulesDirectory, string auditFile, string caller, ApprovedRules approved, TimeProvider time)
     {
@@ -54,6 +54,19 @@ public sealed class LocalEvaluator : ICaseEvaluator
         var snapshot = FileRuleSetProvider.LoadDirectory(rulesDirectory, t.GetUtcNow());
         return new LocalEvaluator(snapshot, rulesDirectory, auditFile, caller, approved, t);
     }
+
+    /// <summary>
+    /// Starts opening (creating and migrating) an audit file, so that it can proceed while the rules load; pass the
+    /// task to <see cref="UseAuditStore"/>. A failure surfaces at the first append, as an unavailable store.
+    /// </summary>
+    /// <param name="auditFile">The SQLite audit file.</param>
+    /// <returns>The opening store.</returns>
+    public static Task<SqliteAuditStore> BeginOpeningAuditFile(string auditFile) =>
+        SqliteAuditStore.OpenAsync(new AuditStoreOptions { SqlitePath = auditFile }, CancellationToken.None);
+
+    /// <summary>Uses an audit store already being opened (see <see cref="BeginOpeningAuditFile"/>) instead of opening one at the first append.</summary>
+    /// <param name="store">The opening store for this evaluator's audit file.</param>
+    public void UseAuditStore(Task<SqliteAuditStore> store) => _store ??= store;
 
     /// <inheritdoc />
     public async Task<CaseResult> EvaluateAsync(ProposalCase proposalCase, CancellationToken cancellationToken)
@@ -118,8 +131,9 @@ public sealed class LocalEvaluator : ICaseEvaluator
         };
         try
         {
-            _store ??= await SqliteAuditStore.OpenAsync(new AuditStoreOptions { SqlitePath = _auditFile }, cancellationToken).ConfigureAwait(false);
-            await _store.AppendAsync(record, cancellationToken).ConfigureAwait(false);
+            _store ??= BeginOpeningAuditFile(_auditFile);
+            var store = await _store.ConfigureAwait(false);
+            await store.AppendAsync(record, cancellationToken).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
@@ -148,9 +162,19 @@ public sealed class LocalEvaluator : ICaseEvaluator
     /// <inheritdoc />
     public async ValueTask DisposeAsync()
     {
-        if (_store is not null)
+        if (_store is null)
         {
-            await _store.DisposeAsync().ConfigureAwait(false);
+            return;
+        }
+
+        try
+        {
+            var store = await _store.ConfigureAwait(false);
+            await store.DisposeAsync().ConfigureAwait(false);
+        }
+        catch (AuditStoreUnavailableException)
+        {
+            // It never opened; the append that needed it already reported that.
         }
     }
 }

@@ -74,6 +74,12 @@ internal static partial class YamlDocumentReader
         {
             throw new DocumentSyntaxException(At(ex.Start), string.Empty, "Not valid YAML: " + Clean(ex.Message));
         }
+        catch (InvalidOperationException)
+        {
+            // YamlDotNet's parser gives up this way on some broken flow collections; the last event read is nearby.
+            var near = parser.Current?.End ?? Mark.Empty;
+            throw new DocumentSyntaxException(At(near), string.Empty, "Not valid YAML after this point: is a '{' or '[' left unclosed, or a ':' missing?");
+        }
     }
 
     private static DocNode ReadNode(IParser parser, string path, int depth)

@@ -298,7 +298,8 @@ public static class ProposalReader
                     var property = info.Properties.FirstOrDefault(p => string.Equals(p.Name, m.Name, StringComparison.Ordinal));
                     if (property is null)
                     {
-                        var near = info.Properties.FirstOrDefault(p => string.Equals(p.Name, m.Name, StringComparison.OrdinalIgnoreCase));
+                        var near = info.Properties.FirstOrDefault(p => string.Equals(p.Name, m.Name, StringComparison.OrdinalIgnoreCase))
+                            ?? info.Properties.Where(p => Distance(p.Name, m.Name) <= 2).OrderBy(p => Distance(p.Name, m.Name)).FirstOrDefault();
                         var hint = near is null ? string.Empty : $" Did you mean '{near.Name}'?";
                         c.Errors.Add(c.ErrorAt(memberPath,
                             $"Unknown field '{m.Name}'.{hint} Accepted here: {string.Join(", ", info.Properties.Select(p => p.Name).Order(StringComparer.Ordinal))}."));
@@ -334,19 +335,64 @@ public static class ProposalReader
             detail = detail[..cut];
         }
 
-        // The contract's own messages (quantity converter) are written for callers; the framework's name .NET types.
-        if (detail.Contains("could not be converted to", StringComparison.Ordinal))
+        // The contract's own messages (the quantity converter's) are written for callers; the framework's name .NET
+        // types, so say instead what the contract expects at that path.
+        return detail.StartsWith("The JSON value could not be converted", StringComparison.Ordinal) || detail.StartsWith("The JSON", StringComparison.Ordinal)
+            ? $"Expected {Expected(path)} here, found {what}."
+            : detail;
+    }
+
+    private static string Expected(string path)
+    {
+        var info = EvaluationJson.Options.GetTypeInfo(typeof(EvaluationRequest));
+        foreach (var segment in DocPath.Segments(path))
         {
-            var type = detail.Contains("Double", StringComparison.Ordinal) ? "a number"
-                : detail.Contains("Boolean", StringComparison.Ordinal) ? "true or false"
-                : detail.Contains("String", StringComparison.Ordinal) ? "text"
-                : detail.Contains("List", StringComparison.Ordinal) || detail.Contains("[]", StringComparison.Ordinal) ? "a list"
-                : detail.Contains("Dictionary", StringComparison.Ordinal) ? "an object of names to numbers"
-                : "an object";
-            return $"Expected {type} here, found {what}.";
+            Type? next = segment switch
+            {
+                string name when info.Kind == JsonTypeInfoKind.Object => info.Properties.FirstOrDefault(p => p.Name == name)?.PropertyType,
+                string when info.Kind == JsonTypeInfoKind.Dictionary => info.ElementType,
+                int when info.Kind == JsonTypeInfoKind.Enumerable => info.ElementType,
+                _ => null,
+            };
+            if (next is null)
+            {
+                return "another kind of value";
+            }
+
+            info = EvaluationJson.Options.GetTypeInfo(next);
         }
 
-        return detail;
+        var type = Nullable.GetUnderlyingType(info.Type) ?? info.Type;
+        return type == typeof(double) || type == typeof(int) ? "a number"
+            : type == typeof(bool) ? "true or false"
+            : type == typeof(string) ? "text"
+            : type == typeof(QuantityInput) ? "a quantity (\"<number> <unit>\" or {value, unit})"
+            : info.Kind == JsonTypeInfoKind.Dictionary ? "an object of names to numbers"
+            : info.Kind == JsonTypeInfoKind.Enumerable ? "a list"
+            : "an object";
+    }
+
+    private static int Distance(string a, string b)
+    {
+        var d = new int[b.Length + 1];
+        for (var j = 0; j <= b.Length; j++)
+        {
+            d[j] = j;
+        }
+
+        for (var i = 1; i <= a.Length; i++)
+        {
+            var diagonal = d[0];
+            d[0] = i;
+            for (var j = 1; j <= b.Length; j++)
+            {
+                var above = d[j];
+                d[j] = Math.Min(Math.Min(d[j] + 1, d[j - 1] + 1), diagonal + (char.ToLowerInvariant(a[i - 1]) == char.ToLowerInvariant(b[j - 1]) ? 0 : 1));
+                diagonal = above;
+            }
+        }
+
+        return d[b.Length];
     }
 
     private static DocNode? Find(DocNode root, string path)
