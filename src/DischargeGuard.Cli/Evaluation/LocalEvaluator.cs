@@ -115,7 +115,8 @@ public sealed class LocalEvaluator : ICaseEvaluator
         }
 
         var response = outcome.Response!;
-        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
+        // The contract's options through their source-generated metadata: the same bytes the service writes, no reflection.
+        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options.GetTypeInfo(typeof(EvaluationResponse)));
         var record = new AuditRecord
         {
             Id = id,

@@ -100,7 +100,7 @@ public sealed class ServerEvaluator : ICaseEvaluator
             EvaluationResponse? answer;
             try
             {
-                answer = JsonSerializer.Deserialize<EvaluationResponse>(body, ReadOptions);
+                answer = (EvaluationResponse?)JsonSerializer.Deserialize(body, ReadOptions.GetTypeInfo(typeof(EvaluationResponse)));
             }
             catch (JsonException ex)
             {
