@@ -155,6 +155,18 @@ public class LocalCheckTests
     }
 
     [Fact]
+    public async Task JUnit_AnUnreadableFileAndAnInvalidCase_AreErrorTestCases()
+    {
+        using var temp = new TempFolder();
+        var broken = temp.Write("broken.yaml", "asset: C-204B\nstages: [\n");
+        var run = await Gate.RunAsync("check", "--local", "--audit-file", temp.File("a.db"), "--format", "junit", broken, temp.Path);
+        Assert.Equal(64, run.ExitCode);
+        var xml = XDocument.Parse(run.Stdout);
+        Assert.Equal(2, xml.Descendants("testcase").Count(t => t.Element("error") is not null));
+        Assert.Contains("This is a directory", run.Stderr, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public async Task Envelope_PrintsTheEnvelopePerCaseAndStage()
     {
         using var temp = new TempFolder();

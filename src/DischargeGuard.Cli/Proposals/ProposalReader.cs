@@ -114,7 +114,8 @@ public static class ProposalReader
             var info = new FileInfo(path);
             if (!info.Exists)
             {
-                return Failed(path, new InputError(path, 0, 0, string.Empty, "No such file."));
+                return Failed(path, new InputError(path, 0, 0, string.Empty,
+                    Directory.Exists(path) ? "This is a directory; give the proposal files in it (e.g. its *.yaml files)." : "No such file."));
             }
 
             if (info.Length > MaxFileBytes)

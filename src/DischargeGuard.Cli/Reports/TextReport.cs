@@ -23,7 +23,7 @@ public static class TextReport
                 w.WriteLine("  invalid: " + e);
             }
 
-            foreach (var result in report.Results.Where(r => ReferenceEquals(r.Case.File, file.File) || r.Case.File == file.File))
+            foreach (var result in report.Results.Where(r => file.Cases.Contains(r.Case)))
             {
                 WriteCase(result, w);
             }
