@@ -69,6 +69,18 @@ public class LocalCheckTests
     }
 
     [Fact]
+    public async Task Local_AuditFileThatCannotBeWritten_Exits69_WithNoVerdict()
+    {
+        using var temp = new TempFolder();
+        var notADirectory = temp.Write("not-a-directory", "a file");
+        var run = await Gate.RunAsync("check", "--local", "--audit-file", Path.Combine(notADirectory, "audit.db"), "--format", "json", Repo.Example("c-204b-design.json"));
+        Assert.True(run.ExitCode == 69, run.ToString());
+        Assert.Contains("could not record the evaluation, so no result is reported", run.Stderr, StringComparison.Ordinal);
+        using var doc = JsonDocument.Parse(run.Stdout);
+        Assert.False(doc.RootElement.GetProperty("cases")[0].TryGetProperty("response", out _));
+    }
+
+    [Fact]
     public async Task Text_PrintsTheTablePerCaseAndStage_FindingsWithBasis_Ids_Digest_AndCautions()
     {
         using var temp = new TempFolder();
