@@ -85,16 +85,23 @@ internal static partial class BatchApi
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
         var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions);
         var counts = new int[6];
+        var timing = new BatchTiming();
         ResultWriter? writer = null;
         try
         {
+            // While one chunk's records are being committed, the next chunk is evaluated: the writer's disk time and the
+            // evaluation's CPU time overlap. A chunk is written to the answer only once all its appends have completed.
+            Chunk? pending = null;
             await foreach (var chunk in ChunksAsync(items, http.RequestAborted).ConfigureAwait(false))
             {
-                var results = await RunChunkAsync(context, chunk).ConfigureAwait(false);
+                var computed = ComputeChunk(context, chunk, timing);
+                await LoadHistoriesAndRunAsync(context, computed, timing).ConfigureAwait(false);
                 if (writer is null)
                 {
+                    await CompleteAsync(computed, timing).ConfigureAwait(false);
+
                     // Nothing written yet: when the store refused the whole first chunk, answer 503 for the batch.
-                    if (results.All(r => r.Status == StatusCodes.Status503ServiceUnavailable))
+                    if (computed.Results.All(r => r.Status == StatusCodes.Status503ServiceUnavailable))
                     {
                         LogBatchUnavailable(logger, chunk.Count);
                         return EvaluationsApi.Unavailable(http, options);
@@ -102,15 +109,23 @@ internal static partial class BatchApi
 
                     writer = new ResultWriter(http.Response, ndjsonOut, context.ProblemOptions);
                     writer.Start();
+                    await WriteAsync(writer, computed, counts, http.RequestAborted).ConfigureAwait(false);
+                    continue;
                 }
 
-                for (var i = 0; i < chunk.Count; i++)
+                if (pending is not null)
                 {
-                    writer.Write(chunk[i].Index, results[i]);
-                    counts[Bucket(results[i].Status)]++;
+                    await CompleteAsync(pending, timing).ConfigureAwait(false);
+                    await WriteAsync(writer, pending, counts, http.RequestAborted).ConfigureAwait(false);
                 }
 
-                await writer.FlushAsync(http.RequestAborted).ConfigureAwait(false);
+                pending = computed;
+            }
+
+            if (pending is not null)
+            {
+                await CompleteAsync(pending, timing).ConfigureAwait(false);
+                await WriteAsync(writer!, pending, counts, http.RequestAborted).ConfigureAwait(false);
             }
 
             if (writer is null)
@@ -142,7 +157,7 @@ internal static partial class BatchApi
         {
             var total = counts.Sum();
             var elapsedMs = Stopwatch.GetElapsedTime(started).TotalMilliseconds;
-            LogBatch(logger, total, counts[0], counts[1], counts[2], counts[3], counts[4] + counts[5], context.Caller, elapsedMs);
+            LogBatch(logger, total, counts[0], counts[1], counts[2], counts[3], counts[4] + counts[5], context.Caller, elapsedMs, timing.EvaluateMs, timing.CommitWaitMs);
         }
 
         return Results.Empty;
@@ -350,34 +365,48 @@ internal static partial class BatchApi
     private sealed record BatchContext(
         HttpContext Http, RuleSetSnapshot Rules, EvaluationRunner Runner, IAuditStore Audit, string Caller, bool Curve, JsonSerializerOptions ProblemOptions);
 
-    private static async Task<RunResult[]> RunChunkAsync(BatchContext c, List<BatchItem> chunk)
+    private sealed class BatchTiming
     {
-        var results = new RunResult[chunk.Count];
-        var requests = new EvaluationRequest?[chunk.Count];
+        public double EvaluateMs { get; set; }
 
-        // Reading and validating is CPU work: spread it over the cores.
-        Parallel.For(0, chunk.Count, i =>
+        public double CommitWaitMs { get; set; }
+    }
+
+    private sealed record Chunk(List<BatchItem> Items, RunResult[] Results, EvaluationRequest?[] Requests, Task?[] Appends);
+
+    // Reading and validating is CPU work: spread it over the cores.
+    private static Chunk ComputeChunk(BatchContext c, List<BatchItem> items, BatchTiming timing)
+    {
+        var started = Stopwatch.GetTimestamp();
+        var chunk = new Chunk(items, new RunResult[items.Count], new EvaluationRequest?[items.Count], new Task?[items.Count]);
+        Parallel.For(0, items.Count, i =>
         {
-            if (chunk[i].Refusal is { } refused)
+            if (items[i].Refusal is { } refused)
             {
-                results[i] = refused;
+                chunk.Results[i] = refused;
                 return;
             }
 
-            var (request, refusal) = c.Runner.Read(chunk[i].Json);
-            requests[i] = request;
+            var (request, refusal) = c.Runner.Read(items[i].Json);
+            chunk.Requests[i] = request;
             if (refusal is not null)
             {
-                results[i] = refusal;
+                chunk.Results[i] = refusal;
             }
         });
+        timing.EvaluateMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
+        return chunk;
+    }
 
-        // History for trend rules, read once per asset and site of the chunk (only items with a measurement need it).
-        var histories = new AssetHistory?[chunk.Count];
+    // History for trend rules (read once per asset and site of the chunk, only for items with a measurement), then the
+    // evaluations, then the appends, which are started together so the store's writer commits them in few transactions.
+    private static async Task LoadHistoriesAndRunAsync(BatchContext c, Chunk chunk, BatchTiming timing)
+    {
+        var histories = new AssetHistory?[chunk.Items.Count];
         var byAsset = new Dictionary<(string, string?), AssetHistory?>();
-        for (var i = 0; i < chunk.Count; i++)
+        for (var i = 0; i < chunk.Items.Count; i++)
         {
-            if (requests[i] is not { } request || !AssetHistory.IsUseful(request))
+            if (chunk.Requests[i] is not { } request || !AssetHistory.IsUseful(request))
             {
                 continue;
             }
@@ -395,32 +424,37 @@ internal static partial class BatchApi
             }
             catch (AuditStoreUnavailableException)
             {
-                results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
-                requests[i] = null;
+                chunk.Results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
+                chunk.Requests[i] = null;
             }
         }
 
-        Parallel.For(0, chunk.Count, i =>
+        var started = Stopwatch.GetTimestamp();
+        Parallel.For(0, chunk.Items.Count, i =>
         {
-            if (requests[i] is { } request)
+            if (chunk.Requests[i] is { } request)
             {
-                results[i] = c.Runner.Run(request, chunk[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i]);
+                chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i]);
             }
         });
+        timing.EvaluateMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
 
-        // Appended together, so the store's writer commits them in few transactions; each is answered only once committed.
-        var appends = new Task?[chunk.Count];
-        for (var i = 0; i < chunk.Count; i++)
+        for (var i = 0; i < chunk.Items.Count; i++)
         {
-            if (results[i].Record is { } record)
+            if (chunk.Results[i].Record is { } record)
             {
-                appends[i] = c.Audit.AppendAsync(record, c.Http.RequestAborted).AsTask();
+                chunk.Appends[i] = c.Audit.AppendAsync(record, c.Http.RequestAborted).AsTask();
             }
         }
+    }
 
-        for (var i = 0; i < chunk.Count; i++)
+    // Each item is answered only once its record is committed; one the store refused is that item's 503.
+    private static async Task CompleteAsync(Chunk chunk, BatchTiming timing)
+    {
+        var started = Stopwatch.GetTimestamp();
+        for (var i = 0; i < chunk.Items.Count; i++)
         {
-            if (appends[i] is not { } append)
+            if (chunk.Appends[i] is not { } append)
             {
                 continue;
             }
@@ -431,15 +465,26 @@ internal static partial class BatchApi
             }
             catch (AuditStoreUnavailableException)
             {
-                results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
+                chunk.Results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
             }
             catch (ArgumentException)
             {
-                results[i] = RunResult.Refused(ItemProblems.Internal());
+                chunk.Results[i] = RunResult.Refused(ItemProblems.Internal());
             }
         }
 
-        return results;
+        timing.CommitWaitMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
+    }
+
+    private static async Task WriteAsync(ResultWriter writer, Chunk chunk, int[] counts, CancellationToken cancellationToken)
+    {
+        for (var i = 0; i < chunk.Items.Count; i++)
+        {
+            writer.Write(chunk.Items[i].Index, chunk.Results[i]);
+            counts[Bucket(chunk.Results[i].Status)]++;
+        }
+
+        await writer.FlushAsync(cancellationToken).ConfigureAwait(false);
     }
 
     private static int Bucket(int status) => status switch
@@ -549,8 +594,8 @@ internal static partial class BatchApi
             extensions: new Dictionary<string, object?> { ["code"] = Problems.InvalidRequest });
 
     [LoggerMessage(EventId = 20, Level = LogLevel.Information,
-        Message = "Batch of {Items} by {Caller}: {Ok} evaluated, {Invalid} invalid, {Unprocessable} out of range, {Unavailable} not recorded, {Other} other, {DurationMs:0.0} ms")]
-    private static partial void LogBatch(ILogger logger, int items, int ok, int invalid, int unprocessable, int unavailable, int other, string caller, double durationMs);
+        Message = "Batch of {Items} by {Caller}: {Ok} evaluated, {Invalid} invalid, {Unprocessable} out of range, {Unavailable} not recorded, {Other} other, {DurationMs:0.0} ms ({EvaluateMs:0.0} ms evaluating, {CommitWaitMs:0.0} ms waiting for commits)")]
+    private static partial void LogBatch(ILogger logger, int items, int ok, int invalid, int unprocessable, int unavailable, int other, string caller, double durationMs, double evaluateMs, double commitWaitMs);
 
     [LoggerMessage(EventId = 21, Level = LogLevel.Error, Message = "Batch not answered: the audit store refused the first {Items} items")]
     private static partial void LogBatchUnavailable(ILogger logger, int items);
