@@ -7,6 +7,12 @@ if (DischargeGuard.Api.KeyCommand.IsCommand(args))
     return DischargeGuard.Api.KeyCommand.Run(args, Console.Out);
 }
 
+// `--probe [URL]` checks a health endpoint for a container health check (the runtime image has no curl).
+if (DischargeGuard.Api.ProbeCommand.IsCommand(args))
+{
+    return await DischargeGuard.Api.ProbeCommand.RunAsync(args, Console.Out).ConfigureAwait(false);
+}
+
 Log.Logger = new LoggerConfiguration().WriteTo.Console().CreateBootstrapLogger();
 try
 {

@@ -60,6 +60,14 @@ public static class HostingExtensions
         builder.Services.AddSingleton<IAuditStore>(sp =>
         {
             var settings = sp.GetRequiredService<IOptions<AuditSettings>>().Value;
+            var replicas = sp.GetRequiredService<IOptions<ServiceOptions>>().Value.Replicas;
+            if (replicas > 1 && settings.Provider != "postgresql")
+            {
+                throw new InvalidOperationException(
+                    $"DischargeGuard:Replicas is {replicas}, but Audit:Provider is '{settings.Provider}': several replicas cannot share a SQLite audit file. "
+                    + "Set Audit:Provider=postgresql with Audit:ConnectionString, or run one replica.");
+            }
+
             if (settings.Provider == "postgresql")
             {
                 if (string.IsNullOrWhiteSpace(settings.ConnectionString))

@@ -26,6 +26,13 @@ public sealed class ServiceOptions
     [Range(1, 36_500)]
     public int MinimumRetentionDays { get; set; } = 730;
 
+    /// <summary>
+    /// How many replicas of the service the deployment runs against one audit store. Above 1 the service refuses the
+    /// SQLite provider at start: a SQLite file must have one writer process (use PostgreSQL).
+    /// </summary>
+    [Range(1, 1000)]
+    public int Replicas { get; set; } = 1;
+
     /// <summary>Seconds a client should wait before retrying after a 503.</summary>
     [Range(1, 3600)]
     public int RetryAfterSeconds { get; set; } = 5;
