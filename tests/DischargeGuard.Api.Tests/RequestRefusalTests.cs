@@ -196,7 +196,7 @@ public sealed class RequestRefusalTests(ServiceFactory factory) : IClassFixture<
 
     [Theory]
     [InlineData("service", "nuclear", "'sour'")]
-    [InlineData("method", "real-gas", "'ideal-gas'")]
+    [InlineData("method", "peng-robinson", "'real-gas'")]
     [InlineData("outputUnits", "cgs", "'imperial'")]
     public async Task Evaluate_WhenEnumeratedFieldHasAnUnknownWord_Refuses400ListingAcceptedWords(string field, string value, string listed)
     {

@@ -45,6 +45,8 @@ public class DefaultRulesTests
         // Fitted rise of the deviation over 5 evaluations at pressures within 5 %, limit 5 K — common practice, no single source ((b));
         // meaning from Bloch & Hoefner p.336 ((a)). Three evaluations with deviations 0, v/2, v: the least-squares rise is v.
         ["R-DEVIATION-TREND"] = new(v => Quiet() with { Estimated = C(150), MeasuredDischarge = K(423.15 + v), DeviationHistory = [Sample(0), Sample(v / 2)] }, 5.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Real-gas correction above 5 K: review — common practice, no single source ((b)).
+        ["R-REALGAS"] = new(v => Quiet() with { RealGasCorrection = TemperatureDelta.FromKelvins(v) }, 5.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Ratio 4.0 per recip stage — common practice, no single source ((b)).
         ["R-RATIO"] = new(v => Quiet() with { DischargePressure = Pressure.FromBars(10 * v) }, 4.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Coolant inlet >= gas inlet + 5 K (9 °F): API 618-2007 §5.7.3 as restated in a project specification ((a)). Suction 30 °C.
@@ -75,6 +77,7 @@ public class DefaultRulesTests
         ["R-SCREW-DEWPOINT"] = (Quiet("screw-oil-flooded") with { MeasuredDischarge = C(80) }, "dischargeWaterDewPoint"),
         ["R-DEVIATION"] = (Quiet(), "measuredDischargeTemperature"),
         ["R-DEVIATION-TREND"] = (Quiet() with { MeasuredDischarge = C(112), DeviationHistory = [Sample(1)] }, "history: at least 2 earlier evaluations of this asset with a measured discharge temperature at the same pressures (within 5 %)"),
+        ["R-REALGAS"] = (Quiet(), "realGasResult"),
         ["R-SETPOINTS"] = (Quiet(), "normalOperatingDischargeTemperature"),
         ["R-RATIO"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
         ["R-COOLING-JACKET"] = (Quiet(), "jacketCoolantInletTemperature"),

@@ -113,12 +113,46 @@ public sealed record StageDto
     /// <summary>Rules that applied but could not be checked, with the missing input.</summary>
     public required IReadOnlyList<NotCheckedDto> NotChecked { get; init; }
 
+    /// <summary>ideal-gas or real-gas: which model this stage's temperatures, work and envelope come from.</summary>
+    public string Method { get; init; } = "ideal-gas";
+
+    /// <summary>Both models' answers, their difference, the switch criteria and the defaulted k_ij pairs.</summary>
+    public RealGasDto? RealGas { get; init; }
+
     /// <summary>The measured discharge temperature and its deviation from the estimate, when one was given.</summary>
     public MeasuredDto? Measured { get; init; }
 
     /// <summary>Estimated and upper-bound temperature against discharge pressure (only with <c>?curve=true</c>).</summary>
     public IReadOnlyList<CurvePointDto>? Curve { get; init; }
 }
+
+/// <summary>Isentropic and estimated discharge temperatures of one model (or their differences).</summary>
+/// <param name="Isentropic">η = 1.</param>
+/// <param name="Estimated">With the stage efficiency.</param>
+public sealed record MethodTemperaturesDto(QuantityDto Isentropic, QuantityDto Estimated);
+
+/// <summary>The real-gas (Peng-Robinson) view of a stage beside the ideal-gas one.</summary>
+/// <param name="Used">Whether the stage's answer uses the real gas.</param>
+/// <param name="Recommended">Whether the switch criteria call for it (Z outside 0.97–1.03, or Pr &gt; 0.1 with Tr &lt; 1.5, or near the critical point).</param>
+/// <param name="Reasons">Which criteria, in words.</param>
+/// <param name="IdealGas">The ideal-gas temperatures.</param>
+/// <param name="RealGasTemperatures">The Peng-Robinson temperatures, when they could be computed.</param>
+/// <param name="Difference">Real minus ideal (K or Δ°F).</param>
+/// <param name="SuctionReducedPressure">P1 / Pc of the mixture (Kay's rule).</param>
+/// <param name="DischargeReducedPressure">P2 / Pc of the mixture.</param>
+/// <param name="DefaultedPairs">Species pairs whose k_ij was taken as 0 (no published value in the data).</param>
+/// <param name="Note">Why the real gas could not be computed, when it could not.</param>
+public sealed record RealGasDto(
+    bool Used,
+    bool Recommended,
+    IReadOnlyList<string> Reasons,
+    MethodTemperaturesDto IdealGas,
+    MethodTemperaturesDto? RealGasTemperatures,
+    MethodTemperaturesDto? Difference,
+    double? SuctionReducedPressure,
+    double? DischargeReducedPressure,
+    IReadOnlyList<string> DefaultedPairs,
+    string? Note);
 
 /// <summary>A measured discharge temperature beside the prediction.</summary>
 /// <param name="DischargeTemperature">As measured.</param>

@@ -11,9 +11,13 @@ public static class Cautions
     public const string KeepProtection =
         "A pass does not replace the machine's own discharge-temperature alarms and shutdowns; keep them in service and set from the manufacturer's data. Overheated stages can coke valves and start discharge-line fires.";
 
-    /// <summary>Always present while only the ideal-gas method exists.</summary>
+    /// <summary>Added when a stage's temperatures come from the ideal gas.</summary>
     public const string IdealGas =
-        "Computed as an ideal gas with temperature-dependent specific heats; real-gas effects are not included.";
+        "Stages marked ideal-gas are computed as an ideal gas with temperature-dependent specific heats; each stage's realGas block gives the Peng-Robinson answer beside it.";
+
+    /// <summary>Added when a stage's temperatures come from the Peng-Robinson real gas.</summary>
+    public const string RealGas =
+        "Stages marked real-gas use the Peng-Robinson equation of state (typically within 1-3 % in Z of the reference equations, worse near the critical point and for hydrogen and helium); confirm critical cases with the gas's reference equation of state and the manufacturer's data.";
 
     /// <summary>Added when a discharge pressure is high enough that real-gas effects may matter.</summary>
     public const string HighPressure =

@@ -94,6 +94,9 @@ public sealed class EvaluationPipeline
         var stageDtos = new List<StageDto>(solved.Length);
         var allFindings = new List<FindingDto>();
         var anyNotChecked = false;
+        var anyIdeal = false;
+        var anyReal = false;
+        var method = request.Method ?? "auto";
         var verdict = Verdict.Pass;
         IReadOnlyList<string> serviceClasses = [];
         for (var i = 0; i < solved.Length; i++)
@@ -107,7 +110,26 @@ public sealed class EvaluationPipeline
             }
 
             var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
-            var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions));
+            var realGas = RealGasOf(s, conditions, method, i, stagesIn);
+            if (realGas.Result is { } rgr)
+            {
+                facts = facts with
+                {
+                    RealGasCorrection = TemperatureDelta.FromKelvins(Math.Abs(rgr.DifferenceFromIdealGas.Kelvins)),
+                };
+                if (realGas.Used)
+                {
+                    facts = facts with
+                    {
+                        Isentropic = rgr.IsentropicDischargeTemperature,
+                        Estimated = rgr.EstimatedDischargeTemperature,
+                        EstimatedUpperBound = rgr.EstimatedUpperBound,
+                    };
+                }
+            }
+
+            var envelopeGas = realGas.Used ? realGas.Mixture : null;
+            var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas));
             if (i == 0)
             {
                 serviceClasses = ruled.ServiceClasses;
@@ -117,7 +139,10 @@ public sealed class EvaluationPipeline
             anyNotChecked |= ruled.NotChecked.Count > 0;
             var findings = ruled.Findings.Select(f => FindingOf(f, output, null)).ToList();
             allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
-            var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output) : null, LimitsOf(s, conditions, ruled, output));
+            var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output, envelopeGas) : null, LimitsOf(s, conditions, ruled, output, envelopeGas));
+            stage = WithRealGas(stage, s, realGas, output);
+            anyIdeal |= !realGas.Used;
+            anyReal |= realGas.Used;
             if (facts.MeasuredDischarge is { } measured)
             {
                 stage = stage with { Measured = new MeasuredDto(output.Temperature(measured), output.DifferenceKelvin(measured.Kelvins - facts.Estimated.Kelvins)) };
@@ -126,8 +151,18 @@ public sealed class EvaluationPipeline
             stageDtos.Add(stage);
         }
 
-        var cautions = new List<string> { Cautions.DeferToCodes, Cautions.KeepProtection, Cautions.IdealGas };
-        if (solved.Any(s => s.Stage.DischargePressure.Pascals > HighPressurePascals))
+        var cautions = new List<string> { Cautions.DeferToCodes, Cautions.KeepProtection };
+        if (anyIdeal)
+        {
+            cautions.Add(Cautions.IdealGas);
+        }
+
+        if (anyReal)
+        {
+            cautions.Add(Cautions.RealGas);
+        }
+
+        if (anyIdeal && solved.Any(s => s.Stage.DischargePressure.Pascals > HighPressurePascals))
         {
             cautions.Add(Cautions.HighPressure);
         }
@@ -147,7 +182,7 @@ public sealed class EvaluationPipeline
             Id = context.Id,
             EvaluatedAt = context.EvaluatedAt,
             Verdict = Name(verdict),
-            Method = "ideal-gas",
+            Method = anyReal ? (anyIdeal ? "mixed" : "real-gas") : "ideal-gas",
             EngineVersion = EngineVersion,
             Asset = request.Asset,
             Site = request.Site?.Id,
@@ -511,7 +546,7 @@ public sealed class EvaluationPipeline
     }
 
     // R-RATIO's report: the highest ratio each violation-level temperature limit allows, not only the governing one.
-    private static LimitEnvelopeDto[] LimitsOf(TrainStageResult s, StageConditions conditions, RuleStageResult ruled, OutputUnitSystem u)
+    private static LimitEnvelopeDto[] LimitsOf(TrainStageResult s, StageConditions conditions, RuleStageResult ruled, OutputUnitSystem u, RealGasMixture? realGas)
     {
         var list = new List<LimitEnvelopeDto>();
         foreach (var f in ruled.Findings)
@@ -528,7 +563,9 @@ public sealed class EvaluationPipeline
                 continue;
             }
 
-            var e = EnvelopeSolver.MaxDischargePressure(s.Gas, conditions, q.Value, limit);
+            var e = realGas is null
+                ? EnvelopeSolver.MaxDischargePressure(s.Gas, conditions, q.Value, limit)
+                : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, limit);
             var found = e.Status == EnvelopeStatus.Found && e.Value is not null;
             list.Add(new LimitEnvelopeDto(
                 f.RuleId,
@@ -562,7 +599,7 @@ public sealed class EvaluationPipeline
             + Describe("Suction temperature", e.MaxSuctionTemperature.Status, e.MaxSuctionTemperature.Note);
     }
 
-    private static List<CurvePointDto> CurveOf(TrainStageResult s, StageEfficiency efficiency, RuleStageResult ruled, OutputUnitSystem u)
+    private static List<CurvePointDto> CurveOf(TrainStageResult s, StageEfficiency efficiency, RuleStageResult ruled, OutputUnitSystem u, RealGasMixture? realGas)
     {
         var p1 = s.Stage.SuctionPressure.Pascals;
         var pEnd = s.Stage.DischargePressure.Pascals;
@@ -579,6 +616,13 @@ public sealed class EvaluationPipeline
             var c = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, Pressure.FromPascals(p2), efficiency);
             try
             {
+                if (realGas is not null)
+                {
+                    var rg = RealGasStageSolver.Solve(realGas, c);
+                    points.Add(new CurvePointDto(u.PressureAbsolute(c.DischargePressure), u.Temperature(rg.EstimatedDischargeTemperature), u.Temperature(rg.EstimatedUpperBound), u.Temperature(rg.IsentropicDischargeTemperature)));
+                    continue;
+                }
+
                 var r = StageSolver.Solve(s.Gas, c);
                 points.Add(new CurvePointDto(u.PressureAbsolute(c.DischargePressure), u.Temperature(r.EstimatedDischargeTemperature), u.Temperature(r.EstimatedUpperBound), u.Temperature(r.IsentropicDischargeTemperature)));
             }
@@ -660,6 +704,81 @@ public sealed class EvaluationPipeline
         _units.TryParse(q.Text, kind, out var parsed, out var error)
             ? parsed!
             : throw Invalid(path, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+
+    /// <summary>What the real gas came to for one stage: whether it decides, its result, and why.</summary>
+    private sealed record RealGasStage(bool Used, RealGasMixture? Mixture, RealGasStageResult? Result, RealGasAssessment? Assessment, string? Note);
+
+    // method "auto": the real gas decides when the switch criteria say the ideal gas is not good enough; "real-gas": always;
+    // "ideal-gas": never. The real-gas answer is computed beside the ideal one whenever it can be, so both are reported.
+    private static RealGasStage RealGasOf(TrainStageResult s, StageConditions conditions, string method, int index, IReadOnlyList<StageInput> stagesIn)
+    {
+        var mixture = RealGasMixture.Create(s.Gas);
+        RealGasAssessment? assessment = null;
+        try
+        {
+            assessment = RealGasCriteria.Assess(mixture, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
+            var use = method == "real-gas" || (method == "auto" && assessment.RealGasRecommended);
+            var result = RealGasStageSolver.Solve(mixture, conditions);
+            return new RealGasStage(use, mixture, result, assessment, null);
+        }
+        catch (ThermoInputException ex)
+        {
+            // A state the real gas finds liquid or two-phase, or out of its range: a domain error when the real gas must
+            // decide, and a note beside the ideal-gas answer when it need not.
+            var mustDecide = method == "real-gas" || (method == "auto" && (assessment?.RealGasRecommended ?? true));
+            if (mustDecide)
+            {
+                var member = ex.ParamName is { } p && !p.StartsWith("stages[", StringComparison.Ordinal)
+                    ? string.Create(CultureInfo.InvariantCulture, $"stages[{index}].{p}")
+                    : ex.ParamName;
+                throw Unprocessable(MapThermoMember(member, stagesIn), "Real gas (Peng-Robinson): " + ex.Reason);
+            }
+
+            return new RealGasStage(false, mixture, null, assessment, "The real-gas answer could not be computed: " + ex.Reason);
+        }
+    }
+
+    private static StageDto WithRealGas(StageDto stage, TrainStageResult s, RealGasStage rg, OutputUnitSystem u)
+    {
+        var ideal = s.Stage;
+        var r = rg.Result;
+        var dto = new RealGasDto(
+            rg.Used,
+            rg.Assessment?.RealGasRecommended ?? false,
+            rg.Assessment?.Reasons ?? [],
+            new MethodTemperaturesDto(u.Temperature(ideal.IsentropicDischargeTemperature), u.Temperature(ideal.EstimatedDischargeTemperature)),
+            r is { } a ? new MethodTemperaturesDto(u.Temperature(a.IsentropicDischargeTemperature), u.Temperature(a.EstimatedDischargeTemperature)) : null,
+            r is { } b ? new MethodTemperaturesDto(u.DifferenceKelvin(b.IsentropicDifferenceFromIdealGas.Kelvins), u.DifferenceKelvin(b.DifferenceFromIdealGas.Kelvins)) : null,
+            rg.Assessment is { } x ? Math.Round(x.SuctionReducedPressure, 4) : null,
+            rg.Assessment is { } y ? Math.Round(y.DischargeReducedPressure, 4) : null,
+            rg.Mixture?.DefaultedPairs.Select(p => p.ToString()).ToArray() ?? [],
+            rg.Note);
+        stage = stage with
+        {
+            Method = rg.Used ? "real-gas" : "ideal-gas",
+            RealGas = dto,
+            Properties = r is { } z ? stage.Properties with { ZSuction = Math.Round(z.ZSuction, 6), ZDischarge = Math.Round(z.ZDischarge, 6) } : stage.Properties,
+        };
+        if (!rg.Used || r is not { } used)
+        {
+            return stage;
+        }
+
+        return stage with
+        {
+            DischargeTemperature = stage.DischargeTemperature with
+            {
+                Isentropic = u.Temperature(used.IsentropicDischargeTemperature),
+                Estimated = u.Temperature(used.EstimatedDischargeTemperature),
+                EstimatedUpperBound = u.Temperature(used.EstimatedUpperBound),
+                EstimatedLowerBound = u.Temperature(used.EstimatedLowerBound),
+            },
+            TemperatureRise = u.DifferenceKelvin(used.EstimatedDischargeTemperature.Kelvins - ideal.SuctionTemperature.Kelvins),
+            Efficiency = stage.Efficiency with { Isentropic = Math.Round(used.IsentropicEfficiency, 6), Polytropic = Math.Round(used.PolytropicEfficiency, 6) },
+            SpecificWork = new SpecificWorkDto(u.SpecificEnergy(used.SpecificIsentropicWork), u.SpecificEnergy(used.SpecificActualWork)),
+            Power = used.Power is { } power ? u.Power(power) : stage.Power,
+        };
+    }
 
     // Thermo names members of its own records (stages[i].DischargePressure); the caller knows the request's fields.
     private static string MapThermoMember(string? member, IReadOnlyList<StageInput> stages)

@@ -10,7 +10,8 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// suction temperature at which the governing quantity reaches its limit, the stage's other inputs and the other stages
 /// held fixed.
 /// </summary>
-internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions) : IEnvelopeCalculator
+/// <remarks>With a real-gas mixture (the stage's temperatures came from Peng-Robinson) the real-gas envelope solver is used.</remarks>
+internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions, RealGasMixture? realGas = null) : IEnvelopeCalculator
 {
     private const string NotComputable = "The governing rule checks a quantity the envelope solver cannot move (a measured value, or a limit on something other than the predicted temperature or ratio).";
 
@@ -34,8 +35,8 @@ internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions c
             return (new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable), new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable));
         }
 
-        var p = EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t);
-        var s = EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t);
+        var p = realGas is null ? EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, t);
+        var s = realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, conditions, q.Value, t);
         return (new(Map(p.Status), p.Value, p.Note), new(Map(s.Status), s.Value, s.Note));
     }
 

@@ -388,6 +388,7 @@ public static class RuleEngine
         CheckedQuantity.Measured => (s.MeasuredDischarge?.Kelvins, "measuredDischargeTemperature"),
         CheckedQuantity.MeasuredMinusPredicted => (s.MeasuredDischarge is { } m ? m.Kelvins - s.Estimated.Kelvins : null, "measuredDischargeTemperature"),
         CheckedQuantity.PressureRatio => (s.PressureRatio, null),
+        CheckedQuantity.RealGasCorrection => (s.RealGasCorrection?.Kelvins, "realGasResult"),
         CheckedQuantity.TemperatureRise => (s.TemperatureRise.Kelvins, null),
         CheckedQuantity.JacketCoolantInlet => (s.JacketCoolantInlet?.Kelvins, "jacketCoolantInletTemperature"),
         CheckedQuantity.NormalOperating => (s.NormalOperatingDischarge?.Kelvins, "normalOperatingDischargeTemperature"),

@@ -55,6 +55,10 @@ public sealed record StageFacts
     /// when the caller has none.
     /// </summary>
     public IReadOnlyList<DeviationSample> DeviationHistory { get; init; } = [];
+    /// <summary>
+    /// |estimated T2 (Peng-Robinson) − estimated T2 (ideal gas)|; null when the real-gas result is not available.
+    /// </summary>
+    public TemperatureDelta? RealGasCorrection { get; init; }
     /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
     public Temperature? DischargeWaterDewPoint { get; init; }
 

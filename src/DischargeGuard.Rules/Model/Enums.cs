@@ -50,6 +50,11 @@ public enum CheckedQuantity
     /// (a difference, from a least-squares line through them; needs the rule's <see cref="TrendSpec"/> and history).
     /// </summary>
     MeasuredMinusPredictedRise,
+    /// <summary>
+    /// Size of the real-gas correction: |estimated T2 with the Peng-Robinson real gas − estimated T2 with the ideal gas|
+    /// (a difference; needs the real-gas result).
+    /// </summary>
+    RealGasCorrection,
 }
 
 /// <summary>What kind of number a checked quantity is.</summary>
@@ -114,6 +119,7 @@ public static class CheckedQuantityNames
         CheckedQuantity.JacketCoolantInlet => "jacketCoolantInlet",
         CheckedQuantity.NormalOperating => "normalOperating",
         CheckedQuantity.MeasuredMinusPredictedRise => "measuredMinusPredictedRise",
+        CheckedQuantity.RealGasCorrection => "realGasCorrection",
         _ => throw new ArgumentOutOfRangeException(nameof(quantity), quantity, "Unknown quantity."),
     };
 
@@ -145,7 +151,7 @@ public static class CheckedQuantityNames
     public static QuantityDimension Dimension(this CheckedQuantity quantity) => quantity switch
     {
         CheckedQuantity.PressureRatio => QuantityDimension.Ratio,
-        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise or CheckedQuantity.MeasuredMinusPredictedRise => QuantityDimension.TemperatureDifference,
+        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise or CheckedQuantity.MeasuredMinusPredictedRise or CheckedQuantity.RealGasCorrection => QuantityDimension.TemperatureDifference,
         _ => QuantityDimension.Temperature,
     };
 

@@ -1,0 +1,154 @@
+using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Thermo;
+using UnitsNet;
+using static DischargeGuard.Evaluation.Tests.Scenario;
+
+namespace DischargeGuard.Evaluation.Tests;
+
+/// <summary>
+/// The request's method through the pipeline: "auto" takes the Peng-Robinson real gas where the switch criteria call for
+/// it, "real-gas" always, "ideal-gas" never; both answers are reported, the verdict's temperatures come from the method
+/// used, and a liquid state is a 422 when the real gas decides. Check values: the Thermo solvers called directly on the
+/// same inputs (their own accuracy against GERG-2008 and the reference equations is tested in the Thermo tests).
+/// </summary>
+public class EvaluationPipelineRealGasTests
+{
+    private static readonly Dictionary<string, double> CarbonDioxide = new() { ["CO2"] = 1.0 };
+
+    // CO2 30 → 90 bar(a) from 40 °C, ηs 0.80, lubricated recip (an invented injection booster, K-102B).
+    private static EvaluationRequest Co2(string? method, string suction = "30 bara", string temperature = "40 °C", string discharge = "90 bara") => new()
+    {
+        Asset = "K-102B",
+        Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
+        Gas = new GasInput { Composition = CarbonDioxide },
+        Method = method,
+        Stages =
+        [
+            new StageInput
+            {
+                Suction = new SuctionInput { Pressure = Q(suction), Temperature = Q(temperature) },
+                Discharge = new DischargeInput { Pressure = Q(discharge) },
+                Efficiency = new EfficiencyInput { Isentropic = 0.80 },
+                Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "pao-dab" },
+            },
+        ],
+    };
+
+    private static RealGasStageResult Direct(double p1Bar = 30, double t1C = 40, double p2Bar = 90)
+    {
+        var gas = RealGasMixture.Create(GasCatalog.Default.CreateMixture(CarbonDioxide, CompositionBasis.Mole));
+        return RealGasStageSolver.Solve(gas, new StageConditions(Pressure.FromBars(p1Bar), Temperature.FromDegreesCelsius(t1C), Pressure.FromBars(p2Bar), StageEfficiency.Isentropic(0.80)));
+    }
+
+    [Fact]
+    public void Auto_WhenCo2AtInjectionPressures_UsesTheRealGasAndReportsBothAnswers()
+    {
+        var stage = Evaluate(Co2("auto")).Stages[0];
+        var direct = Direct();
+
+        Assert.Equal("real-gas", stage.Method);
+        Assert.True(stage.RealGas!.Used);
+        Assert.True(stage.RealGas.Recommended);
+        Assert.NotEmpty(stage.RealGas.Reasons);
+        AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature.Estimated.Value, 0.0006, "estimated = Peng-Robinson");
+        AssertEx.Within(direct.IsentropicDischargeTemperature.DegreesCelsius, stage.DischargeTemperature.Isentropic.Value, 0.0006, "isentropic = Peng-Robinson");
+        AssertEx.Within(direct.IdealGas.EstimatedDischargeTemperature.DegreesCelsius, stage.RealGas.IdealGas.Estimated.Value, 0.0006, "ideal-gas answer beside it");
+        AssertEx.Within(direct.DifferenceFromIdealGas.Kelvins, stage.RealGas.Difference!.Estimated.Value, 0.0006, "difference");
+        AssertEx.Within(direct.ZSuction, stage.Properties.ZSuction, 1e-6, "Z1");
+        AssertEx.Within(direct.ZDischarge, stage.Properties.ZDischarge, 1e-6, "Z2");
+        Assert.True(stage.Properties.ZSuction < 0.9, "CO2 at 30 bar and 40 °C is far from ideal (Z ≈ 0.83, from memory)");
+    }
+
+    [Fact]
+    public void RealGasRule_WhenTheCorrectionExceedsFiveKelvin_IsAWarning()
+    {
+        var response = Evaluate(Co2("auto"));
+        var finding = response.Stages[0].Findings.Single(f => f.RuleId == "R-REALGAS");
+        var difference = Math.Abs(response.Stages[0].RealGas!.Difference!.Estimated.Value);
+
+        AssertEx.Within(difference, finding.Value!.Value, 0.0006, "the rule reads |real − ideal|");
+        Assert.Equal(difference > 5 ? "warning" : "pass", finding.Severity);
+    }
+
+    [Fact]
+    public void IdealGas_WhenForced_KeepsTheIdealAnswerAndStillReportsTheRealOne()
+    {
+        var response = Evaluate(Co2("ideal-gas"));
+        var stage = response.Stages[0];
+        var direct = Direct();
+
+        Assert.Equal("ideal-gas", response.Method);
+        Assert.Equal("ideal-gas", stage.Method);
+        Assert.False(stage.RealGas!.Used);
+        Assert.True(stage.RealGas.Recommended);
+        AssertEx.Within(direct.IdealGas.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature.Estimated.Value, 0.0006, "estimated = ideal gas");
+        AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.RealGas.RealGasTemperatures!.Estimated.Value, 0.0006, "real gas beside it");
+        Assert.Contains(response.Cautions, c => c.Contains("30 bar", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void RealGas_WhenForcedOnAirAtLowPressure_DiffersLittleFromTheIdealGas()
+    {
+        var response = Evaluate(AirRequest() with { Method = "real-gas" });
+        var stage = response.Stages[0];
+
+        Assert.Equal("real-gas", response.Method);
+        Assert.Equal("real-gas", stage.Method);
+        Assert.False(stage.RealGas!.Recommended);
+        Assert.True(Math.Abs(stage.RealGas.Difference!.Estimated.Value) < 0.5, $"air at 1–3 bar: {stage.RealGas.Difference.Estimated.Value} K");
+        Assert.Contains(response.Cautions, c => c.Contains("Peng-Robinson", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void Auto_WhenAirAtLowPressure_StaysIdealGas()
+    {
+        var response = Evaluate(AirRequest());
+
+        Assert.Equal("ideal-gas", response.Method);
+        Assert.Equal("ideal-gas", response.Stages[0].Method);
+        Assert.NotNull(response.Stages[0].RealGas!.RealGasTemperatures);
+    }
+
+    [Theory]
+    [InlineData("auto")]
+    [InlineData("real-gas")]
+    public void LiquidSuction_WhenTheRealGasDecides_Is422NamingTheSuction(string method)
+    {
+        // CO2 at 10 °C and 60 bar(a) is liquid (its vapour pressure at 10 °C is about 45 bar, from memory).
+        var problem = Refuse(Co2(method, "60 bara", "10 °C", "120 bara"));
+
+        Assert.Equal("out-of-range", problem.Code);
+        Assert.Contains(problem.Errors.Keys, k => k.StartsWith("stages[0].suction", StringComparison.Ordinal));
+        Assert.Contains(problem.Errors.Values.SelectMany(v => v), m => m.Contains("Real gas", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void LiquidSuction_WhenIdealGasIsForced_AnswersWithANoteAndNoRealGasNumber()
+    {
+        var stage = Evaluate(Co2("ideal-gas", "60 bara", "10 °C", "120 bara")).Stages[0];
+
+        Assert.Null(stage.RealGas!.RealGasTemperatures);
+        Assert.Contains("could not be computed", stage.RealGas.Note, StringComparison.Ordinal);
+        Assert.Contains(stage.NotChecked, n => n.RuleId == "R-REALGAS");
+    }
+
+    [Fact]
+    public void Envelope_WhenTheRealGasDecides_IsTheRealGasPressureAtTheLimit()
+    {
+        var stage = Evaluate(Co2("auto")).Stages[0];
+        var envelope = stage.Envelope!;
+        Assert.NotNull(envelope.MaxDischargePressure);
+
+        // At the envelope pressure the real-gas governing temperature equals the governing limit.
+        var governing = stage.Governing!;
+        var gas = RealGasMixture.Create(GasCatalog.Default.CreateMixture(CarbonDioxide, CompositionBasis.Mole));
+        var atEnvelope = RealGasStageSolver.Solve(gas, new StageConditions(Pressure.FromBars(30), Temperature.FromDegreesCelsius(40), Pressure.FromKilopascals(envelope.MaxDischargePressure!.Value), StageEfficiency.Isentropic(0.80)));
+        var quantity = governing.Quantity switch
+        {
+            "isentropic" => TemperatureQuantity.Isentropic,
+            "estimatedUpperBound" => TemperatureQuantity.EstimatedUpperBound,
+            _ => TemperatureQuantity.Estimated,
+        };
+        AssertEx.Within(governing.Limit.Value, atEnvelope.TemperatureOf(quantity).DegreesCelsius, 0.05, "governing temperature at the envelope pressure");
+    }
+}
