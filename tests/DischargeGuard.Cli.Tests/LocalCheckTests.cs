@@ -96,6 +96,8 @@ public class LocalCheckTests
             "violation    R-API618-GEN",
             "basis: (c, high) API 618",
             "not checked  R-DEVIATION",
+            "Stage 1 model: ",
+            "Peng-Robinson",
             "Result: fail (exit 2)",
             "Cautions:",
             DischargeGuard.Evaluation.Pipeline.Cautions.DeferToCodes,

@@ -95,6 +95,7 @@ public static class TextReport
         table.WriteTo(w, "    ");
         foreach (var s in r.Stages)
         {
+            w.WriteLine($"    Stage {s.Index + 1} model: {RealGasLine(s)}");
             w.WriteLine($"    Stage {s.Index + 1} findings:");
             foreach (var f in s.Findings)
             {
@@ -106,6 +107,21 @@ public static class TextReport
                 w.WriteLine($"      not checked  {n.RuleId}: missing {string.Join(", ", n.Missing)} — {n.Reason}");
             }
         }
+    }
+
+    // Which model the stage's temperatures come from, the other model's answer, Z, and the defaulted k_ij pairs.
+    private static string RealGasLine(StageDto s)
+    {
+        var z = $"Z {Format.N(s.Properties.ZSuction, "0.0000")} → {Format.N(s.Properties.ZDischarge, "0.0000")}";
+        if (s.RealGas is not { } rg)
+        {
+            return $"{s.Method}, {z}";
+        }
+
+        var line = rg.RealGasTemperatures is { } real
+            ? $"{s.Method}{(rg.Recommended ? " (real gas called for)" : string.Empty)}; estimated T2 ideal gas {Format.Q(rg.IdealGas.Estimated)}, Peng-Robinson {Format.Q(real.Estimated)}, difference {Format.Q(rg.Difference!.Estimated)}; {z}"
+            : $"{s.Method}; {rg.Note}";
+        return rg.DefaultedPairs.Count > 0 ? line + $"; k_ij taken as 0 for {string.Join(", ", rg.DefaultedPairs)}" : line;
     }
 
     private static void WriteFinding(FindingDto f, TextWriter w)
