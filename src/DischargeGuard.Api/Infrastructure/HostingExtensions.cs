@@ -112,6 +112,22 @@ public static class HostingExtensions
             o.MessageTemplate = "HTTP {RequestMethod} {RequestPath} responded {StatusCode} in {Elapsed:0.0} ms";
             o.Logger = app.Services.GetRequiredService<Serilog.ILogger>();
         });
+        // Security headers on every response (the page and the API alike). Set when the response starts, so answers the
+        // exception handler writes after clearing the response carry them too. The CSP allows no inline script or style.
+        app.Use((context, next) =>
+        {
+            context.Response.OnStarting(
+                static state =>
+                {
+                    var headers = ((HttpContext)state).Response.Headers;
+                    headers.ContentSecurityPolicy = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'";
+                    headers.XContentTypeOptions = "nosniff";
+                    headers["Referrer-Policy"] = "no-referrer";
+                    return Task.CompletedTask;
+                },
+                context);
+            return next(context);
+        });
         app.UseExceptionHandler();
         app.UseStatusCodePages();
         app.Use((context, next) =>
@@ -144,6 +160,10 @@ public static class HostingExtensions
 
             return next(context);
         });
+        // The technicians' page (wwwroot, "/" serves index.html) before authentication: the page holds no data and needs
+        // no key; every /v1 call it makes sends one.
+        app.UseDefaultFiles();
+        app.UseStaticFiles();
         app.UseDischargeGuardSecurity();
         app.UseSwagger();
         app.UseSwaggerUI(o => o.DocumentTitle = "DischargeGuard API");
