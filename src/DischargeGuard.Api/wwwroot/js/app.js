@@ -1,0 +1,365 @@
+// DischargeGuard stage check: wires the form to the service. The page computes no result; it shows the service's.
+
+import { call, describeProblem, forgetKey, saveKey, savedKey } from "./api.js";
+import { addStage, buildRequest, clearFieldErrors, parseComposition, removeLastStage, setCatalogues, showFieldErrors } from "./form.js";
+import { renderEvaluation, renderNoVerdict } from "./render.js";
+
+const $ = (selector) => document.querySelector(selector);
+const SITE_STORAGE = "dischargeguard.site";
+const COMPOSITIONS_STORAGE = "dischargeguard.compositions";
+const OUTPUT_STORAGE = "dischargeguard.outputUnits";
+const NEW_COMPOSITION = "new:";
+
+let presets = [];
+
+function readJson(key, fallback) {
+  try {
+    const raw = localStorage.getItem(key);
+    return raw ? JSON.parse(raw) : fallback;
+  } catch {
+    return fallback;
+  }
+}
+
+function writeJson(key, value) {
+  try {
+    localStorage.setItem(key, JSON.stringify(value));
+  } catch {
+    // Storage full or disabled: the page still works, it only forgets.
+  }
+}
+
+function setStatus(text) {
+  const status = $("#result-status");
+  const p = document.createElement("p");
+  p.textContent = text;
+  status.replaceChildren(p);
+}
+
+// ---- Key -------------------------------------------------------------------------------------------------------------
+
+function showKeyState() {
+  const has = savedKey() !== "";
+  $("#key-form").hidden = has;
+  $("#key-saved").hidden = !has;
+}
+
+function wireKey() {
+  $("#key-form").addEventListener("submit", (event) => {
+    event.preventDefault();
+    const key = $("#api-key").value.trim();
+    if (!key) {
+      $("#key-hint").textContent = "Enter the key first.";
+      $("#api-key").focus();
+      return;
+    }
+
+    saveKey(key);
+    $("#api-key").value = "";
+    showKeyState();
+    $("#key-state").textContent = "Key saved on this device.";
+    $("#forget-key").focus();
+    loadGases();
+    loadCatalogues();
+    loadHistory();
+  });
+  $("#forget-key").addEventListener("click", () => {
+    forgetKey();
+    showKeyState();
+    $("#key-hint").textContent = "Key forgotten. Kept on this device only and sent with every request.";
+    $("#api-key").focus();
+  });
+  showKeyState();
+}
+
+// ---- Site ------------------------------------------------------------------------------------------------------------
+
+function siteBasis() {
+  return document.querySelector('input[name="site-basis"]:checked').value;
+}
+
+function showSiteBasis() {
+  const barometric = siteBasis() === "barometric";
+  $("#barometric-field").hidden = !barometric;
+  $("#elevation-field").hidden = barometric;
+}
+
+function rememberSite() {
+  writeJson(SITE_STORAGE, {
+    id: $("#site-id").value.trim(),
+    basis: siteBasis(),
+    elevation: $("#site-elevation").value.trim(),
+    elevationUnit: $("#site-elevation-unit").value,
+    barometric: $("#site-barometric").value.trim(),
+    barometricUnit: $("#site-barometric-unit").value,
+  });
+}
+
+function restoreSite() {
+  const site = readJson(SITE_STORAGE, null);
+  if (site) {
+    $("#site-id").value = site.id || "";
+    $(site.basis === "barometric" ? "#site-basis-barometric" : "#site-basis-elevation").checked = true;
+    $("#site-elevation").value = site.elevation || "";
+    $("#site-elevation-unit").value = site.elevationUnit || "m";
+    $("#site-barometric").value = site.barometric || "";
+    $("#site-barometric-unit").value = site.barometricUnit || "kPa";
+  }
+
+  showSiteBasis();
+  for (const selector of ["#site-id", "#site-elevation", "#site-elevation-unit", "#site-barometric", "#site-barometric-unit"]) {
+    $(selector).addEventListener("change", rememberSite);
+  }
+
+  for (const radio of document.querySelectorAll('input[name="site-basis"]')) {
+    radio.addEventListener("change", () => {
+      showSiteBasis();
+      rememberSite();
+    });
+  }
+
+  $("#site-id").addEventListener("change", loadCatalogues);
+}
+
+// ---- Gas -------------------------------------------------------------------------------------------------------------
+
+function savedCompositions() {
+  const list = readJson(COMPOSITIONS_STORAGE, []);
+  return Array.isArray(list) ? list.filter((c) => c && typeof c.name === "string" && c.composition) : [];
+}
+
+function option(value, text) {
+  const o = document.createElement("option");
+  o.value = value;
+  o.textContent = text;
+  return o;
+}
+
+function fillGasSelect(selected) {
+  const select = $("#gas");
+  const kept = selected ?? select.value;
+  const presetGroup = document.createElement("optgroup");
+  presetGroup.label = "Presets";
+  presetGroup.append(...presets.map((p) => option(`preset:${p.id}`, p.name || p.id)));
+  const saved = savedCompositions();
+  const savedGroup = document.createElement("optgroup");
+  savedGroup.label = "Saved on this device";
+  savedGroup.append(...saved.map((c, i) => option(`saved:${i}`, c.name)));
+  const children = [option("", "Choose a gas"), presetGroup];
+  if (saved.length) {
+    children.push(savedGroup);
+  }
+
+  children.push(option(NEW_COMPOSITION, "Enter a composition…"));
+  select.replaceChildren(...children);
+  if ([...select.options].some((o) => o.value === kept)) {
+    select.value = kept;
+  }
+
+  showCompositionEditor();
+}
+
+function showCompositionEditor() {
+  $("#composition-editor").hidden = $("#gas").value !== NEW_COMPOSITION;
+}
+
+function selectedGas() {
+  const value = $("#gas").value;
+  if (value.startsWith("preset:")) {
+    return { preset: value.slice("preset:".length) };
+  }
+
+  if (value.startsWith("saved:")) {
+    const saved = savedCompositions()[Number(value.slice("saved:".length))];
+    return saved ? { composition: saved.composition } : undefined;
+  }
+
+  if (value === NEW_COMPOSITION) {
+    return { composition: parseComposition($("#composition").value) };
+  }
+
+  return undefined;
+}
+
+function wireGas() {
+  $("#gas").addEventListener("change", showCompositionEditor);
+  $("#save-composition").addEventListener("click", () => {
+    const name = $("#composition-name").value.trim();
+    const composition = parseComposition($("#composition").value);
+    if (!name || Object.keys(composition).length === 0) {
+      $("#composition-status").textContent = "Give the composition and a name to save it under.";
+      return;
+    }
+
+    const list = savedCompositions().filter((c) => c.name !== name);
+    list.push({ name, composition });
+    writeJson(COMPOSITIONS_STORAGE, list);
+    fillGasSelect(`saved:${list.length - 1}`);
+    $("#composition-status").textContent = `Saved as "${name}" on this device.`;
+    $("#gas").focus();
+  });
+}
+
+// ---- Catalogues and history ------------------------------------------------------------------------------------------
+
+async function loadGases() {
+  const outcome = await call("GET", "/v1/gases");
+  if (outcome.kind !== "ok") {
+    $("#gas").replaceChildren(option("", "Gases not loaded"), option(NEW_COMPOSITION, "Enter a composition…"));
+    $("#gas-hint").textContent = outcome.kind === "unreachable" ? outcome.reason : describeProblem(outcome);
+    return;
+  }
+
+  presets = outcome.body.presets || [];
+  $("#gas-hint").textContent = "A preset from the service, a composition saved on this device, or a new one.";
+  fillGasSelect();
+  const service = $("#service");
+  const kept = service.value;
+  service.replaceChildren(option("", "Not declared"), ...(outcome.body.serviceClasses || [])
+    .filter((s) => s.detection === "Declared")
+    .map((s) => option(s.id, s.title || s.id)));
+  service.value = kept;
+}
+
+let catalogueRequest = 0;
+
+async function loadCatalogues() {
+  const mine = ++catalogueRequest;
+  const params = new URLSearchParams();
+  const site = $("#site-id").value.trim();
+  const asset = $("#asset").value.trim();
+  if (site) {
+    params.set("site", site);
+  }
+
+  if (asset) {
+    params.set("asset", asset);
+  }
+
+  const outcome = await call("GET", `/v1/rules${params.size ? `?${params}` : ""}`);
+  if (mine !== catalogueRequest) {
+    return;
+  }
+
+  if (outcome.kind === "ok") {
+    setCatalogues(outcome.body.catalogues || {});
+  }
+}
+
+let historyRequest = 0;
+
+async function loadHistory() {
+  const mine = ++historyRequest;
+  const asset = $("#asset").value.trim();
+  const list = $("#history-list");
+  const status = $("#history-status");
+  list.replaceChildren();
+  if (!asset) {
+    status.textContent = "Enter an asset tag to see its last evaluations.";
+    return;
+  }
+
+  status.textContent = `Loading the last evaluations of ${asset}…`;
+  const outcome = await call("GET", `/v1/evaluations?${new URLSearchParams({ asset, limit: "5" })}`);
+  if (mine !== historyRequest) {
+    return;
+  }
+
+  if (outcome.kind !== "ok") {
+    status.textContent = `History not available: ${outcome.kind === "unreachable" ? outcome.reason : describeProblem(outcome)}`;
+    return;
+  }
+
+  const evaluations = outcome.body.evaluations || [];
+  status.textContent = evaluations.length ? `Last ${evaluations.length} evaluation(s) of ${asset}, newest first:` : `No evaluations of ${asset} recorded yet.`;
+  for (const e of evaluations) {
+    const item = document.createElement("li");
+    item.dataset.id = e.id;
+    const when = String(e.evaluatedAt).replace("T", " ").slice(0, 16);
+    item.textContent = `${when} UTC — ${String(e.verdict).toUpperCase()}${e.site ? ` — ${e.site}` : ""} — ${e.caller} — id ${e.id}`;
+    list.append(item);
+  }
+}
+
+// ---- Evaluate --------------------------------------------------------------------------------------------------------
+
+let evaluating = false;
+
+async function evaluate(event) {
+  event.preventDefault();
+  if (evaluating) {
+    return;
+  }
+
+  evaluating = true;
+  const button = $("#check");
+  button.disabled = true;
+  const body = $("#result-body");
+
+  // Never a stale result: everything from the last answer goes before the request is sent.
+  body.replaceChildren();
+  clearFieldErrors();
+  setStatus("Checking… no verdict yet.");
+  try {
+    const request = buildRequest(selectedGas());
+    const outcome = await call("POST", "/v1/evaluations?curve=true", request);
+    body.replaceChildren();
+    if (outcome.kind === "ok") {
+      renderEvaluation(outcome.body, body);
+      const stages = outcome.body.stages.length;
+      setStatus(`Verdict: ${String(outcome.body.verdict).toUpperCase()} for ${outcome.body.asset || "the machine"}, ${stages} stage${stages === 1 ? "" : "s"}. Evaluation id ${outcome.body.id}.`);
+      rememberSite();
+      $("#result-heading").focus();
+      loadHistory();
+    } else if (outcome.kind === "problem" && outcome.body && outcome.body.errors && (outcome.status === 400 || outcome.status === 422)) {
+      const count = showFieldErrors(outcome.body.errors);
+      const reason = `The service could not use ${count} entr${count === 1 ? "y" : "ies"}; each is marked beside its field.`;
+      renderNoVerdict(reason, body);
+      setStatus(`No verdict. ${reason}`);
+      $("#error-summary").focus();
+    } else {
+      const reason = outcome.kind === "unreachable" ? outcome.reason : describeProblem(outcome);
+      renderNoVerdict(reason, body);
+      setStatus(`No verdict. ${reason}`);
+      $("#result-heading").focus();
+    }
+  } catch (error) {
+    body.replaceChildren();
+    const reason = `The page failed while showing the answer (${error && error.message ? error.message : error}).`;
+    renderNoVerdict(reason, body);
+    setStatus(`No verdict. ${reason}`);
+  } finally {
+    evaluating = false;
+    button.disabled = false;
+  }
+}
+
+// ---- Start -----------------------------------------------------------------------------------------------------------
+
+async function start() {
+  wireKey();
+  restoreSite();
+  wireGas();
+  addStage();
+  $("#add-stage").addEventListener("click", () => {
+    const stage = addStage();
+    stage.querySelector("input").focus();
+  });
+  $("#remove-stage").addEventListener("click", () => {
+    removeLastStage();
+    $("#add-stage").focus();
+  });
+  const output = $("#output-units");
+  output.value = localStorage.getItem(OUTPUT_STORAGE) === "imperial" ? "imperial" : "metric";
+  output.addEventListener("change", () => localStorage.setItem(OUTPUT_STORAGE, output.value));
+  $("#asset").addEventListener("change", () => {
+    loadCatalogues();
+    loadHistory();
+  });
+  $("#evaluate-form").addEventListener("submit", evaluate);
+  fillGasSelect();
+  await Promise.all([loadGases(), loadCatalogues()]);
+  document.body.dataset.ready = "true";
+}
+
+start();

@@ -1,0 +1,251 @@
+// The result: the verdict in words with a shape, each stage's temperatures, governing limit, chart, findings, what was
+// not checked, the measured-vs-predicted panel, the cautions and the evaluation id. Everything shown comes from the
+// response; text is set with textContent only.
+
+import { drawStageChart } from "./chart.js";
+
+const SVG = "http://www.w3.org/2000/svg";
+
+const VERDICTS = {
+  pass: { word: "PASS", meaning: "Every limit that could be checked holds with these inputs." },
+  review: { word: "REVIEW", meaning: "A warning needs attention, or a limit could not be checked. Read the findings before running." },
+  fail: { word: "FAIL", meaning: "At least one limit is exceeded. Do not run at these conditions without an engineering review." },
+  none: { word: "NO VERDICT", meaning: "Nothing was checked. Do not act on any earlier result." },
+};
+
+const SEVERITY_WORDS = { violation: "LIMIT EXCEEDED", warning: "WARNING", pass: "WITHIN LIMIT", info: "NOTE" };
+
+function h(tag, attributes = {}, ...children) {
+  const node = document.createElement(tag);
+  for (const [key, value] of Object.entries(attributes)) {
+    if (key === "class") {
+      node.className = value;
+    } else {
+      node.setAttribute(key, value);
+    }
+  }
+
+  for (const child of children) {
+    if (child === null || child === undefined) {
+      continue;
+    }
+
+    node.append(child instanceof Node ? child : String(child));
+  }
+
+  return node;
+}
+
+function svgNode(name, attributes) {
+  const node = document.createElementNS(SVG, name);
+  for (const [key, value] of Object.entries(attributes)) {
+    node.setAttribute(key, String(value));
+  }
+
+  return node;
+}
+
+/** A shape per verdict, so the verdict does not rest on colour: circle with a tick, triangle with "!", octagon with a cross, dashed circle with a bar. */
+function verdictShape(kind) {
+  const svg = svgNode("svg", { viewBox: "0 0 64 64", "aria-hidden": "true", focusable: "false", class: `shape-${kind}` });
+  if (kind === "pass") {
+    svg.append(svgNode("circle", { class: "shape", cx: 32, cy: 32, r: 27 }), svgNode("path", { class: "mark", d: "M19 33 L28 42 L46 22" }));
+  } else if (kind === "review") {
+    svg.append(svgNode("path", { class: "shape", d: "M32 6 L59 56 L5 56 Z" }), svgNode("path", { class: "mark", d: "M32 22 L32 40 M32 48 L32 49" }));
+  } else if (kind === "fail") {
+    svg.append(svgNode("path", { class: "shape", d: "M21 5 L43 5 L59 21 L59 43 L43 59 L21 59 L5 43 L5 21 Z" }), svgNode("path", { class: "mark", d: "M22 22 L42 42 M42 22 L22 42" }));
+  } else {
+    svg.append(svgNode("circle", { class: "shape", cx: 32, cy: 32, r: 27, "stroke-dasharray": "8 6" }), svgNode("path", { class: "mark", d: "M18 32 L46 32" }));
+  }
+
+  return svg;
+}
+
+export function verdictBanner(kind, detail) {
+  const v = VERDICTS[kind] || VERDICTS.none;
+  return h("div", { class: `verdict verdict-${VERDICTS[kind] ? kind : "none"}`, "data-verdict": VERDICTS[kind] ? kind : "none" },
+    verdictShape(VERDICTS[kind] ? kind : "none"),
+    h("div", {}, h("span", { class: "word" }, v.word), h("span", { class: "meaning" }, detail || v.meaning)));
+}
+
+const q = (quantity) => (quantity ? `${formatNumber(quantity.value)} ${quantity.unit}` : "—");
+
+function formatNumber(value) {
+  if (typeof value !== "number") {
+    return String(value);
+  }
+
+  const abs = Math.abs(value);
+  return abs >= 1000 ? value.toFixed(0) : abs >= 1 ? value.toFixed(1) : value.toPrecision(3);
+}
+
+function row(label, value, attributes = {}) {
+  return h("tr", attributes, h("th", { scope: "row" }, label), h("td", {}, value));
+}
+
+function tag(kind, word) {
+  return h("span", { class: `tag tag-${kind}` }, word);
+}
+
+function governingBlock(stage) {
+  const governing = stage.governing;
+  if (!governing) {
+    return h("div", { class: "governing" }, h("p", {}, "No violation-level limit applied to this stage, so none governs."));
+  }
+
+  const margin = governing.margin;
+  const beyond = margin && margin.value < 0;
+  const envelope = stage.envelope;
+  return h("div", { class: "governing", "data-rule": governing.ruleId },
+    h("p", {}, h("strong", {}, "Governing limit: "), `${governing.ruleId}, ${q(governing.limit)} on the ${governing.quantity} temperature`),
+    h("p", {}, h("strong", {}, "Margin: "), margin ? `${q(margin)} ${beyond ? "beyond the limit" : "below the limit"}` : "not available"),
+    envelope && envelope.maxDischargePressure
+      ? h("p", {}, h("strong", {}, "Highest discharge pressure before it: "), `${q(envelope.maxDischargePressure)} absolute`)
+      : null,
+    envelope && envelope.maxSuctionTemperature
+      ? h("p", {}, h("strong", {}, "Highest suction temperature before it: "), q(envelope.maxSuctionTemperature))
+      : null,
+    envelope && envelope.note ? h("p", { class: "hint" }, envelope.note) : null);
+}
+
+function findingItem(finding) {
+  const severity = finding.severity;
+  const item = h("li", { class: `finding finding-${severity}`, "data-rule": finding.ruleId, "data-severity": severity });
+  item.append(h("p", { class: "finding-head" }, tag(severity, SEVERITY_WORDS[severity] || severity.toUpperCase()), " ", `${finding.ruleId}: ${finding.title}`));
+  const numbers = [];
+  if (finding.value) {
+    numbers.push(`${finding.quantity} ${q(finding.value)}`);
+  }
+
+  if (finding.limit) {
+    numbers.push(`limit ${q(finding.limit)}`);
+  }
+
+  if (finding.margin) {
+    numbers.push(`margin ${q(finding.margin)}`);
+  }
+
+  if (numbers.length) {
+    item.append(h("p", {}, numbers.join(" · ")));
+  }
+
+  // The rule's message describes the problem it guards against; it is shown when the rule is not met.
+  if (severity !== "pass") {
+    item.append(h("p", {}, finding.message));
+  }
+
+  if (finding.note) {
+    item.append(h("p", {}, finding.note));
+  }
+
+  if (finding.setPoints) {
+    const s = finding.setPoints;
+    item.append(h("p", {}, `Proposed alarm ${q(s.alarm)}, trip ${q(s.trip)} (normal ${q(s.normal)})${s.cappedBy ? `, capped by ${s.cappedBy}` : ""}.`));
+  }
+
+  item.append(h("p", { class: "finding-basis" }, h("strong", {}, "Basis: "), finding.basis, ` (layer ${finding.layer})`));
+  if (finding.loosenedReason) {
+    item.append(h("p", { class: "finding-basis" }, h("strong", {}, "Loosened by the layer because: "), finding.loosenedReason));
+  }
+
+  return item;
+}
+
+function measuredPanel(stage) {
+  const measured = stage.measured;
+  if (!measured) {
+    return null;
+  }
+
+  const difference = measured.minusEstimated;
+  const deviation = (stage.findings || []).find((f) => f.ruleId === "R-DEVIATION");
+  const panel = h("section", { class: "measured-panel", "aria-label": `Measured against predicted, stage ${stage.index + 1}` },
+    h("h4", {}, "Measured against predicted"),
+    h("p", {}, `Measured ${q(measured.dischargeTemperature)}; estimated ${q(stage.dischargeTemperature.estimated)}.`),
+    h("p", { class: "deviation" }, h("strong", {}, "Measured minus estimated: "), `${difference.value > 0 ? "+" : ""}${q(difference)}`));
+  if (deviation) {
+    const within = deviation.severity === "pass";
+    panel.append(h("p", {}, tag(deviation.severity, within ? "WITHIN THRESHOLD" : SEVERITY_WORDS[deviation.severity] || deviation.severity),
+      ` R-DEVIATION threshold ${q(deviation.limit)}.`));
+  }
+
+  const hotter = difference.value > 0;
+  panel.append(h("p", {}, hotter
+    ? "Running hotter than predicted can point to leaking valves or piston rings, gas recirculating inside the cylinder, "
+      + "poor cooling, or an efficiency lower than the one used. It can also be an instrument error."
+    : "Running cooler than predicted usually means the efficiency used is conservative, or the thermometer reads low "
+      + "or sits away from the gas stream. Check that the entered conditions match the gauges."));
+  panel.append(h("p", {}, "This is a hint, not a diagnosis: follow the manufacturer's diagnostic procedure before changing anything."));
+  return panel;
+}
+
+function stageSection(stage, count) {
+  const dt = stage.dischargeTemperature;
+  const title = count > 1 ? `Stage ${stage.index + 1}` : "The stage";
+  const section = h("section", { class: "stage-result", "data-stage": stage.index, "aria-label": title });
+  section.append(h("h3", {}, `${title}: `, tag(stage.verdict, (VERDICTS[stage.verdict] || VERDICTS.none).word)));
+
+  const efficiency = stage.efficiency;
+  const efficiencyWords = efficiency.source === "rule-default"
+    ? `${formatNumber(efficiency[efficiency.given])} ${efficiency.given}: the compressor type's default from the rule file`
+    : `${formatNumber(efficiency[efficiency.given])} ${efficiency.given}, as entered`;
+  section.append(h("table", { class: "values" },
+    h("caption", { class: "visually-hidden" }, `${title}: predicted temperatures`),
+    h("tbody", {},
+      row("Isentropic discharge temperature (η = 1)", q(dt.isentropic), { "data-value": "isentropic" }),
+      row("Estimated discharge temperature", q(dt.estimated), { "data-value": "estimated" }),
+      row("Range of the estimate (efficiency uncertainty)", `${q(dt.estimatedLowerBound)} to ${q(dt.estimatedUpperBound)}`),
+      row(`Constant-k estimate (k = ${formatNumber(dt.constantK.k)})`, q(dt.constantK.estimated), { "data-value": "constant-k" }),
+      row("Suction (absolute)", `${q(stage.suction.pressureAbsolute)}, ${q(stage.suction.temperature)}`),
+      row("Discharge pressure (absolute)", q(stage.discharge.pressureAbsolute)),
+      row("Pressure ratio", formatNumber(stage.pressureRatio)),
+      row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }))));
+
+  section.append(governingBlock(stage));
+  const chart = drawStageChart(stage);
+  if (chart) {
+    section.append(chart);
+  }
+
+  const panel = measuredPanel(stage);
+  if (panel) {
+    section.append(panel);
+  }
+
+  section.append(h("h4", {}, "Findings"));
+  const order = { violation: 0, warning: 1, info: 2, pass: 3 };
+  const findings = [...(stage.findings || [])].sort((a, b) => (order[a.severity] ?? 9) - (order[b.severity] ?? 9));
+  section.append(h("ul", { class: "findings" }, ...findings.map(findingItem)));
+
+  section.append(h("h4", {}, "Not checked"));
+  if ((stage.notChecked || []).length === 0) {
+    section.append(h("p", {}, "Every rule that applied was checked."));
+  } else {
+    section.append(h("ul", { class: "not-checked" }, ...stage.notChecked.map((n) =>
+      h("li", { "data-rule": n.ruleId }, h("strong", {}, `${n.ruleId}: `), n.reason))));
+  }
+
+  return section;
+}
+
+/** Fills the result body with a whole answer. */
+export function renderEvaluation(body, container) {
+  const stages = body.stages || [];
+  container.append(verdictBanner(body.verdict));
+  container.append(h("h3", {}, "Cautions"));
+  container.append(h("ul", { class: "cautions" }, ...(body.cautions || []).map((c) => h("li", {}, c))));
+  for (const stage of stages) {
+    container.append(stageSection(stage, stages.length));
+  }
+
+  container.append(h("h3", {}, "Record"));
+  container.append(h("p", {}, h("strong", {}, "Evaluation id: "), h("span", { class: "evaluation-id", "data-id": body.id }, body.id)));
+  container.append(h("p", {}, `Evaluated ${body.evaluatedAt} for ${body.asset || "no asset"}${body.site ? ` at ${body.site}` : ""}; `
+    + `rule set ${String(body.ruleSet && body.ruleSet.digest).slice(0, 12)}… (${(body.ruleSet.layers || []).map((l) => l.name).join(", ")}); `
+    + `method ${body.method}.`));
+}
+
+/** Fills the result body with a plain "no verdict" and its reason. */
+export function renderNoVerdict(reason, container) {
+  container.append(verdictBanner("none", `Nothing was checked. ${reason}`));
+}
