@@ -116,6 +116,10 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
         Assert.Contains($"Governing limit: {rule}", text, StringComparison.Ordinal);
         Assert.Contains("beyond the limit", text, StringComparison.Ordinal);
 
+        // The gas model the temperatures come from, as the answer names it.
+        var method = body.GetProperty("stages")[0].GetProperty("method").GetString();
+        Assert.Contains(method == "real-gas" ? "real gas" : "ideal gas", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
+
         // The hydrogen-rich rule is among the violations, with its basis.
         var h2 = page.At("li.finding[data-rule='R-API618-H2']");
         Assert.Equal("violation", await h2.GetAttributeAsync("data-severity"));

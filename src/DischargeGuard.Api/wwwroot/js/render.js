@@ -179,6 +179,32 @@ function measuredPanel(stage) {
   return panel;
 }
 
+/** The service's ideal-gas and real-gas answers side by side, when it gave both. */
+function realGasRows(realGas) {
+  if (!realGas) {
+    return [];
+  }
+
+  const rows = [row("Ideal-gas estimate", q(realGas.idealGas.estimated))];
+  if (realGas.realGasTemperatures) {
+    rows.push(row("Real-gas (Peng-Robinson) estimate", q(realGas.realGasTemperatures.estimated)));
+  }
+
+  if (realGas.difference) {
+    rows.push(row("Real minus ideal (estimated)", q(realGas.difference.estimated)));
+  }
+
+  if (realGas.recommended && (realGas.reasons || []).length) {
+    rows.push(row("Why the real gas is called for", realGas.reasons.join("; ")));
+  }
+
+  if (realGas.note) {
+    rows.push(row("Real gas", realGas.note));
+  }
+
+  return rows;
+}
+
 function stageSection(stage, count) {
   const dt = stage.dischargeTemperature;
   const title = count > 1 ? `Stage ${stage.index + 1}` : "The stage";
@@ -199,7 +225,9 @@ function stageSection(stage, count) {
       row("Suction (absolute)", `${q(stage.suction.pressureAbsolute)}, ${q(stage.suction.temperature)}`),
       row("Discharge pressure (absolute)", q(stage.discharge.pressureAbsolute)),
       row("Pressure ratio", formatNumber(stage.pressureRatio)),
-      row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }))));
+      row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }),
+      row("Gas model of these temperatures", stage.method === "real-gas" ? "real gas (Peng-Robinson)" : "ideal gas", { "data-value": "method" }),
+      ...realGasRows(stage.realGas))));
 
   section.append(governingBlock(stage));
   const chart = drawStageChart(stage);
