@@ -3,9 +3,9 @@
 // numbers on axes; it computes no temperature, limit or margin of its own.
 
 const SVG = "http://www.w3.org/2000/svg";
-const WIDTH = 720;
+const WIDTH = 780;
 const HEIGHT = 420;
-const MARGIN = { left: 70, right: 215, top: 24, bottom: 60 };
+const MARGIN = { left: 70, right: 250, top: 24, bottom: 60 };
 const TEMPERATURE_UNITS = new Set(["°C", "°F", "K", "°R"]);
 const TEMPERATURE_QUANTITIES = new Set(["estimated", "isentropic", "measured"]);
 
@@ -137,14 +137,17 @@ export function drawStageChart(stage) {
 
   // Grid and axes.
   const grid = el("g", { class: "grid-lines", "aria-hidden": "true" });
+  const tickText = (value, step) => value.toFixed(step >= 1 ? 0 : Math.min(6, Math.ceil(-Math.log10(step))));
+  const yStep = niceStep(yMax - yMin, 6);
   for (const t of ticks(yMin, yMax, 6)) {
     grid.append(el("line", { class: "grid", x1: MARGIN.left, x2: MARGIN.left + plotW, y1: py(t), y2: py(t) }));
-    grid.append(el("text", { x: MARGIN.left - 8, y: (y(t) + 4).toFixed(1), "text-anchor": "end" }, format(t)));
+    grid.append(el("text", { x: MARGIN.left - 8, y: (y(t) + 4).toFixed(1), "text-anchor": "end" }, tickText(t, yStep)));
   }
 
+  const xStep = niceStep(xMax - xMin, 6);
   for (const p of ticks(xMin, xMax, 6)) {
     grid.append(el("line", { class: "grid", x1: px(p), x2: px(p), y1: MARGIN.top, y2: MARGIN.top + plotH }));
-    grid.append(el("text", { x: px(p), y: MARGIN.top + plotH + 18, "text-anchor": "middle" }, format(p)));
+    grid.append(el("text", { x: px(p), y: MARGIN.top + plotH + 18, "text-anchor": "middle" }, tickText(p, xStep)));
   }
 
   grid.append(el("line", { class: "axis", x1: MARGIN.left, x2: MARGIN.left, y1: MARGIN.top, y2: MARGIN.top + plotH }));
