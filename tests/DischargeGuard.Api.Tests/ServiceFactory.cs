@@ -156,18 +156,5 @@ public sealed class SmallBodyServiceFactory() : ServiceFactory(new Dictionary<st
 /// <summary>Paths in the repository, found by walking up from the test binary to DischargeGuard.sln.</summary>
 internal static class RepoPaths
 {
-    private static readonly Lazy<string> RootPath = new(() =>
-    {
-        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
-        {
-            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-            {
-                return dir.FullName;
-            }
-        }
-
-        throw new InvalidOperationException("DischargeGuard.sln not found above the test binary.");
-    });
-
-    public static string Root => RootPath.Value;
+    public static string Root => RepositoryRoot.Path;
 }

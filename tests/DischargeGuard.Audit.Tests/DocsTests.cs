@@ -7,7 +7,7 @@ public class DocsTests
     [Fact]
     public void AuditDoc_WhenMigrationsChange_ListsEveryMigrationWithItsDescription()
     {
-        var doc = File.ReadAllText(Path.Combine(RepoRoot(), "docs", "audit.md"));
+        var doc = File.ReadAllText(Path.Combine(RepositoryRoot.Path, "docs", "audit.md"));
 
         var missing = AuditSchema.Migrations
             .Where(m => !doc.Contains($"| {m.Version} | {m.Description} |", StringComparison.Ordinal))
@@ -20,7 +20,7 @@ public class DocsTests
     [Fact]
     public void AuditDoc_WhenPostgresMigrationsChange_ListsEveryMigrationInThePostgresSection()
     {
-        var doc = File.ReadAllText(Path.Combine(RepoRoot(), "docs", "audit.md"));
+        var doc = File.ReadAllText(Path.Combine(RepositoryRoot.Path, "docs", "audit.md"));
         var section = doc[doc.IndexOf("## PostgreSQL", StringComparison.Ordinal)..];
 
         var missing = DischargeGuard.Audit.Postgres.PostgresAuditSchema.Migrations
@@ -31,16 +31,4 @@ public class DocsTests
         Assert.True(missing.Count == 0, "PostgreSQL migrations not in docs/audit.md: " + string.Join(", ", missing));
     }
 
-    private static string RepoRoot()
-    {
-        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
-        {
-            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-            {
-                return dir.FullName;
-            }
-        }
-
-        throw new InvalidOperationException("The repository root (DischargeGuard.sln) was not found above the test binaries.");
-    }
 }

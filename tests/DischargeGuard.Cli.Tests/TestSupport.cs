@@ -25,20 +25,7 @@ internal static class TestHostEnvironment
 /// <summary>Paths in the repository, found by walking up from the test binary to DischargeGuard.sln.</summary>
 internal static class Repo
 {
-    private static readonly Lazy<string> RootPath = new(() =>
-    {
-        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
-        {
-            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-            {
-                return dir.FullName;
-            }
-        }
-
-        throw new InvalidOperationException("DischargeGuard.sln not found above the test binary.");
-    });
-
-    public static string Root => RootPath.Value;
+    public static string Root => RepositoryRoot.Path;
 
     public static string Rules => Path.Combine(Root, "rules");
 

@@ -3,20 +3,7 @@ namespace DischargeGuard.Deploy.Tests;
 /// <summary>Paths in the repository, found from the test binary by walking up to DischargeGuard.sln.</summary>
 internal static class Repo
 {
-    private static readonly Lazy<string> LazyRoot = new(() =>
-    {
-        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
-        {
-            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-            {
-                return dir.FullName;
-            }
-        }
-
-        throw new InvalidOperationException($"DischargeGuard.sln not found above {AppContext.BaseDirectory}.");
-    });
-
-    public static string Root => LazyRoot.Value;
+    public static string Root => RepositoryRoot.Path;
 
     public static string Kubernetes => Path.Combine(Root, "deploy", "kubernetes");
 

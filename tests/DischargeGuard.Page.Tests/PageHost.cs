@@ -121,20 +121,7 @@ public sealed class PageHost : WebApplicationFactory<Program>
 /// <summary>Paths in the repository, found by walking up from the test binary to DischargeGuard.sln.</summary>
 internal static class RepoPaths
 {
-    private static readonly Lazy<string> RootPath = new(() =>
-    {
-        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
-        {
-            if (File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-            {
-                return dir.FullName;
-            }
-        }
-
-        throw new InvalidOperationException("DischargeGuard.sln not found above the test binary.");
-    });
-
-    public static string Root => RootPath.Value;
+    public static string Root => RepositoryRoot.Path;
 
     /// <summary>tests/DischargeGuard.Page.Tests/TestResults/screenshots (ignored by git).</summary>
     public static string Screenshots => Path.Combine(Root, "tests", "DischargeGuard.Page.Tests", "TestResults", "screenshots");

@@ -10,18 +10,7 @@ namespace DischargeGuard.Rules.Tests;
 
 internal static class Repo
 {
-    private static readonly Lazy<string> RootLazy = new(() =>
-    {
-        var dir = new DirectoryInfo(AppContext.BaseDirectory);
-        while (dir is not null && !File.Exists(Path.Combine(dir.FullName, "DischargeGuard.sln")))
-        {
-            dir = dir.Parent;
-        }
-
-        return dir?.FullName ?? throw new InvalidOperationException("DischargeGuard.sln not found above the test output folder.");
-    });
-
-    public static string Root => RootLazy.Value;
+    public static string Root => RepositoryRoot.Path;
 
     public static string RulesDirectory => Path.Combine(Root, "rules");
 

@@ -16,6 +16,14 @@ namespace DischargeGuard.Api.Infrastructure;
 /// <summary>The host's composition: services, middleware and endpoints.</summary>
 public static class HostingExtensions
 {
+    /// <summary>The policy of every answer: no inline script or style, nothing from another origin, no framing.</summary>
+    public const string ContentSecurityPolicy =
+        "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'";
+
+    /// <summary>The same for the Swagger UI pages, whose bundle sets inline styles.</summary>
+    public const string SwaggerContentSecurityPolicy =
+        "default-src 'self'; script-src 'self'; style-src 'self' 'unsafe-inline'; img-src 'self' data:; connect-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'";
+
     /// <summary>Registers options, logging, rules, the audit store, the pipeline, validators, problem details and OpenAPI.</summary>
     public static WebApplicationBuilder AddDischargeGuard(this WebApplicationBuilder builder)
     {
@@ -119,8 +127,13 @@ public static class HostingExtensions
             context.Response.OnStarting(
                 static state =>
                 {
-                    var headers = ((HttpContext)state).Response.Headers;
-                    headers.ContentSecurityPolicy = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'";
+                    var http = (HttpContext)state;
+                    var headers = http.Response.Headers;
+
+                    // The bundled Swagger UI sets inline styles; only its pages get 'unsafe-inline' for styles (never for scripts).
+                    headers.ContentSecurityPolicy = http.Request.Path.StartsWithSegments("/swagger", StringComparison.Ordinal)
+                        ? SwaggerContentSecurityPolicy
+                        : ContentSecurityPolicy;
                     headers.XContentTypeOptions = "nosniff";
                     headers["Referrer-Policy"] = "no-referrer";
                     return Task.CompletedTask;
