@@ -13,7 +13,7 @@ public static class Cautions
 
     /// <summary>Added when a stage's temperatures come from the ideal gas.</summary>
     public const string IdealGas =
-        "Stages marked ideal-gas are computed as an ideal gas with temperature-dependent specific heats; each stage's realGas block gives the Peng-Robinson answer beside it.";
+        "Stages marked ideal-gas are computed as an ideal gas with temperature-dependent specific heats; the Peng-Robinson real-gas answer is given beside each of them for comparison.";
 
     /// <summary>Added when a stage's temperatures come from the Peng-Robinson real gas.</summary>
     public const string RealGas =
