@@ -164,53 +164,23 @@ public static class RealGasStageSolver
     /// Newton on s with the real-gas cp/T as derivative, kept inside a bracket that starts as the data range, bisection
     /// when a step leaves it; stopped as <see cref="CompressionPath.TrySolveTemperatureForEntropy"/>.
     /// </summary>
-    internal static bool TrySolveTemperatureForEntropy(RealGasMixture gas, double entropyOverR, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
-    {
-        var ideal = gas.IdealGas;
-        var lo = ideal.MinimumKelvin;
-        var hi = ideal.MaximumKelvin;
-        var t = guessKelvin > lo && guessKelvin < hi ? guessKelvin : 0.5 * (lo + hi);
-        for (var i = 0; i < maxIterations; i++)
-        {
-            var point = gas.Evaluate(t, pPascals);
-            var f = point.SOverR - entropyOverR;
-            var step = point.CpOverR > 0 ? f * t / point.CpOverR : double.NaN;
-            var next = t - step;
-            if (Converged(step, t, toleranceKelvin) && next >= lo && next <= hi)
-            {
-                tKelvin = next;
-                return true;
-            }
-
-            if (f > 0)
-            {
-                hi = t;
-            }
-            else
-            {
-                lo = t;
-            }
-
-            if (!(next > lo && next < hi))
-            {
-                if (hi - lo <= toleranceKelvin)
-                {
-                    break;
-                }
-
-                next = 0.5 * (lo + hi);
-            }
-
-            t = next;
-        }
-
-        tKelvin = double.NaN;
-        return false;
-    }
+    internal static bool TrySolveTemperatureForEntropy(RealGasMixture gas, double entropyOverR, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
+        TrySolveTemperature(gas, Target.Entropy, entropyOverR, pPascals, guessKelvin, toleranceKelvin, maxIterations, out tKelvin);
 
     /// <summary>Temperature at which the real-gas h/R at <paramref name="pPascals"/> equals <paramref name="enthalpyOverRKelvin"/>.</summary>
     /// <remarks>Newton on h with the real-gas cp, bracketed as <see cref="TrySolveTemperatureForEntropy"/>.</remarks>
-    internal static bool TrySolveTemperatureForEnthalpy(RealGasMixture gas, double enthalpyOverRKelvin, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
+    internal static bool TrySolveTemperatureForEnthalpy(RealGasMixture gas, double enthalpyOverRKelvin, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
+        TrySolveTemperature(gas, Target.Enthalpy, enthalpyOverRKelvin, pPascals, guessKelvin, toleranceKelvin, maxIterations, out tKelvin);
+
+    private enum Target
+    {
+        Entropy,
+        Enthalpy,
+    }
+
+    // The safeguarded Newton both inversions share: s/R (derivative cp/(R·T)) or h/R (derivative cp/R) against T at fixed P,
+    // kept inside a bracket that starts as the data range, bisecting when a step leaves it.
+    private static bool TrySolveTemperature(RealGasMixture gas, Target target, double value, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
     {
         var ideal = gas.IdealGas;
         var lo = ideal.MinimumKelvin;
@@ -219,8 +189,18 @@ public static class RealGasStageSolver
         for (var i = 0; i < maxIterations; i++)
         {
             var point = gas.Evaluate(t, pPascals);
-            var f = point.HOverR - enthalpyOverRKelvin;
-            var step = point.CpOverR > 0 ? f / point.CpOverR : double.NaN;
+            double f, step;
+            if (target == Target.Entropy)
+            {
+                f = point.SOverR - value;
+                step = point.CpOverR > 0 ? f * t / point.CpOverR : double.NaN;
+            }
+            else
+            {
+                f = point.HOverR - value;
+                step = point.CpOverR > 0 ? f / point.CpOverR : double.NaN;
+            }
+
             var next = t - step;
             if (Converged(step, t, toleranceKelvin) && next >= lo && next <= hi)
             {

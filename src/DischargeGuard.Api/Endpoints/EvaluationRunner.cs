@@ -106,54 +106,27 @@ internal static class ItemProblems
 
     public static ProblemDetails Unprocessable(RequestProblem problem)
     {
-        var details = new ProblemDetails
-        {
-            Status = StatusCodes.Status422UnprocessableEntity,
-            Type = Problems.TypeUri(problem.Code),
-            Title = problem.Title,
-            Detail = "See 'errors': each entry names the request field and the allowed range.",
-        };
-        details.Extensions["code"] = problem.Code;
+        var details = Of(StatusCodes.Status422UnprocessableEntity, problem.Code, problem.Title, "See 'errors': each entry names the request field and the allowed range.");
         details.Extensions["errors"] = problem.Errors;
         return details;
     }
 
-    public static ProblemDetails AuditUnavailable()
-    {
-        var details = new ProblemDetails
-        {
-            Status = StatusCodes.Status503ServiceUnavailable,
-            Type = Problems.TypeUri(Problems.AuditUnavailable),
-            Title = "The audit store is unavailable.",
-            Detail = "This item was computed but could not be recorded, so no result is given. Retry it later; nothing was stored for it.",
-        };
-        details.Extensions["code"] = Problems.AuditUnavailable;
-        return details;
-    }
+    public static ProblemDetails AuditUnavailable() =>
+        Of(StatusCodes.Status503ServiceUnavailable, Problems.AuditUnavailable, "The audit store is unavailable.",
+            "This item was computed but could not be recorded, so no result is given. Retry it later; nothing was stored for it.");
 
-    public static ProblemDetails Internal()
-    {
-        var details = new ProblemDetails
-        {
-            Status = StatusCodes.Status500InternalServerError,
-            Type = Problems.TypeUri(Problems.Internal),
-            Title = "An unexpected error occurred.",
-            Detail = "The error was logged; no result was given for this item.",
-        };
-        details.Extensions["code"] = Problems.Internal;
-        return details;
-    }
+    public static ProblemDetails Internal() =>
+        Of(StatusCodes.Status500InternalServerError, Problems.Internal, "An unexpected error occurred.", "The error was logged; no result was given for this item.");
 
-    public static ProblemDetails OverLimit(int limit)
+    public static ProblemDetails OverLimit(int limit) =>
+        Of(StatusCodes.Status413PayloadTooLarge, Problems.PayloadTooLarge, "The batch has more items than one batch may hold.",
+            $"A batch holds at most {limit} evaluations; this item and any after it were not read. Send them in another batch.");
+
+    // The stable type URI and code every problem of the service carries.
+    private static ProblemDetails Of(int status, string code, string title, string detail)
     {
-        var details = new ProblemDetails
-        {
-            Status = StatusCodes.Status413PayloadTooLarge,
-            Type = Problems.TypeUri(Problems.PayloadTooLarge),
-            Title = "The batch has more items than one batch may hold.",
-            Detail = $"A batch holds at most {limit} evaluations; this item and any after it were not read. Send them in another batch.",
-        };
-        details.Extensions["code"] = Problems.PayloadTooLarge;
+        var details = new ProblemDetails { Status = status, Type = Problems.TypeUri(code), Title = title, Detail = detail };
+        details.Extensions["code"] = code;
         return details;
     }
 }
