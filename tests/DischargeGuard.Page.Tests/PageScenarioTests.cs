@@ -130,6 +130,32 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
     }
 
     [SkippableFact]
+    public async Task Dense_co2_stage_uses_the_real_gas_and_shows_both_answers_z_and_the_model()
+    {
+        await using var page = await OpenAsync();
+        await page.FillHeaderAsync(Asset, Site, SiteElevation, "new:");
+        await page.FillAsync("#composition", "CO2 1");
+        await page.FillStageAsync(0, new StageEntry("30", "40", "90", PressureUnit: "bara", Lubricant: "pao-dab"));
+        var answer = await page.CheckAsync();
+
+        Assert.NotNull(answer);
+        var stage = answer.Value.GetProperty("stages")[0];
+        Assert.Equal("real-gas", stage.GetProperty("method").GetString());
+        Assert.Contains("real gas (Peng-Robinson)", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
+        var text = await page.At(".stage-result").InnerTextAsync();
+        Assert.Contains("Ideal-gas estimate", text, StringComparison.Ordinal);
+        Assert.Contains("Real-gas (Peng-Robinson) estimate", text, StringComparison.Ordinal);
+        Assert.Contains("Real minus ideal", text, StringComparison.Ordinal);
+
+        // Z as the answer gives it (the page formats, never computes).
+        var z = await page.At("tr[data-value='z'] td").InnerTextAsync();
+        var zSuction = stage.GetProperty("properties").GetProperty("zSuction").GetDouble();
+        Assert.StartsWith(zSuction.ToString("0.###", System.Globalization.CultureInfo.InvariantCulture)[..4], z, StringComparison.Ordinal);
+        await page.ScreenshotAsync("02b-dense-co2-real-gas");
+        await page.AssertCleanAsync();
+    }
+
+    [SkippableFact]
     public async Task Gauge_pressure_without_site_data_shows_the_error_beside_the_field_and_no_verdict()
     {
         await using var page = await OpenAsync();

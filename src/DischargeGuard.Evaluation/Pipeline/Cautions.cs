@@ -25,7 +25,7 @@ public static class Cautions
 
     /// <summary>Added when some rule could not be checked.</summary>
     public const string NotChecked =
-        "Some rules could not be checked for lack of an input (see notChecked per stage); an unchecked rule is not a pass.";
+        "Some rules could not be checked for lack of an input (each stage lists them as not checked, with what is missing); an unchecked rule is not a pass.";
 
     /// <summary>Added when an efficiency came from the rule file's compressor-type default.</summary>
     public const string DefaultEfficiency =

@@ -179,13 +179,17 @@ function measuredPanel(stage) {
   return panel;
 }
 
-/** The service's ideal-gas and real-gas answers side by side, when it gave both. */
-function realGasRows(realGas) {
+/** The service's ideal-gas and real-gas answers side by side, when it gave both, with Z and the defaulted k_ij pairs. */
+function realGasRows(realGas, properties) {
   if (!realGas) {
     return [];
   }
 
   const rows = [row("Ideal-gas estimate", q(realGas.idealGas.estimated))];
+  if (properties) {
+    rows.push(row("Compressibility Z, suction to discharge", `${formatNumber(properties.zSuction)} to ${formatNumber(properties.zDischarge)}`, { "data-value": "z" }));
+  }
+
   if (realGas.realGasTemperatures) {
     rows.push(row("Real-gas (Peng-Robinson) estimate", q(realGas.realGasTemperatures.estimated)));
   }
@@ -200,6 +204,10 @@ function realGasRows(realGas) {
 
   if (realGas.note) {
     rows.push(row("Real gas", realGas.note));
+  }
+
+  if ((realGas.defaultedPairs || []).length) {
+    rows.push(row("Interaction parameters taken as 0 (no published value)", realGas.defaultedPairs.join(", "), { "data-value": "defaulted-pairs" }));
   }
 
   return rows;
@@ -227,7 +235,7 @@ function stageSection(stage, count) {
       row("Pressure ratio", formatNumber(stage.pressureRatio)),
       row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }),
       row("Gas model of these temperatures", stage.method === "real-gas" ? "real gas (Peng-Robinson)" : "ideal gas", { "data-value": "method" }),
-      ...realGasRows(stage.realGas))));
+      ...realGasRows(stage.realGas, stage.properties))));
 
   section.append(governingBlock(stage));
   const chart = drawStageChart(stage);
