@@ -123,16 +123,7 @@ public sealed class PostgresAuditStore : IAuditStore
         var item = AuditWorkItem.ForAppend(SqliteAuditStore.Prepare(record), cancellationToken);
         cancellationToken.ThrowIfCancellationRequested();
         ThrowIfDisposed();
-        try
-        {
-            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
-        }
-        catch (ChannelClosedException e)
-        {
-            throw Closed(e);
-        }
-
-        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        await item.EnqueueAndWaitAsync(_queue.Writer, cancellationToken).ConfigureAwait(false);
     }
 
     /// <inheritdoc />
@@ -228,16 +219,7 @@ public sealed class PostgresAuditStore : IAuditStore
                 }
             },
             cancellationToken);
-        try
-        {
-            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
-        }
-        catch (ChannelClosedException e)
-        {
-            throw Closed(e);
-        }
-
-        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        await item.EnqueueAndWaitAsync(_queue.Writer, cancellationToken).ConfigureAwait(false);
         return result!;
     }
 
@@ -667,8 +649,7 @@ public sealed class PostgresAuditStore : IAuditStore
         }
     }
 
-    private static AuditStoreUnavailableException Closed(Exception? inner) =>
-        new("The audit store is closed; the evaluation was not stored.", inner);
+    private static AuditStoreUnavailableException Closed(Exception? inner) => AuditWorkItem.Closed(inner);
 
     private AuditStoreUnavailableException ReadFailed(NpgsqlException e)
     {

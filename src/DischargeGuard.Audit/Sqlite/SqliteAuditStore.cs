@@ -142,16 +142,7 @@ public sealed class SqliteAuditStore : IAuditStore
         var item = AuditWorkItem.ForAppend(Prepare(record), cancellationToken);
         cancellationToken.ThrowIfCancellationRequested();
         ThrowIfDisposed();
-        try
-        {
-            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
-        }
-        catch (ChannelClosedException e)
-        {
-            throw Closed(e);
-        }
-
-        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        await item.EnqueueAndWaitAsync(_queue.Writer, cancellationToken).ConfigureAwait(false);
     }
 
     /// <inheritdoc />
@@ -246,16 +237,7 @@ public sealed class SqliteAuditStore : IAuditStore
                 return Task.CompletedTask;
             },
             cancellationToken);
-        try
-        {
-            await _queue.Writer.WriteAsync(item, cancellationToken).ConfigureAwait(false);
-        }
-        catch (ChannelClosedException e)
-        {
-            throw Closed(e);
-        }
-
-        await item.Completion.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+        await item.EnqueueAndWaitAsync(_queue.Writer, cancellationToken).ConfigureAwait(false);
         return result!;
     }
 
@@ -786,8 +768,7 @@ public sealed class SqliteAuditStore : IAuditStore
         }
     }
 
-    private static AuditStoreUnavailableException Closed(Exception? inner) =>
-        new("The audit store is closed; the evaluation was not stored.", inner);
+    private static AuditStoreUnavailableException Closed(Exception? inner) => AuditWorkItem.Closed(inner);
 
     private AuditStoreUnavailableException ReadFailed(SqliteException e)
     {
