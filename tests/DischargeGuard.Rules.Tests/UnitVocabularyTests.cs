@@ -132,4 +132,23 @@ public class UnitVocabularyTests
         Assert.Equal(PressureBasis.Gauge, basis);
         Assert.False(Units.TryParsePressure("1 kgf/cm²(g)", out _, out _, out _));
     }
+
+    [Theory]
+    [InlineData("1e308 bara")]
+    [InlineData("-1e16 kPa")]
+    [InlineData("2e15 °C")]
+    public void TryParse_WhenNumberIsBeyondAnyPhysicalValue_RefusesBeforeConvertingToSi(string text)
+    {
+        var kind = text.EndsWith("°C", StringComparison.Ordinal) ? QuantityKind.Temperature : QuantityKind.Pressure;
+
+        Assert.False(Units.TryParse(text, kind, out _, out var error));
+        Assert.Contains("beyond any physical value", error!.Problem, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void TryParse_WhenNumberIsLargeButBelowTheCap_ConvertsToAFiniteSiValue()
+    {
+        Assert.True(Units.TryParse("1e15 bara", QuantityKind.Pressure, out var q, out _));
+        Assert.True(double.IsFinite(((UnitsNet.Pressure)q!.Quantity).Pascals));
+    }
 }

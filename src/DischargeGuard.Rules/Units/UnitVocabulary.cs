@@ -138,6 +138,9 @@ public sealed class UnitVocabulary
     public IReadOnlyList<string> AcceptedTokens(QuantityKind kind) =>
         _acceptedByKind.TryGetValue(kind, out var a) ? a : [];
 
+    /// <summary>Largest magnitude of a number in any unit (the SI conversion of any accepted value stays finite).</summary>
+    public const double MaxMagnitude = 1e15;
+
     /// <summary>Reads a quantity string of the given kind.</summary>
     /// <param name="text">The text, e.g. <c>"150 °C"</c>.</param>
     /// <param name="kind">What the text must measure.</param>
@@ -179,6 +182,13 @@ public sealed class UnitVocabulary
             || !double.IsFinite(number))
         {
             error = Error(text, kind, "It does not start with a number written with a decimal point.");
+            return false;
+        }
+
+        if (Math.Abs(number) > MaxMagnitude)
+        {
+            // Far beyond any physical value here, and converting it to SI (1e308 bar in Pa) would overflow to infinity.
+            error = Error(text, kind, string.Create(CultureInfo.InvariantCulture, $"The number is beyond any physical value (at most {MaxMagnitude:0e0} in magnitude)."));
             return false;
         }
 
