@@ -91,7 +91,16 @@ public static partial class RulesApi
         var fileName = string.IsNullOrWhiteSpace(name) ? "candidate.yaml" : Path.GetFileName(name);
         using var reader = new StreamReader(request.Body, new UTF8Encoding(false, true));
         var buffer = new char[MaxRuleFileBytes + 1];
-        var length = await reader.ReadBlockAsync(buffer.AsMemory(), cancellationToken).ConfigureAwait(false);
+        int length;
+        try
+        {
+            length = await reader.ReadBlockAsync(buffer.AsMemory(), cancellationToken).ConfigureAwait(false);
+        }
+        catch (DecoderFallbackException)
+        {
+            throw new BadHttpRequestException("A rule file is UTF-8 text; the body holds bytes that are not valid UTF-8.", StatusCodes.Status400BadRequest);
+        }
+
         if (length > MaxRuleFileBytes)
         {
             throw new BadHttpRequestException("Rule file too large.", StatusCodes.Status413PayloadTooLarge);

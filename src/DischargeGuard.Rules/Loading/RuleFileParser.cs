@@ -54,14 +54,24 @@ public static class RuleFileParser
     private static RuleLayer? ParseCore(Context ctx, string yaml, LayerKind? expectedKind)
     {
         var stream = new YamlStream();
+        var parser = new YamlDotNet.Core.Parser(new StringReader(yaml));
         try
         {
-            stream.Load(new StringReader(yaml));
+            stream.Load(parser);
         }
         catch (YamlException ex)
         {
             var msg = ex.InnerException is ArgumentException ? "Duplicate key: " + ex.Message : ex.Message;
             ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, ex.Start.Line, ex.Start.Column, "", msg));
+            return null;
+        }
+        catch (InvalidOperationException)
+        {
+            // The YAML reader gives up on some malformed input without a YamlException; the error is placed after the
+            // last part it read.
+            var at = parser.Current?.End;
+            ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, at?.Line ?? 1, at?.Column ?? 1, "",
+                "The YAML is malformed after this point (an unclosed bracket, quote or flow collection?); it could not be read further."));
             return null;
         }
 
@@ -363,7 +373,7 @@ public static class RuleFileParser
             ctx.Add(RuleFileErrorKind.BadValue, m.Get("limit")!, path + ".limit", "A rule that requires a signed limit has no limit of its own; a site or asset layer sets it with approvedBy and approvedOn.");
         }
 
-        if (limit is not null && severity == Severity.Info)
+        if (limit is not null && severityText is not null && severity == Severity.Info)
         {
             ctx.Add(RuleFileErrorKind.BadValue, m.Get("severity")!, path + ".severity", "A rule with a limit is a warning or a violation rule.");
         }
