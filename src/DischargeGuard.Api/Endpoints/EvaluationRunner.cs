@@ -1,3 +1,4 @@
+using DischargeGuard.Evaluation;
 using System.Text.Json;
 using DischargeGuard.Api.Infrastructure;
 using DischargeGuard.Audit;
@@ -59,21 +60,7 @@ internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<E
         }
 
         var response = outcome.Response!;
-        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options);
-        var record = new AuditRecord
-        {
-            Id = id,
-            EvaluatedAt = now,
-            Caller = caller,
-            Asset = request.Asset!,
-            SiteId = request.Site?.Id,
-            Verdict = response.Verdict,
-            RuleDigest = response.RuleSet.Digest,
-            EngineVersion = response.EngineVersion,
-            Request = requestBytes,
-            Response = body,
-            ReplayOf = replayOf,
-        };
+        var record = EvaluationRecords.Of(request, requestBytes, response, EvaluationRecords.ResponseBytes(response), caller, replayOf);
         return new RunResult(StatusCodes.Status200OK, record, response, null);
     }
 }

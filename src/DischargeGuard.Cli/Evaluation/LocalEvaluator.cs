@@ -1,3 +1,4 @@
+using DischargeGuard.Evaluation;
 using System.Text.Json;
 using DischargeGuard.Audit;
 using DischargeGuard.Audit.Sqlite;
@@ -115,21 +116,9 @@ public sealed class LocalEvaluator : ICaseEvaluator
         }
 
         var response = outcome.Response!;
-        // The contract's options through their source-generated metadata: the same bytes the service writes, no reflection.
-        var body = JsonSerializer.SerializeToUtf8Bytes(response, EvaluationJson.Options.GetTypeInfo(typeof(EvaluationResponse)));
-        var record = new AuditRecord
-        {
-            Id = id,
-            EvaluatedAt = now,
-            Caller = _caller,
-            Asset = request.Asset!,
-            SiteId = request.Site?.Id,
-            Verdict = response.Verdict,
-            RuleDigest = response.RuleSet.Digest,
-            EngineVersion = response.EngineVersion,
-            Request = proposalCase.RequestJson,
-            Response = body,
-        };
+        // The same record, and the same bytes, as the service writes (no reflection on this path).
+        var body = EvaluationRecords.ResponseBytes(response);
+        var record = EvaluationRecords.Of(request, proposalCase.RequestJson, response, body, _caller);
         try
         {
             _store ??= BeginOpeningAuditFile(_auditFile);
