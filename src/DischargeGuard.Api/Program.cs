@@ -25,7 +25,14 @@ try
 }
 catch (Exception ex) when (ex is not HostAbortedException)
 {
-    Log.Fatal(ex, "DischargeGuard stopped during start-up or shutdown");
+    // The reasons, outermost first (a broken rule file names file, line and key); no stack trace in the log.
+    var reasons = new List<string>();
+    for (Exception? e = ex; e is not null; e = e.InnerException)
+    {
+        reasons.Add($"{e.GetType().Name}: {e.Message}");
+    }
+
+    Log.Fatal("DischargeGuard stopped during start-up or shutdown: {Reasons}", string.Join(" <- ", reasons));
     return 1;
 }
 finally

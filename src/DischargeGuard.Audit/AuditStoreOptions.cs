@@ -23,6 +23,9 @@ public sealed record AuditStoreOptions
     /// </summary>
     public TimeSpan BusyTimeout { get; init; } = TimeSpan.FromSeconds(5);
 
+    /// <summary>The host's meter factory for the commit instruments (<see cref="AuditMetrics"/>); null measures nothing.</summary>
+    public System.Diagnostics.Metrics.IMeterFactory? MeterFactory { get; init; }
+
     /// <summary>Throws when a value is out of range, naming it.</summary>
     /// <exception cref="ArgumentException">The path is empty.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number or the timeout is out of range.</exception>

@@ -26,6 +26,9 @@ internal static partial class BatchApi
     /// <summary>Newline-delimited JSON: one document per line, in and out.</summary>
     public const string Ndjson = "application/x-ndjson";
 
+    // The endpoint tag of batch items in metrics.
+    private const string Endpoint = "batch";
+
     // Items evaluated and committed together. The answer streams chunk by chunk, so memory stays bounded by a chunk
     // (not the batch), and every answered item was committed before its line was written.
     private const int ChunkSize = 256;
@@ -54,6 +57,7 @@ internal static partial class BatchApi
         IAuditStore audit,
         IOptions<ServiceOptions> options,
         IOptions<Microsoft.AspNetCore.Http.Json.JsonOptions> json,
+        ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
@@ -83,7 +87,7 @@ internal static partial class BatchApi
         }
 
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
-        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions);
+        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, telemetry, logger);
         var counts = new int[6];
         var timing = new BatchTiming();
         ResultWriter? writer = null;
@@ -104,19 +108,20 @@ internal static partial class BatchApi
                     if (computed.Results.All(r => r.Status == StatusCodes.Status503ServiceUnavailable))
                     {
                         LogBatchUnavailable(logger, chunk.Count);
+                        telemetry.Refused(Problems.AuditUnavailable, Endpoint, chunk.Count);
                         return EvaluationsApi.Unavailable(http, options);
                     }
 
                     writer = new ResultWriter(http.Response, ndjsonOut, context.ProblemOptions);
                     writer.Start();
-                    await WriteAsync(writer, computed, counts, http.RequestAborted).ConfigureAwait(false);
+                    await WriteAsync(context, writer, computed, counts, http.RequestAborted).ConfigureAwait(false);
                     continue;
                 }
 
                 if (pending is not null)
                 {
                     await CompleteAsync(pending, timing).ConfigureAwait(false);
-                    await WriteAsync(writer, pending, counts, http.RequestAborted).ConfigureAwait(false);
+                    await WriteAsync(context, writer, pending, counts, http.RequestAborted).ConfigureAwait(false);
                 }
 
                 pending = computed;
@@ -125,7 +130,7 @@ internal static partial class BatchApi
             if (pending is not null)
             {
                 await CompleteAsync(pending, timing).ConfigureAwait(false);
-                await WriteAsync(writer!, pending, counts, http.RequestAborted).ConfigureAwait(false);
+                await WriteAsync(context, writer!, pending, counts, http.RequestAborted).ConfigureAwait(false);
             }
 
             if (writer is null)
@@ -363,7 +368,15 @@ internal static partial class BatchApi
     // ---- Evaluating ----
 
     private sealed record BatchContext(
-        HttpContext Http, RuleSetSnapshot Rules, EvaluationRunner Runner, IAuditStore Audit, string Caller, bool Curve, JsonSerializerOptions ProblemOptions);
+        HttpContext Http,
+        RuleSetSnapshot Rules,
+        EvaluationRunner Runner,
+        IAuditStore Audit,
+        string Caller,
+        bool Curve,
+        JsonSerializerOptions ProblemOptions,
+        ServiceTelemetry Telemetry,
+        ILogger Logger);
 
     private sealed class BatchTiming
     {
@@ -430,6 +443,8 @@ internal static partial class BatchApi
         }
 
         var started = Stopwatch.GetTimestamp();
+        using var span = ServiceTelemetry.Source.StartActivity("evaluate-chunk");
+        span?.SetTag("dischargeguard.batch.items", chunk.Items.Count);
         Parallel.For(0, chunk.Items.Count, i =>
         {
             if (chunk.Requests[i] is { } request)
@@ -452,6 +467,7 @@ internal static partial class BatchApi
     private static async Task CompleteAsync(Chunk chunk, BatchTiming timing)
     {
         var started = Stopwatch.GetTimestamp();
+        using var span = ServiceTelemetry.Source.StartActivity("audit.commit-wait");
         for (var i = 0; i < chunk.Items.Count; i++)
         {
             if (chunk.Appends[i] is not { } append)
@@ -476,12 +492,20 @@ internal static partial class BatchApi
         timing.CommitWaitMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
     }
 
-    private static async Task WriteAsync(ResultWriter writer, Chunk chunk, int[] counts, CancellationToken cancellationToken)
+    private static async Task WriteAsync(BatchContext c, ResultWriter writer, Chunk chunk, int[] counts, CancellationToken cancellationToken)
     {
+        var log = c.Logger.IsEnabled(LogLevel.Information);
         for (var i = 0; i < chunk.Items.Count; i++)
         {
-            writer.Write(chunk.Items[i].Index, chunk.Results[i]);
-            counts[Bucket(chunk.Results[i].Status)]++;
+            var result = chunk.Results[i];
+            writer.Write(chunk.Items[i].Index, result);
+            counts[Bucket(result.Status)]++;
+            c.Telemetry.Answered(result, Endpoint);
+            if (log && result.Record is { } record)
+            {
+                // One line per stored item, like a single evaluation: its id beside the batch request's trace id.
+                LogItem(c.Logger, chunk.Items[i].Index, record.Id, record.Asset, record.Verdict, record.RuleDigest);
+            }
         }
 
         await writer.FlushAsync(cancellationToken).ConfigureAwait(false);
@@ -596,6 +620,9 @@ internal static partial class BatchApi
     [LoggerMessage(EventId = 20, Level = LogLevel.Information,
         Message = "Batch of {Items} by {Caller}: {Ok} evaluated, {Invalid} invalid, {Unprocessable} out of range, {Unavailable} not recorded, {Other} other, {DurationMs:0.0} ms ({EvaluateMs:0.0} ms evaluating, {CommitWaitMs:0.0} ms waiting for commits)")]
     private static partial void LogBatch(ILogger logger, int items, int ok, int invalid, int unprocessable, int unavailable, int other, string caller, double durationMs, double evaluateMs, double commitWaitMs);
+
+    [LoggerMessage(EventId = 22, Level = LogLevel.Information, Message = "Batch item {Index}: evaluation {EvaluationId} of {Asset}: {Verdict}, rules {RuleDigest}")]
+    private static partial void LogItem(ILogger logger, int index, Guid evaluationId, string asset, string verdict, string ruleDigest);
 
     [LoggerMessage(EventId = 21, Level = LogLevel.Error, Message = "Batch not answered: the audit store refused the first {Items} items")]
     private static partial void LogBatchUnavailable(ILogger logger, int items);

@@ -54,6 +54,9 @@ public static partial class EvaluationsApi
         return group;
     }
 
+    // The endpoint tag of the single evaluation in metrics.
+    private const string Endpoint = "single";
+
     internal static async Task<Results<Utf8JsonResult<EvaluationResponse>, ValidationProblem, ProblemHttpResult>> Evaluate(
         [FromBody] EvaluationRequest request,
         [FromQuery] bool? curve,
@@ -62,6 +65,7 @@ public static partial class EvaluationsApi
         EvaluationRunner runner,
         IAuditStore audit,
         IOptions<ServiceOptions> options,
+        ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
@@ -73,14 +77,26 @@ public static partial class EvaluationsApi
         }
         catch (AuditStoreUnavailableException ex)
         {
-            LogHistoryFailed(logger, ex, request.Asset!);
+            LogHistoryFailed(logger, request.Asset!, ex.Message);
+            telemetry.Refused(Problems.AuditUnavailable, Endpoint);
             return Unavailable(http, options);
         }
 
         // One snapshot for the whole evaluation: a reload mid-request cannot mix two rule sets.
-        var result = runner.Run(request, await RequestBodyAsync(http, request).ConfigureAwait(false), rules.Current, CallerOf(http), curve == true, history);
+        var body = await RequestBodyAsync(http, request).ConfigureAwait(false);
+        RunResult result;
+        using (var span = ServiceTelemetry.Source.StartActivity("evaluate"))
+        {
+            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history);
+            span?.SetTag("dischargeguard.evaluation.id", result.Record?.Id.ToString());
+            span?.SetTag("dischargeguard.verdict", result.Response?.Verdict);
+            span?.SetTag("dischargeguard.rules.digest", result.Response?.RuleSet.Digest);
+            span?.SetTag("http.response.status_code", result.Status);
+        }
+
         if (result.Record is not { } record)
         {
+            telemetry.Answered(result, Endpoint);
             return result.Problem is HttpValidationProblemDetails v
                 ? Problems.Validation(v.Errors, (string)v.Extensions["code"]!, v.Title!)
                 : TypedResults.Problem(result.Problem!);
@@ -88,13 +104,17 @@ public static partial class EvaluationsApi
 
         try
         {
+            using var wait = ServiceTelemetry.Source.StartActivity("audit.commit-wait");
             await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
-            LogAuditFailed(logger, ex, record.Id, record.Asset);
+            LogAuditFailed(logger, record.Id, record.Asset, ex.Message);
+            telemetry.Refused(Problems.AuditUnavailable, Endpoint);
             return Unavailable(http, options);
         }
+
+        telemetry.Answered(result, Endpoint);
 
         if (logger.IsEnabled(LogLevel.Information))
         {
@@ -264,11 +284,12 @@ public static partial class EvaluationsApi
         Message = "Evaluation {EvaluationId} of {Asset}: {Verdict}, governing margin {GoverningMargin}, rules {RuleDigest}, caller {Caller}, {DurationMs:0.0} ms")]
     private static partial void LogEvaluated(ILogger logger, Guid evaluationId, string asset, string verdict, double? governingMargin, string ruleDigest, string caller, double durationMs);
 
-    [LoggerMessage(EventId = 2, Level = LogLevel.Error, Message = "Evaluation {EvaluationId} of {Asset} not answered: the audit store refused the write")]
-    private static partial void LogAuditFailed(ILogger logger, Exception exception, Guid evaluationId, string asset);
+    // Store failures are expected faults with a known cause: the message says it, a stack trace would add nothing.
+    [LoggerMessage(EventId = 2, Level = LogLevel.Error, Message = "Evaluation {EvaluationId} of {Asset} not answered: the audit store refused the write ({Reason})")]
+    private static partial void LogAuditFailed(ILogger logger, Guid evaluationId, string asset, string reason);
 
-    [LoggerMessage(EventId = 3, Level = LogLevel.Error, Message = "Evaluation of {Asset} not answered: the asset's history could not be read from the audit store")]
-    private static partial void LogHistoryFailed(ILogger logger, Exception exception, string asset);
+    [LoggerMessage(EventId = 3, Level = LogLevel.Error, Message = "Evaluation of {Asset} not answered: the asset's history could not be read from the audit store ({Reason})")]
+    private static partial void LogHistoryFailed(ILogger logger, string asset, string reason);
 }
 
 /// <summary>

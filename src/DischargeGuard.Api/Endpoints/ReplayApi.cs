@@ -35,6 +35,7 @@ internal static partial class ReplayApi
         EvaluationRunner runner,
         IAuditStore audit,
         IOptions<ServiceOptions> options,
+        ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations.Replay");
@@ -58,16 +59,23 @@ internal static partial class ReplayApi
             var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id);
             if (result.Record is not { } record)
             {
+                telemetry.Answered(result, "replay");
                 return ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.");
             }
 
-            await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+            using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
+            {
+                await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+            }
+
+            telemetry.Answered(result, "replay");
             LogReplayed(logger, record.Id, original.Id, original.Verdict, record.Verdict, original.RuleDigest, record.RuleDigest);
             return new Utf8JsonResult<ReplayResult>(Write(original, record));
         }
         catch (AuditStoreUnavailableException ex)
         {
-            LogReplayFailed(logger, ex, id);
+            LogReplayFailed(logger, id, ex.Message);
+            telemetry.Refused(Problems.AuditUnavailable, "replay");
             return EvaluationsApi.Unavailable(http, options);
         }
     }
@@ -205,8 +213,8 @@ internal static partial class ReplayApi
         Message = "Replay {EvaluationId} of {OriginalId}: verdict {OriginalVerdict} -> {Verdict}, rules {OriginalRuleDigest} -> {RuleDigest}")]
     private static partial void LogReplayed(ILogger logger, Guid evaluationId, Guid originalId, string originalVerdict, string verdict, string originalRuleDigest, string ruleDigest);
 
-    [LoggerMessage(EventId = 31, Level = LogLevel.Error, Message = "Replay of {OriginalId} not answered: the audit store could not be read or written")]
-    private static partial void LogReplayFailed(ILogger logger, Exception exception, Guid originalId);
+    [LoggerMessage(EventId = 31, Level = LogLevel.Error, Message = "Replay of {OriginalId} not answered: the audit store could not be read or written ({Reason})")]
+    private static partial void LogReplayFailed(ILogger logger, Guid originalId, string reason);
 }
 
 /// <summary>The answer of <c>POST /v1/evaluations/{id}/replay</c>.</summary>

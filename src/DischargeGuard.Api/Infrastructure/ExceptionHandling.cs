@@ -36,7 +36,10 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
         }
         else
         {
-            LogUnhandled(logger, exception, httpContext.Request.Path);
+            // At the default levels the log holds what failed and where, not the stack: logs leave the host and are read
+            // by more people than the code. Turning this category to Debug adds the full exception for a developer.
+            LogUnhandled(logger, exception.GetType().Name, httpContext.Request.Path, exception.Message);
+            LogUnhandledDetail(logger, exception, httpContext.Request.Path);
             details = new ProblemDetails
             {
                 Status = StatusCodes.Status500InternalServerError,
@@ -85,6 +88,9 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
         return "This value has the wrong type or is malformed JSON here (quantities are strings such as \"1.5 barg\" or {\"value\": 1.5, \"unit\": \"barg\"}; fractions and efficiencies are numbers).";
     }
 
-    [LoggerMessage(Level = LogLevel.Error, Message = "Unhandled exception on {Path}")]
-    private static partial void LogUnhandled(ILogger logger, Exception exception, PathString path);
+    [LoggerMessage(EventId = 90, Level = LogLevel.Error, Message = "Unhandled {ExceptionType} on {Path}: {Reason}")]
+    private static partial void LogUnhandled(ILogger logger, string exceptionType, PathString path, string reason);
+
+    [LoggerMessage(EventId = 91, Level = LogLevel.Debug, Message = "Unhandled exception on {Path}, in full")]
+    private static partial void LogUnhandledDetail(ILogger logger, Exception exception, PathString path);
 }

@@ -36,6 +36,8 @@ public static class HostingExtensions
         builder.Services.AddSerilog(
             (services, logger) => logger
             .ReadFrom.Configuration(builder.Configuration)
+            // Sinks registered as services (an operator's extra sink; the tests' capture) join the configured ones.
+            .ReadFrom.Services(services)
             .Enrich.FromLogContext()
             // Log events are not the audit trail (that is the store), so they may be written in the background;
             // blockWhenFull keeps them from being dropped under load.
@@ -83,12 +85,17 @@ public static class HostingExtensions
                     throw new InvalidOperationException("Audit:ConnectionString must be set when Audit:Provider is 'postgresql'.");
                 }
 
-                var pgOptions = new DischargeGuard.Audit.Postgres.PostgresAuditStoreOptions { ConnectionString = settings.ConnectionString, MaxBatchSize = settings.MaxBatchSize };
+                var pgOptions = new DischargeGuard.Audit.Postgres.PostgresAuditStoreOptions
+                {
+                    ConnectionString = settings.ConnectionString,
+                    MaxBatchSize = settings.MaxBatchSize,
+                    MeterFactory = sp.GetRequiredService<System.Diagnostics.Metrics.IMeterFactory>(),
+                };
                 return DischargeGuard.Audit.Postgres.PostgresAuditStore.OpenAsync(pgOptions, CancellationToken.None).GetAwaiter().GetResult();
             }
 
             var path = Path.IsPathRooted(settings.SqlitePath) ? settings.SqlitePath : Path.Combine(builder.Environment.ContentRootPath, settings.SqlitePath);
-            var options = new AuditStoreOptions { SqlitePath = path, MaxBatchSize = settings.MaxBatchSize };
+            var options = new AuditStoreOptions { SqlitePath = path, MaxBatchSize = settings.MaxBatchSize, MeterFactory = sp.GetRequiredService<System.Diagnostics.Metrics.IMeterFactory>() };
 
             // Opening migrates the schema; it runs once at start-up (the store is resolved eagerly below).
             return SqliteAuditStore.OpenAsync(options, CancellationToken.None).GetAwaiter().GetResult();
@@ -107,6 +114,7 @@ public static class HostingExtensions
         builder.Services.AddEndpointsApiExplorer();
         builder.Services.AddSwaggerGen(OpenApiSetup.Configure);
         builder.AddDischargeGuardSecurity();
+        builder.AddDischargeGuardTelemetry();
         return builder;
     }
 
@@ -186,6 +194,7 @@ public static class HostingExtensions
         app.MapAdmin();
         app.MapGases();
         app.MapHealth();
+        app.MapDischargeGuardTelemetry();
         return app;
     }
 }

@@ -42,6 +42,7 @@ public sealed class PostgresAuditStore : IAuditStore
     private readonly Channel<AuditWorkItem> _queue;
     private readonly CancellationTokenSource _closing = new();
     private readonly Lock _stateLock = new();
+    private readonly AuditMetrics _metrics;
     private Task _writerLoop = Task.CompletedTask;
     private int _disposed;
 
@@ -57,6 +58,7 @@ public sealed class PostgresAuditStore : IAuditStore
     private PostgresAuditStore(PostgresAuditStoreOptions options)
     {
         _options = options;
+        _metrics = new AuditMetrics(options.MeterFactory, "postgresql");
         var seconds = (int)Math.Ceiling(options.CommandTimeout.TotalSeconds);
         var builder = new NpgsqlConnectionStringBuilder(options.ConnectionString)
         {
@@ -373,6 +375,7 @@ public sealed class PostgresAuditStore : IAuditStore
 
     private async Task CommitBatchAsync(List<AuditWorkItem> batch)
     {
+        var startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
         try
         {
             // Not cancellable by any caller: once taken, a batch is committed or rolled back whole.
@@ -400,6 +403,7 @@ public sealed class PostgresAuditStore : IAuditStore
         catch (Exception e)
 #pragma warning restore CA1031
         {
+            _metrics.Record(batch.Count, startedAt, committed: false);
             await DiscardWriterAsync().ConfigureAwait(false);
             _readerSource.Clear();
             RecordFailure(e.Message, failedBatch: true);
@@ -412,6 +416,7 @@ public sealed class PostgresAuditStore : IAuditStore
             return;
         }
 
+        _metrics.Record(batch.Count, startedAt, committed: true);
         lock (_stateLock)
         {
             var s = _statistics;

@@ -17,6 +17,9 @@ public sealed record PostgresAuditStoreOptions
     /// <summary>How long one statement (and opening a connection) may take before it fails.</summary>
     public TimeSpan CommandTimeout { get; init; } = TimeSpan.FromSeconds(5);
 
+    /// <summary>The host's meter factory for the commit instruments (<see cref="AuditMetrics"/>); null measures nothing.</summary>
+    public System.Diagnostics.Metrics.IMeterFactory? MeterFactory { get; init; }
+
     /// <summary>Throws when a value is out of range, naming it.</summary>
     /// <exception cref="ArgumentException">The connection string is empty or malformed.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number or the timeout is out of range.</exception>

@@ -40,6 +40,7 @@ public sealed class SqliteAuditStore : IAuditStore
     private readonly Channel<AuditWorkItem> _queue;
     private readonly CancellationTokenSource _closing = new();
     private readonly Lock _stateLock = new();
+    private readonly AuditMetrics _metrics;
     private Task _writerLoop = Task.CompletedTask;
     private int _disposed;
 
@@ -58,6 +59,7 @@ public sealed class SqliteAuditStore : IAuditStore
     private SqliteAuditStore(AuditStoreOptions options, string fullPath)
     {
         _options = options;
+        _metrics = new AuditMetrics(options.MeterFactory, "sqlite");
         DatabasePath = fullPath;
         var timeoutSeconds = (int)Math.Ceiling(options.BusyTimeout.TotalSeconds);
         _writerConnectionString = new SqliteConnectionStringBuilder
@@ -420,6 +422,7 @@ public sealed class SqliteAuditStore : IAuditStore
 
     private void CommitBatch(List<AuditWorkItem> batch)
     {
+        var startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
         try
         {
             var connection = EnsureWriter(migrate: false);
@@ -442,6 +445,7 @@ public sealed class SqliteAuditStore : IAuditStore
                 AuditSchema.RollbackQuietly(_writer);
             }
 
+            _metrics.Record(batch.Count, startedAt, committed: false);
             DiscardWriter();
             RecordFailure(e.Message, failedBatch: true);
             foreach (var item in batch)
@@ -453,6 +457,7 @@ public sealed class SqliteAuditStore : IAuditStore
             return;
         }
 
+        _metrics.Record(batch.Count, startedAt, committed: true);
         lock (_stateLock)
         {
             var s = _statistics;
