@@ -28,7 +28,8 @@ seq "$items" | awk -v item="$item" 'BEGIN { printf "{\"evaluations\":[" } NR > 1
 
 # Warning level except the one summary event per batch (items, time evaluating, time waiting for commits).
 settings=(DischargeGuard__RulesWatch=false Serilog__MinimumLevel__Default=Warning
-  Serilog__MinimumLevel__Override__DischargeGuard.Evaluations.Batch=Information Audit__SqlitePath="$work/audit.db")
+  Serilog__MinimumLevel__Override__DischargeGuard.Evaluations.Batch=Information
+  Serilog__MinimumLevel__Override__DischargeGuard.Evaluations.Batch.Items=Warning Audit__SqlitePath="$work/audit.db")
 if [ "$provider" = postgresql ]; then
   pgbin="$(ls -d /usr/lib/postgresql/*/bin 2>/dev/null | sort -V | tail -1)"
   [ -x "$pgbin/initdb" ] || { echo "PostgreSQL binaries not found: apt-get install -y postgresql" >&2; exit 1; }

@@ -1,14 +1,10 @@
 -- wrk script: POST one evaluation per request (invented scenario: Harrow Basin Gas Co., site kestrel-ridge).
 wrk.method = "POST"
 wrk.headers["Content-Type"] = "application/json"
-wrk.body = [[
-{"asset":"K-101A","site":{"id":"kestrel-ridge","elevation":"350 m"},"gas":{"preset":"dry-air","relativeHumidity":0.6},
- "stages":[{"suction":{"pressure":"0.2 barg","temperature":"35 °C"},"discharge":{"pressure":"2.6 barg"},
-   "efficiency":{"isentropic":0.80,"uncertainty":0.03},
-   "equipment":{"compressorType":"recip-lubricated","lubricant":"mineral-vdl","valveMaterial":"peek","sealMaterial":"fkm"},
-   "operation":{"normalDischargeTemperature":"140 °C","coolantInletTemperature":"45 °C","unloadedRunning":false},
-   "measured":{"dischargeTemperature":"141 °C"}}]}
-]]
+-- The body is bench/load/evaluate.json (the soak sends the same one); the scripts run from the repository root.
+local file = assert(io.open("bench/load/evaluate.json", "r"))
+wrk.body = file:read("*a")
+file:close()
 
 -- Count non-2xx answers so a run with errors cannot pass as a throughput figure.
 local failures = 0

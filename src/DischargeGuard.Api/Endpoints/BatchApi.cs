@@ -26,6 +26,9 @@ internal static partial class BatchApi
     /// <summary>Newline-delimited JSON: one document per line, in and out.</summary>
     public const string Ndjson = "application/x-ndjson";
 
+    /// <summary>The log category of the one event per stored item (its own, so it can be turned down apart from the batch summary).</summary>
+    public const string ItemLogCategory = "DischargeGuard.Evaluations.Batch.Items";
+
     // The endpoint tag of batch items in metrics.
     private const string Endpoint = "batch";
 
@@ -87,7 +90,7 @@ internal static partial class BatchApi
         }
 
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
-        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, telemetry, logger);
+        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, telemetry, loggers.CreateLogger(ItemLogCategory));
         var counts = new int[6];
         var timing = new BatchTiming();
         ResultWriter? writer = null;
