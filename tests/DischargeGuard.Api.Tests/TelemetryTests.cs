@@ -239,6 +239,7 @@ public sealed class TelemetryTests
         Assert.Equal(HttpStatusCode.OK, (await gate.PostAsync(Url("/v1/evaluations"), JsonBody(Requests.PassingStage()))).StatusCode);
 
         Assert.Equal(HttpStatusCode.Unauthorized, (await factory.ClientWith(null).GetAsync(Url("/metrics"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await factory.ClientWith(KeyedServiceFactory.NewKey()).GetAsync(Url("/metrics"))).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await planner.GetAsync(Url("/metrics"))).StatusCode);
         string text = string.Empty;
         var deadline = DateTime.UtcNow.AddSeconds(30);
