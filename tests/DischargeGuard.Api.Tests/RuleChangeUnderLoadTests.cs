@@ -148,7 +148,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
         // The rules as a mounted volume presents them (default.yaml, sites and assets each through ..data, swapped
         // atomically by rename(2)), so every state on disk is one whole set: v1 the shipped files, v2 with the site and
         // asset layers and a lower default limit elsewhere in default.yaml. Reloads are requested back to back while the
-        // mount swaps every few milliseconds; an answer on any other digest was made on files of two versions.
+        // mount swaps every 10 ms; an answer on any other digest was made on files of two versions.
         await using var factory = new UnlimitedServiceFactory(watchRules: false);
         var mount = factory.RulesDirectory;
         var v1 = Path.Combine(mount, "..v1");
@@ -194,7 +194,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
                     Directory.CreateSymbolicLink(tmp, Volatile.Read(ref swaps) % 2 == 0 ? "..v2" : "..v1");
                     Assert.Equal(0, Posix.Rename(tmp, Path.Combine(mount, "..data")));
                     Interlocked.Increment(ref swaps);
-                    Thread.Sleep(2);
+                    Thread.Sleep(10);
                 }
             },
             TaskCreationOptions.LongRunning);

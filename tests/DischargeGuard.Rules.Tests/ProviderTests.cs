@@ -196,7 +196,7 @@ public sealed class ProviderTests : IDisposable
                     Directory.CreateSymbolicLink(tmp, Volatile.Read(ref swaps) % 2 == 0 ? "..v2" : "..v1");
                     Assert.Equal(0, NativeRename(tmp, Path.Combine(mount, "..data")));
                     Interlocked.Increment(ref swaps);
-                    Thread.Sleep(1);
+                    Thread.Sleep(10);
                 }
             },
             TaskCreationOptions.LongRunning);

@@ -95,8 +95,9 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
     /// <summary>
     /// Reads and validates every rule file in a directory. File names in errors are relative to it. The files are parsed
     /// from one consistent read of the directory: it is read until two reads in a row find the same files with the same
-    /// bytes, so a change made while it is read (a file rewritten, added or deleted, a mounted volume's symlink swapped)
-    /// cannot combine files of two versions into a set that was never on disk.
+    /// bytes and modification times, in folders with the same modification times, so a change made while it is read (a
+    /// file rewritten, added or deleted, a mounted volume's symlink swapped) cannot combine files of two versions into a
+    /// set that was never on disk.
     /// </summary>
     /// <param name="directory">The rules directory.</param>
     /// <param name="loadedAt">Load time stamp.</param>
@@ -139,23 +140,34 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
         return RuleSetSnapshot.Create(layers, loadedAt);
     }
 
-    /// <summary>One rule file as read: its bytes, or why it could not be read.</summary>
-    private sealed record RuleFileBytes(string Name, LayerKind Kind, byte[]? Bytes, RuleFileError? Error)
+    /// <summary>One rule file as read: its modification time and bytes, or why it could not be read.</summary>
+    private sealed record RuleFileBytes(string Name, LayerKind Kind, DateTime Modified, byte[]? Bytes, RuleFileError? Error)
     {
         public bool SameAs(RuleFileBytes other) =>
-            Name == other.Name && Kind == other.Kind && Error == other.Error
+            Name == other.Name && Kind == other.Kind && Modified == other.Modified && Error == other.Error
             && (Bytes is null ? other.Bytes is null : other.Bytes is not null && Bytes.AsSpan().SequenceEqual(other.Bytes));
     }
 
+    /// <summary>One read of the directory: the folders' modification times when it began, then every file.</summary>
+    private sealed record DirectoryRead(DateTime[] Folders, List<RuleFileBytes> Files)
+    {
+        public bool SameAs(DirectoryRead other) =>
+            Folders.AsSpan().SequenceEqual(other.Folders)
+            && Files.Count == other.Files.Count && Files.Zip(other.Files).All(p => p.First.SameAs(p.Second));
+    }
+
+    // Two reads agree only if they found the same files with the same bytes and the same modification times of the
+    // files and folders. Bytes alone can agree on the same mix twice when the reader is slow and the directory keeps
+    // swapping; a swap, rename or new file between the two reads also moves a folder's time.
     private static List<RuleFileBytes> ReadConsistently(string directory)
     {
         var previous = ReadAll(directory);
         for (var read = 2; read <= MaxReads; read++)
         {
             var next = ReadAll(directory);
-            if (next.Count == previous.Count && next.Zip(previous).All(p => p.First.SameAs(p.Second)))
+            if (next.SameAs(previous))
             {
-                return next;
+                return next.Files;
             }
 
             previous = next;
@@ -166,8 +178,9 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
     }
 
     // default.yaml, then sites/*.yaml and assets/*.yaml in name order (dot files skipped), as bytes.
-    private static List<RuleFileBytes> ReadAll(string directory)
+    private static DirectoryRead ReadAll(string directory)
     {
+        var folders = new[] { directory, Path.Combine(directory, "sites"), Path.Combine(directory, "assets") }.Select(Directory.GetLastWriteTimeUtc).ToArray();
         var defaultPath = Path.Combine(directory, "default.yaml");
         if (!File.Exists(defaultPath))
         {
@@ -190,19 +203,20 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
             }
             catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
             {
-                files.Add(new RuleFileBytes(sub, kind, null, new RuleFileError(RuleFileErrorKind.Io, sub, 0, 0, "", ex.Message)));
+                files.Add(new RuleFileBytes(sub, kind, default, null, new RuleFileError(RuleFileErrorKind.Io, sub, 0, 0, "", ex.Message)));
                 continue;
             }
 
             files.AddRange(paths.Select(f => Read(directory, f, kind)));
         }
 
-        return files;
+        return new DirectoryRead(folders, files);
     }
 
     private static RuleFileBytes Read(string directory, string path, LayerKind kind)
     {
         var name = Path.GetRelativePath(directory, path).Replace('\\', '/');
+        var modified = File.GetLastWriteTimeUtc(path);
         try
         {
             using var stream = File.OpenRead(path);
@@ -215,14 +229,14 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
             // Checked after the copy too: the file may grow while it is read.
             if (stream.Length > MaxFileBytes || bytes.Length > MaxFileBytes)
             {
-                return new RuleFileBytes(name, kind, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", $"The file is larger than {MaxFileBytes} bytes; rule files are small hand-edited documents."));
+                return new RuleFileBytes(name, kind, modified, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", $"The file is larger than {MaxFileBytes} bytes; rule files are small hand-edited documents."));
             }
 
-            return new RuleFileBytes(name, kind, bytes.ToArray(), null);
+            return new RuleFileBytes(name, kind, modified, bytes.ToArray(), null);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
-            return new RuleFileBytes(name, kind, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", ex.Message));
+            return new RuleFileBytes(name, kind, modified, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", ex.Message));
         }
     }
 
