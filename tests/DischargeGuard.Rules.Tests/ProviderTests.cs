@@ -125,6 +125,111 @@ public sealed class ProviderTests : IDisposable
         Assert.NotEqual(before, provider.Current.Digest);
     }
 
+    // Site and asset layers of the invented site kestrel-ridge (Harrow Basin Gas Co.) and its air booster K-101A.
+    private const string KestrelRidgeSite = """
+        schemaVersion: 1
+        layer:
+          kind: site
+          id: kestrel-ridge
+          title: Kestrel Ridge compressor station (Harrow Basin Gas Co.)
+        rules:
+          - id: R-KR-RATIO
+            title: Kestrel Ridge booster stage ratio
+            quantity: pressureRatio
+            limit: 2.0
+            severity: warning
+            basis: "invented site practice for the tests"
+            message: "The stage ratio is above the site's booster practice; review the staging."
+        """;
+
+    private const string BoosterAsset = """
+        schemaVersion: 1
+        layer:
+          kind: asset
+          id: K-101A
+          site: kestrel-ridge
+          title: K-101A air booster
+        overrides:
+          - rule: R-API618-GEN
+            limit: 140 °C
+        """;
+
+    [Fact]
+    public async Task Reload_WhenMountSwapsBetweenTwoSetsWhileReloading_ActivatesOnlyOneSetOrTheOtherNeverAMix()
+    {
+        // Mounted configuration again (default.yaml, sites and assets each through ..data), swapped atomically between
+        // two complete sets that differ in three files: v2 lowers a default limit and adds a site and an asset layer.
+        // Every state on disk is one whole set, so a reload that activates anything else read the files across a swap.
+        var mount = Path.Combine(_dir, "mount");
+        var v1 = Path.Combine(mount, "..v1");
+        var v2 = Path.Combine(mount, "..v2");
+        var text = File.ReadAllText(Path.Combine(_dir, "default.yaml"));
+        foreach (var v in new[] { v1, v2 })
+        {
+            Directory.CreateDirectory(Path.Combine(v, "sites"));
+            Directory.CreateDirectory(Path.Combine(v, "assets"));
+        }
+
+        File.WriteAllText(Path.Combine(v1, "default.yaml"), text);
+        File.WriteAllText(Path.Combine(v2, "default.yaml"), text.Replace("limit: 150 °C", "limit: 149 °C", StringComparison.Ordinal));
+        File.WriteAllText(Path.Combine(v2, "sites", "kestrel-ridge.yaml"), KestrelRidgeSite);
+        File.WriteAllText(Path.Combine(v2, "assets", "K-101A.yaml"), BoosterAsset);
+        string DigestOf(string directory) => FileRuleSetProvider.LoadDirectory(directory, DateTimeOffset.UnixEpoch).Resolve("kestrel-ridge", "K-101A").Digest;
+        var whole = new[] { DigestOf(v1), DigestOf(v2) };
+        Assert.NotEqual(whole[0], whole[1]);
+
+        Directory.CreateSymbolicLink(Path.Combine(mount, "..data"), "..v1");
+        File.CreateSymbolicLink(Path.Combine(mount, "default.yaml"), Path.Combine("..data", "default.yaml"));
+        Directory.CreateSymbolicLink(Path.Combine(mount, "sites"), Path.Combine("..data", "sites"));
+        Directory.CreateSymbolicLink(Path.Combine(mount, "assets"), Path.Combine("..data", "assets"));
+        using var provider = FileRuleSetProvider.Open(mount, watch: false);
+        Assert.Equal(whole[0], provider.Current.Resolve("kestrel-ridge", "K-101A").Digest);
+
+        using var stop = new CancellationTokenSource();
+        var swaps = 0;
+        var swapper = Task.Factory.StartNew(
+            () =>
+            {
+                var tmp = Path.Combine(mount, "..data_tmp");
+                while (!stop.IsCancellationRequested)
+                {
+                    Directory.CreateSymbolicLink(tmp, Volatile.Read(ref swaps) % 2 == 0 ? "..v2" : "..v1");
+                    Assert.Equal(0, NativeRename(tmp, Path.Combine(mount, "..data")));
+                    Interlocked.Increment(ref swaps);
+                    Thread.Sleep(10);
+                }
+            },
+            TaskCreationOptions.LongRunning);
+
+        var activated = new List<string>();
+        var refused = 0;
+        try
+        {
+            for (var i = 0; i < 300; i++)
+            {
+                var result = provider.Reload();
+                if (result.Succeeded)
+                {
+                    activated.Add(provider.Current.Resolve("kestrel-ridge", "K-101A").Digest);
+                }
+                else
+                {
+                    refused++;
+                }
+            }
+        }
+        finally
+        {
+            await stop.CancelAsync();
+            await swapper;
+        }
+
+        var mixed = activated.Count(d => !whole.Contains(d));
+        Assert.True(mixed == 0, $"{mixed} of {activated.Count} reloads activated a set that was never on disk ({refused} refused, {swaps} swaps)");
+        Assert.Contains(whole[0], activated);
+        Assert.Contains(whole[1], activated);
+    }
+
     [Fact]
     public async Task ReloadAsync_WhenCalled_ReturnsOutcome()
     {

@@ -41,6 +41,9 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
     /// <summary>Largest rule file read (1 MiB); a larger file is refused rather than parsed.</summary>
     public const long MaxFileBytes = 1 << 20;
 
+    /// <summary>Most reads of the directory before a load gives up on it settling.</summary>
+    private const int MaxReads = 10;
+
     private readonly string _directory;
     private readonly TimeProvider _time;
     private readonly Lock _reloadLock = new();
@@ -89,7 +92,13 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
         return provider;
     }
 
-    /// <summary>Reads and validates every rule file in a directory. File names in errors are relative to it.</summary>
+    /// <summary>
+    /// Reads and validates every rule file in a directory. File names in errors are relative to it. The files are parsed
+    /// from one consistent read of the directory: it is read until two reads in a row find the same files with the same
+    /// bytes and modification times, in folders with the same modification times, so a change made while it is read (a
+    /// file rewritten, added or deleted, a mounted volume's symlink swapped) cannot combine files of two versions into a
+    /// set that was never on disk.
+    /// </summary>
     /// <param name="directory">The rules directory.</param>
     /// <param name="loadedAt">Load time stamp.</param>
     /// <returns>The snapshot.</returns>
@@ -98,33 +107,21 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
         ArgumentException.ThrowIfNullOrWhiteSpace(directory);
         var layers = new List<RuleLayer>();
         var errors = new List<RuleFileError>();
-        void Load(string path, LayerKind kind)
+        foreach (var file in ReadConsistently(directory))
         {
-            var rel = Path.GetRelativePath(directory, path).Replace('\\', '/');
-            string text;
-            try
+            if (file.Error is { } unreadable)
             {
-                if (new FileInfo(path).Length > MaxFileBytes)
-                {
-                    errors.Add(new RuleFileError(RuleFileErrorKind.Io, rel, 0, 0, "", $"The file is larger than {MaxFileBytes} bytes; rule files are small hand-edited documents."));
-                    return;
-                }
-
-                text = File.ReadAllText(path);
-            }
-            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
-            {
-                errors.Add(new RuleFileError(RuleFileErrorKind.Io, rel, 0, 0, "", ex.Message));
-                return;
+                errors.Add(unreadable);
+                continue;
             }
 
             try
             {
-                var layer = RuleFileParser.Parse(rel, text, kind);
-                var expectedId = Path.GetFileNameWithoutExtension(path);
-                if (kind != LayerKind.Default && layer.Id != expectedId)
+                var layer = RuleFileParser.Parse(file.Name, Decode(file.Bytes!), file.Kind);
+                var expectedId = Path.GetFileNameWithoutExtension(file.Name);
+                if (file.Kind != LayerKind.Default && layer.Id != expectedId)
                 {
-                    errors.Add(new RuleFileError(RuleFileErrorKind.BadValue, rel, 0, 0, "layer.id", $"The layer id '{layer.Id}' differs from the file name '{expectedId}'."));
+                    errors.Add(new RuleFileError(RuleFileErrorKind.BadValue, file.Name, 0, 0, "layer.id", $"The layer id '{layer.Id}' differs from the file name '{expectedId}'."));
                 }
 
                 layers.Add(layer);
@@ -135,13 +132,62 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
             }
         }
 
+        if (errors.Count > 0)
+        {
+            throw new RuleFileException(errors);
+        }
+
+        return RuleSetSnapshot.Create(layers, loadedAt);
+    }
+
+    /// <summary>One rule file as read: its modification time and bytes, or why it could not be read.</summary>
+    private sealed record RuleFileBytes(string Name, LayerKind Kind, DateTime Modified, byte[]? Bytes, RuleFileError? Error)
+    {
+        public bool SameAs(RuleFileBytes other) =>
+            Name == other.Name && Kind == other.Kind && Modified == other.Modified && Error == other.Error
+            && (Bytes is null ? other.Bytes is null : other.Bytes is not null && Bytes.AsSpan().SequenceEqual(other.Bytes));
+    }
+
+    /// <summary>One read of the directory: the folders' modification times when it began, then every file.</summary>
+    private sealed record DirectoryRead(DateTime[] Folders, List<RuleFileBytes> Files)
+    {
+        public bool SameAs(DirectoryRead other) =>
+            Folders.AsSpan().SequenceEqual(other.Folders)
+            && Files.Count == other.Files.Count && Files.Zip(other.Files).All(p => p.First.SameAs(p.Second));
+    }
+
+    // Two reads agree only if they found the same files with the same bytes and the same modification times of the
+    // files and folders. Bytes alone can agree on the same mix twice when the reader is slow and the directory keeps
+    // swapping; a swap, rename or new file between the two reads also moves a folder's time.
+    private static List<RuleFileBytes> ReadConsistently(string directory)
+    {
+        var previous = ReadAll(directory);
+        for (var read = 2; read <= MaxReads; read++)
+        {
+            var next = ReadAll(directory);
+            if (next.SameAs(previous))
+            {
+                return next.Files;
+            }
+
+            previous = next;
+        }
+
+        throw new RuleFileException([new RuleFileError(RuleFileErrorKind.Io, ".", 0, 0, "",
+            $"The rule files kept changing while they were read ({MaxReads} reads, no two in a row alike), so none was loaded. Load them again once the change is complete.")]);
+    }
+
+    // default.yaml, then sites/*.yaml and assets/*.yaml in name order (dot files skipped), as bytes.
+    private static DirectoryRead ReadAll(string directory)
+    {
+        var folders = new[] { directory, Path.Combine(directory, "sites"), Path.Combine(directory, "assets") }.Select(Directory.GetLastWriteTimeUtc).ToArray();
         var defaultPath = Path.Combine(directory, "default.yaml");
         if (!File.Exists(defaultPath))
         {
             throw new RuleFileException([new RuleFileError(RuleFileErrorKind.Io, "default.yaml", 0, 0, "", "The rules directory has no default.yaml.")]);
         }
 
-        Load(defaultPath, LayerKind.Default);
+        var files = new List<RuleFileBytes> { Read(directory, defaultPath, LayerKind.Default) };
         foreach (var (sub, kind) in new[] { ("sites", LayerKind.Site), ("assets", LayerKind.Asset) })
         {
             var dir = Path.Combine(directory, sub);
@@ -150,21 +196,55 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
                 continue;
             }
 
-            foreach (var f in Directory.EnumerateFiles(dir, "*.yaml").Order(StringComparer.Ordinal))
+            List<string> paths;
+            try
             {
-                if (!Path.GetFileName(f).StartsWith('.'))
-                {
-                    Load(f, kind);
-                }
+                paths = Directory.EnumerateFiles(dir, "*.yaml").Where(f => !Path.GetFileName(f).StartsWith('.')).Order(StringComparer.Ordinal).ToList();
             }
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+            {
+                files.Add(new RuleFileBytes(sub, kind, default, null, new RuleFileError(RuleFileErrorKind.Io, sub, 0, 0, "", ex.Message)));
+                continue;
+            }
+
+            files.AddRange(paths.Select(f => Read(directory, f, kind)));
         }
 
-        if (errors.Count > 0)
+        return new DirectoryRead(folders, files);
+    }
+
+    private static RuleFileBytes Read(string directory, string path, LayerKind kind)
+    {
+        var name = Path.GetRelativePath(directory, path).Replace('\\', '/');
+        var modified = File.GetLastWriteTimeUtc(path);
+        try
         {
-            throw new RuleFileException(errors);
-        }
+            using var stream = File.OpenRead(path);
+            using var bytes = new MemoryStream();
+            if (stream.Length <= MaxFileBytes)
+            {
+                stream.CopyTo(bytes);
+            }
 
-        return RuleSetSnapshot.Create(layers, loadedAt);
+            // Checked after the copy too: the file may grow while it is read.
+            if (stream.Length > MaxFileBytes || bytes.Length > MaxFileBytes)
+            {
+                return new RuleFileBytes(name, kind, modified, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", $"The file is larger than {MaxFileBytes} bytes; rule files are small hand-edited documents."));
+            }
+
+            return new RuleFileBytes(name, kind, modified, bytes.ToArray(), null);
+        }
+        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+        {
+            return new RuleFileBytes(name, kind, modified, null, new RuleFileError(RuleFileErrorKind.Io, name, 0, 0, "", ex.Message));
+        }
+    }
+
+    // As File.ReadAllText decodes: UTF-8 unless a byte-order mark names another encoding.
+    private static string Decode(byte[] bytes)
+    {
+        using var reader = new StreamReader(new MemoryStream(bytes), System.Text.Encoding.UTF8, detectEncodingFromByteOrderMarks: true);
+        return reader.ReadToEnd();
     }
 
     /// <inheritdoc />
