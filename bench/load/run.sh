@@ -13,7 +13,8 @@ trap 'kill "${pid:-0}" 2>/dev/null || true; rm -rf "$work"' EXIT
 dotnet publish src/DischargeGuard.Api -c Release -o "$work/app" >/dev/null
 # Shipped configuration (Information events to console and file), audit file in the temp folder.
 # LOG_LEVEL=Warning measures the service without per-request log events.
-env DischargeGuard__RulesWatch=false Audit__SqlitePath="$work/audit.db" Serilog__MinimumLevel__Default="${LOG_LEVEL:-Information}" \
+# The per-caller rate limit (20/s by default) is lifted: this measures the service, not the limiter.
+env DischargeGuard__RulesWatch=false Audit__SqlitePath="$work/audit.db" RateLimits__PermitsPerSecond=100000 RateLimits__Burst=100000 Serilog__MinimumLevel__Default="${LOG_LEVEL:-Information}" \
   dotnet "$work/app/DischargeGuard.Api.dll" --urls "http://127.0.0.1:$port" >"$work/service.log" 2>&1 &
 pid=$!
 ready=0

@@ -60,6 +60,7 @@ internal static partial class BatchApi
         IAuditStore audit,
         IOptions<ServiceOptions> options,
         IOptions<Microsoft.AspNetCore.Http.Json.JsonOptions> json,
+        HistoryReader histories,
         ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
@@ -90,7 +91,7 @@ internal static partial class BatchApi
         }
 
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
-        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, telemetry, loggers.CreateLogger(ItemLogCategory));
+        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, histories, telemetry, loggers.CreateLogger(ItemLogCategory));
         var counts = new int[6];
         var timing = new BatchTiming();
         ResultWriter? writer = null;
@@ -378,6 +379,7 @@ internal static partial class BatchApi
         string Caller,
         bool Curve,
         JsonSerializerOptions ProblemOptions,
+        HistoryReader Histories,
         ServiceTelemetry Telemetry,
         ILogger Logger);
 
@@ -432,7 +434,7 @@ internal static partial class BatchApi
             {
                 if (!byAsset.TryGetValue(key, out var history))
                 {
-                    history = await AssetHistory.LoadAsync(c.Audit, request, null, c.Http.RequestAborted).ConfigureAwait(false);
+                    history = await c.Histories.LoadAsync(request, null, c.Http.RequestAborted).ConfigureAwait(false);
                     byAsset[key] = history;
                 }
 

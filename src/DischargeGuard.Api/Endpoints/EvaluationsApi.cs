@@ -65,6 +65,7 @@ public static partial class EvaluationsApi
         EvaluationRunner runner,
         IAuditStore audit,
         IOptions<ServiceOptions> options,
+        HistoryReader histories,
         ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
@@ -73,7 +74,7 @@ public static partial class EvaluationsApi
         AssetHistory? history;
         try
         {
-            history = await AssetHistory.LoadAsync(audit, request, null, http.RequestAborted).ConfigureAwait(false);
+            history = await histories.LoadAsync(request, null, http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {

@@ -35,6 +35,7 @@ internal static partial class ReplayApi
         EvaluationRunner runner,
         IAuditStore audit,
         IOptions<ServiceOptions> options,
+        HistoryReader histories,
         ServiceTelemetry telemetry,
         ILoggerFactory loggers)
     {
@@ -55,7 +56,7 @@ internal static partial class ReplayApi
                 return ProblemOf(refusal, "The stored request is not accepted by the contract of this version; it cannot be replayed.");
             }
 
-            history = await AssetHistory.LoadAsync(audit, request!, original.EvaluatedAt, http.RequestAborted).ConfigureAwait(false);
+            history = await histories.LoadAsync(request!, original.EvaluatedAt, http.RequestAborted).ConfigureAwait(false);
             var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id);
             if (result.Record is not { } record)
             {

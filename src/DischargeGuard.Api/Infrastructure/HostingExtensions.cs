@@ -102,6 +102,7 @@ public static class HostingExtensions
         });
         builder.Services.AddSingleton<EvaluationPipeline>();
         builder.Services.AddSingleton<EvaluationRunner>();
+        builder.Services.AddSingleton<HistoryReader>();
         builder.Services.AddSingleton<IValidator<EvaluationRequest>, EvaluationRequestValidator>();
         builder.Services.AddHostedService<StartupWarmup>();
 

@@ -23,6 +23,49 @@ public static class EvaluationHistory
     public static IReadOnlyList<IReadOnlyList<DeviationSample>> FromStoredResponses(IEnumerable<ReadOnlyMemory<byte>> responsesNewestFirst, int stageCount)
     {
         ArgumentNullException.ThrowIfNull(responsesNewestFirst);
+        return Merge(responsesNewestFirst.Select(SamplesOf), stageCount);
+    }
+
+    /// <summary>
+    /// The samples one stored response carries, by stage index: what <see cref="Merge"/> needs of it. A stored record
+    /// never changes, so a caller may keep this per record id instead of reading the document again.
+    /// </summary>
+    /// <param name="response">A stored response document.</param>
+    /// <returns>Its stages' samples (none when it cannot be read or has no measurement).</returns>
+    public static IReadOnlyList<StageSample> SamplesOf(ReadOnlyMemory<byte> response)
+    {
+        var samples = new List<StageSample>(1);
+        try
+        {
+            using var doc = JsonDocument.Parse(response);
+            if (!doc.RootElement.TryGetProperty("stages", out var stages) || stages.ValueKind != JsonValueKind.Array)
+            {
+                return samples;
+            }
+
+            foreach (var stage in stages.EnumerateArray())
+            {
+                if (stage.TryGetProperty("index", out var ix) && ix.TryGetInt32(out var index) && index >= 0 && Sample(stage) is { } sample)
+                {
+                    samples.Add(new StageSample(index, sample));
+                }
+            }
+        }
+        catch (JsonException)
+        {
+            // Not a response document this engine wrote; it carries no history.
+        }
+
+        return samples;
+    }
+
+    /// <summary>Per stage index (up to <paramref name="stageCount"/>), the samples of each response, oldest first.</summary>
+    /// <param name="samplesNewestFirst">Each stored response's samples (<see cref="SamplesOf"/>), newest response first.</param>
+    /// <param name="stageCount">Stages of the evaluation being made.</param>
+    /// <returns>One list per stage.</returns>
+    public static IReadOnlyList<IReadOnlyList<DeviationSample>> Merge(IEnumerable<IReadOnlyList<StageSample>> samplesNewestFirst, int stageCount)
+    {
+        ArgumentNullException.ThrowIfNull(samplesNewestFirst);
         ArgumentOutOfRangeException.ThrowIfNegative(stageCount);
         var perStage = new List<DeviationSample>[stageCount];
         for (var i = 0; i < stageCount; i++)
@@ -30,28 +73,14 @@ public static class EvaluationHistory
             perStage[i] = [];
         }
 
-        foreach (var response in responsesNewestFirst)
+        foreach (var response in samplesNewestFirst)
         {
-            try
+            foreach (var (index, sample) in response)
             {
-                using var doc = JsonDocument.Parse(response);
-                if (!doc.RootElement.TryGetProperty("stages", out var stages) || stages.ValueKind != JsonValueKind.Array)
+                if (index < stageCount)
                 {
-                    continue;
+                    perStage[index].Add(sample);
                 }
-
-                foreach (var stage in stages.EnumerateArray())
-                {
-                    if (stage.TryGetProperty("index", out var ix) && ix.TryGetInt32(out var index) && index >= 0 && index < stageCount
-                        && Sample(stage) is { } sample)
-                    {
-                        perStage[index].Add(sample);
-                    }
-                }
-            }
-            catch (JsonException)
-            {
-                // Not a response document this engine wrote; it carries no history.
             }
         }
 
@@ -99,3 +128,8 @@ public static class EvaluationHistory
             ? (value, u.GetString())
             : (double.NaN, null);
 }
+
+/// <summary>One stage's deviation sample in a stored response.</summary>
+/// <param name="Stage">The stage's index in that response.</param>
+/// <param name="Sample">Its measured-minus-estimated deviation and pressures.</param>
+public readonly record struct StageSample(int Stage, DeviationSample Sample);
