@@ -25,37 +25,6 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
     private const string Asset = "K-101A";
     private const string SiteRule = "R-KR-RATIO";
 
-    // Site layer of the invented site kestrel-ridge (Harrow Basin Gas Co.): a rule of its own, which the passing air
-    // stage (ratio 2.3) always triggers as a warning, so its presence is visible in every answer.
-    private const string SiteLayer = """
-        schemaVersion: 1
-        layer:
-          kind: site
-          id: kestrel-ridge
-          title: Kestrel Ridge compressor station (Harrow Basin Gas Co.)
-        rules:
-          - id: R-KR-RATIO
-            title: Kestrel Ridge booster stage ratio
-            quantity: pressureRatio
-            limit: 2.0
-            severity: warning
-            basis: "invented site practice for the tests"
-            message: "The stage ratio is above the site's booster practice; review the staging."
-        """;
-
-    // Asset layer of its air booster K-101A: the shipped 150 °C limit tightened to 140 °C.
-    private const string AssetLayer = """
-        schemaVersion: 1
-        layer:
-          kind: asset
-          id: K-101A
-          site: kestrel-ridge
-          title: K-101A air booster
-        overrides:
-          - rule: R-API618-GEN
-            limit: 140 °C
-        """;
-
     // The site layer with a misspelt key on line 6 ("titel"), cut into the pieces it is written in: mid-line, and
     // mid-word in the rule, so a reload can find it empty, half written or whole, and every one of those is broken.
     private static readonly string[] BrokenSitePieces =
@@ -306,8 +275,8 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
     {
         if (extended)
         {
-            File.WriteAllText(sitePath, SiteLayer);
-            File.WriteAllText(assetPath, AssetLayer);
+            File.WriteAllText(sitePath, KestrelRidgeLayers.Site);
+            File.WriteAllText(assetPath, KestrelRidgeLayers.Asset);
         }
         else
         {

@@ -125,35 +125,6 @@ public sealed class ProviderTests : IDisposable
         Assert.NotEqual(before, provider.Current.Digest);
     }
 
-    // Site and asset layers of the invented site kestrel-ridge (Harrow Basin Gas Co.) and its air booster K-101A.
-    private const string KestrelRidgeSite = """
-        schemaVersion: 1
-        layer:
-          kind: site
-          id: kestrel-ridge
-          title: Kestrel Ridge compressor station (Harrow Basin Gas Co.)
-        rules:
-          - id: R-KR-RATIO
-            title: Kestrel Ridge booster stage ratio
-            quantity: pressureRatio
-            limit: 2.0
-            severity: warning
-            basis: "invented site practice for the tests"
-            message: "The stage ratio is above the site's booster practice; review the staging."
-        """;
-
-    private const string BoosterAsset = """
-        schemaVersion: 1
-        layer:
-          kind: asset
-          id: K-101A
-          site: kestrel-ridge
-          title: K-101A air booster
-        overrides:
-          - rule: R-API618-GEN
-            limit: 140 °C
-        """;
-
     [Fact]
     public async Task Reload_WhenMountSwapsBetweenTwoSetsWhileReloading_ActivatesOnlyOneSetOrTheOtherNeverAMix()
     {
@@ -172,8 +143,8 @@ public sealed class ProviderTests : IDisposable
 
         File.WriteAllText(Path.Combine(v1, "default.yaml"), text);
         File.WriteAllText(Path.Combine(v2, "default.yaml"), text.Replace("limit: 150 °C", "limit: 149 °C", StringComparison.Ordinal));
-        File.WriteAllText(Path.Combine(v2, "sites", "kestrel-ridge.yaml"), KestrelRidgeSite);
-        File.WriteAllText(Path.Combine(v2, "assets", "K-101A.yaml"), BoosterAsset);
+        File.WriteAllText(Path.Combine(v2, "sites", "kestrel-ridge.yaml"), KestrelRidgeLayers.Site);
+        File.WriteAllText(Path.Combine(v2, "assets", "K-101A.yaml"), KestrelRidgeLayers.Asset);
         string DigestOf(string directory) => FileRuleSetProvider.LoadDirectory(directory, DateTimeOffset.UnixEpoch).Resolve("kestrel-ridge", "K-101A").Digest;
         var whole = new[] { DigestOf(v1), DigestOf(v2) };
         Assert.NotEqual(whole[0], whole[1]);
