@@ -92,7 +92,7 @@ public static partial class EvaluationsApi
             span?.SetTag("dischargeguard.evaluation.id", result.Record?.Id.ToString());
             span?.SetTag("dischargeguard.verdict", result.Response?.Verdict);
             span?.SetTag("dischargeguard.rules.digest", result.Response?.RuleSet.Digest);
-            span?.SetTag("http.response.status_code", result.Status);
+            span?.SetTag("dischargeguard.status", result.Status);
         }
 
         if (result.Record is not { } record)
