@@ -53,9 +53,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
         var answers = new ConcurrentQueue<Answer>();
         var unexpected = new ConcurrentQueue<string>();
         using var stop = new CancellationTokenSource();
-        var clients = Enumerable.Range(0, 3).Select(_ => Task.Run(() => SinglesAsync(client, clock, answers, unexpected, stop.Token)))
-            .Append(Task.Run(() => BatchesAsync(client, clock, answers, unexpected, stop.Token)))
-            .ToArray();
+        var clients = StartClients(client, clock, answers, unexpected, stop.Token);
 
         // The plan: alternate the two sets, with a broken file written over whichever is in force now and then.
         var periods = new List<Period>();
@@ -137,10 +135,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
         var shipped = FileRuleSetProvider.LoadDirectory(v1, DateTimeOffset.UnixEpoch).Resolve(Site, Asset).Digest;
         var extended = FileRuleSetProvider.LoadDirectory(v2, DateTimeOffset.UnixEpoch).Resolve(Site, Asset).Digest;
         Assert.NotEqual(shipped, extended);
-        Directory.CreateSymbolicLink(Path.Combine(mount, "..data"), "..v1");
-        File.CreateSymbolicLink(Path.Combine(mount, "default.yaml"), Path.Combine("..data", "default.yaml"));
-        Directory.CreateSymbolicLink(Path.Combine(mount, "sites"), Path.Combine("..data", "sites"));
-        Directory.CreateSymbolicLink(Path.Combine(mount, "assets"), Path.Combine("..data", "assets"));
+        MountedRules.Link(mount, "..v1", layers: true);
 
         using var client = factory.CreateClient();
         var (_, initial) = await factory.GetJsonAsync($"/v1/rules?site={Site}&asset={Asset}");
@@ -150,23 +145,8 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
         var answers = new ConcurrentQueue<Answer>();
         var unexpected = new ConcurrentQueue<string>();
         using var stop = new CancellationTokenSource();
-        var clients = Enumerable.Range(0, 3).Select(_ => Task.Run(() => SinglesAsync(client, clock, answers, unexpected, stop.Token)))
-            .Append(Task.Run(() => BatchesAsync(client, clock, answers, unexpected, stop.Token)))
-            .ToArray();
-        var swaps = 0;
-        var swapper = Task.Factory.StartNew(
-            () =>
-            {
-                var tmp = Path.Combine(mount, "..data_tmp");
-                while (!stop.IsCancellationRequested)
-                {
-                    Directory.CreateSymbolicLink(tmp, Volatile.Read(ref swaps) % 2 == 0 ? "..v2" : "..v1");
-                    Assert.Equal(0, Posix.Rename(tmp, Path.Combine(mount, "..data")));
-                    Interlocked.Increment(ref swaps);
-                    Thread.Sleep(10);
-                }
-            },
-            TaskCreationOptions.LongRunning);
+        var clients = StartClients(client, clock, answers, unexpected, stop.Token);
+        var swapper = MountedRules.StartSwapping(mount, "..v1", "..v2", TimeSpan.FromMilliseconds(10), stop.Token);
 
         var reloaded = 0;
         var refused = 0;
@@ -201,7 +181,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
         Assert.Contains(answers, a => a.Digest == extended);
         var records = await AssertEveryRecordIsItsAnswerAsync(factory, answers);
         output.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{swaps} mount swaps, {reloaded} reloads ({refused} refused) in {clock.Elapsed.TotalSeconds:0.0} s; {answers.Count} evaluations answered 200 "
+            $"{swapper.Swaps} mount swaps, {reloaded} reloads ({refused} refused) in {clock.Elapsed.TotalSeconds:0.0} s; {answers.Count} evaluations answered 200 "
             + $"({answers.Count(a => a.Digest == shipped)} on v1, {answers.Count(a => a.Digest == extended)} on v2), {records} records"));
     }
 
@@ -295,6 +275,12 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
             await Task.Delay(150);
         }
     }
+
+    // Three clients posting single evaluations one at a time and one posting batches of ten, until stopped.
+    private static Task[] StartClients(HttpClient client, Stopwatch clock, ConcurrentQueue<Answer> answers, ConcurrentQueue<string> unexpected, CancellationToken stop) =>
+        Enumerable.Range(0, 3).Select(_ => Task.Run(() => SinglesAsync(client, clock, answers, unexpected, stop), CancellationToken.None))
+            .Append(Task.Run(() => BatchesAsync(client, clock, answers, unexpected, stop), CancellationToken.None))
+            .ToArray();
 
     private static async Task SinglesAsync(HttpClient client, Stopwatch clock, ConcurrentQueue<Answer> answers, ConcurrentQueue<string> unexpected, CancellationToken stop)
     {
@@ -431,12 +417,3 @@ internal sealed class UnlimitedServiceFactory(bool watchRules) : ServiceFactory(
     ["RateLimits:PermitsPerSecond"] = "100000",
     ["RateLimits:Burst"] = "100000",
 });
-
-/// <summary>rename(2): replaces a symlink atomically, as a mounted volume's update does.</summary>
-internal static class Posix
-{
-    [System.Runtime.InteropServices.DllImport("libc", EntryPoint = "rename", SetLastError = true)]
-#pragma warning disable SYSLIB1054, CA2101 // a test-only libc call; the marshalling default is fine for ASCII paths
-    public static extern int Rename([System.Runtime.InteropServices.MarshalAs(System.Runtime.InteropServices.UnmanagedType.LPUTF8Str)] string from, [System.Runtime.InteropServices.MarshalAs(System.Runtime.InteropServices.UnmanagedType.LPUTF8Str)] string to);
-#pragma warning restore SYSLIB1054, CA2101
-}

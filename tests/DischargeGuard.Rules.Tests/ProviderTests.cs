@@ -90,11 +90,6 @@ public sealed class ProviderTests : IDisposable
         Assert.Contains("sites/other.yaml", ex.Message, StringComparison.Ordinal);
     }
 
-    [System.Runtime.InteropServices.DllImport("libc", EntryPoint = "rename", SetLastError = true)]
-#pragma warning disable SYSLIB1054, CA2101 // a test-only libc call; the marshalling default is fine for ASCII paths
-    private static extern int NativeRename([System.Runtime.InteropServices.MarshalAs(System.Runtime.InteropServices.UnmanagedType.LPUTF8Str)] string from, [System.Runtime.InteropServices.MarshalAs(System.Runtime.InteropServices.UnmanagedType.LPUTF8Str)] string to);
-#pragma warning restore SYSLIB1054, CA2101
-
     [Fact]
     public async Task Watcher_WhenMountSwapsSymlink_ReloadsNewContent()
     {
@@ -107,17 +102,14 @@ public sealed class ProviderTests : IDisposable
         var text = File.ReadAllText(Path.Combine(_dir, "default.yaml"));
         File.WriteAllText(Path.Combine(v1, "default.yaml"), text);
         File.WriteAllText(Path.Combine(v2, "default.yaml"), text.Replace("limit: 150 °C", "limit: 149 °C", StringComparison.Ordinal));
-        Directory.CreateSymbolicLink(Path.Combine(mount, "..data"), "..v1");
-        File.CreateSymbolicLink(Path.Combine(mount, "default.yaml"), Path.Combine("..data", "default.yaml"));
+        MountedRules.Link(mount, "..v1", layers: false);
 
         using var provider = FileRuleSetProvider.Open(mount, watch: true, debounce: TimeSpan.FromMilliseconds(100));
         var before = provider.Current.Digest;
         var reloaded = new TaskCompletionSource<ReloadResult>(TaskCreationOptions.RunContinuationsAsynchronously);
         provider.Reloaded += (_, r) => reloaded.TrySetResult(r);
 
-        var tmp = Path.Combine(mount, "..data_tmp");
-        Directory.CreateSymbolicLink(tmp, "..v2");
-        Assert.Equal(0, NativeRename(tmp, Path.Combine(mount, "..data"))); // rename(2) replaces the link atomically, as the mount does.
+        MountedRules.Swap(mount, "..v2");
 
         var done = await Task.WhenAny(reloaded.Task, Task.Delay(TimeSpan.FromSeconds(30)));
         Assert.Same(reloaded.Task, done);
@@ -149,28 +141,12 @@ public sealed class ProviderTests : IDisposable
         var whole = new[] { DigestOf(v1), DigestOf(v2) };
         Assert.NotEqual(whole[0], whole[1]);
 
-        Directory.CreateSymbolicLink(Path.Combine(mount, "..data"), "..v1");
-        File.CreateSymbolicLink(Path.Combine(mount, "default.yaml"), Path.Combine("..data", "default.yaml"));
-        Directory.CreateSymbolicLink(Path.Combine(mount, "sites"), Path.Combine("..data", "sites"));
-        Directory.CreateSymbolicLink(Path.Combine(mount, "assets"), Path.Combine("..data", "assets"));
+        MountedRules.Link(mount, "..v1", layers: true);
         using var provider = FileRuleSetProvider.Open(mount, watch: false);
         Assert.Equal(whole[0], provider.Current.Resolve("kestrel-ridge", "K-101A").Digest);
 
         using var stop = new CancellationTokenSource();
-        var swaps = 0;
-        var swapper = Task.Factory.StartNew(
-            () =>
-            {
-                var tmp = Path.Combine(mount, "..data_tmp");
-                while (!stop.IsCancellationRequested)
-                {
-                    Directory.CreateSymbolicLink(tmp, Volatile.Read(ref swaps) % 2 == 0 ? "..v2" : "..v1");
-                    Assert.Equal(0, NativeRename(tmp, Path.Combine(mount, "..data")));
-                    Interlocked.Increment(ref swaps);
-                    Thread.Sleep(10);
-                }
-            },
-            TaskCreationOptions.LongRunning);
+        var swapper = MountedRules.StartSwapping(mount, "..v1", "..v2", TimeSpan.FromMilliseconds(10), stop.Token);
 
         var activated = new List<string>();
         var refused = 0;
@@ -196,7 +172,7 @@ public sealed class ProviderTests : IDisposable
         }
 
         var mixed = activated.Count(d => !whole.Contains(d));
-        Assert.True(mixed == 0, $"{mixed} of {activated.Count} reloads activated a set that was never on disk ({refused} refused, {swaps} swaps)");
+        Assert.True(mixed == 0, $"{mixed} of {activated.Count} reloads activated a set that was never on disk ({refused} refused, {swapper.Swaps} swaps)");
         Assert.Contains(whole[0], activated);
         Assert.Contains(whole[1], activated);
     }
