@@ -24,6 +24,28 @@ public class MalformedYamlTests
         Assert.Contains("default.yaml", ex.Message, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void Parse_WhenAMappingKeyIsEmptyAndTheKeyRepeats_IsASyntaxErrorNotACrash()
+    {
+        // Found by the API's generated rule-file test (61 bytes of default.yaml repeated inside R-VALVE-MAT): the YAML
+        // reader stopped with an ArgumentException ("the current event is of an unsupported type"), which answered 500.
+        const string yaml = """
+            schemaVersion: 1
+            rules:
+              - id: R-VALVE-MAT
+                appliesTo:
+                  : Valve plate material continuous limit
+                appliesTo:
+                  compressorTypes: [recip-lubricated]
+            """;
+
+        var ex = Assert.Throws<RuleFileException>(() => RuleFileParser.Parse("default.yaml", yaml));
+
+        var error = Assert.Single(ex.Errors);
+        Assert.Equal(RuleFileErrorKind.Syntax, error.Kind);
+        Assert.True(error.Line >= 1);
+    }
+
     [Theory]
     [InlineData("rules: [a, {b: [c, d}")]
     [InlineData("a: [\"x\n")]

@@ -65,10 +65,11 @@ public static class RuleFileParser
             ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, ex.Start.Line, ex.Start.Column, "", msg));
             return null;
         }
-        catch (InvalidOperationException)
+        catch (Exception ex) when (ex is InvalidOperationException or ArgumentException)
         {
-            // The YAML reader gives up on some malformed input without a YamlException; the error is placed after the
-            // last part it read.
+            // The YAML reader gives up on some malformed input without a YamlException (an InvalidOperationException in
+            // broken flow collections, an ArgumentException for an event it did not expect after an empty key); the
+            // error is placed after the last part it read.
             var at = parser.Current?.End;
             ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, at?.Line ?? 1, at?.Column ?? 1, "",
                 "The YAML is malformed after this point (an unclosed bracket, quote or flow collection?); it could not be read further."));
