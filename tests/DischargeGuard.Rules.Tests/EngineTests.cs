@@ -145,6 +145,7 @@ public class EngineTests
     {
         GasMolarMass = MolarMass.FromGramsPerMole(28.96),
         OxygenMoleFraction = Ratio.FromDecimalFractions(0.209),
+        DischargeOxygenPartialPressure = Pressure.FromKilopascals(0.209 * 3000),
         LubricantId = "mineral-vdl",
         ValveMaterialId = "peek",
         SealMaterialId = "fkm",

@@ -56,6 +56,8 @@ internal static class Facts
         Isentropic = C(100),
         Estimated = C(110),
         EstimatedUpperBound = C(115),
+        SuctionPhase = StagePhase.Gas,
+        DischargePhase = StagePhase.Gas,
     };
 
     public static Finding Find(this StageResult result, string ruleId) =>

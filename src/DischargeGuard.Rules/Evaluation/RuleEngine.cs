@@ -60,7 +60,7 @@ public static class RuleEngine
 
         foreach (var rule in rules.Rules)
         {
-            var missing = Applies(rules, rule.AppliesTo, stage, classes, lubricant, out var applies);
+            var missing = Applies(rules, rule.AppliesTo, stage, classes, type, lubricant, out var applies);
             if (!applies)
             {
                 continue;
@@ -264,10 +264,107 @@ public static class RuleEngine
     }
 
     /// <summary>Returns the missing input that prevents checking, or null; <paramref name="applies"/> false when the rule does not apply.</summary>
-    private static string? Applies(EffectiveRuleSet rules, AppliesTo a, StageFacts s, IReadOnlyList<string> classes, Lubricant? lubricant, out bool applies)
+    private static string? Applies(EffectiveRuleSet rules, AppliesTo a, StageFacts s, IReadOnlyList<string> classes, CompressorType? type, Lubricant? lubricant, out bool applies)
     {
         applies = false;
         string? missing = null;
+        if (a.DecidedBy.Count > 0 && !Contains(a.DecidedBy, s.DecidedBy))
+        {
+            return null;
+        }
+
+        if (a.SuctionPhases.Count > 0)
+        {
+            if (s.SuctionPhase is not { } sp)
+            {
+                missing ??= "suctionPhase";
+            }
+            else if (!a.SuctionPhases.Contains(sp))
+            {
+                return null;
+            }
+        }
+
+        if (a.DischargePhases.Count > 0)
+        {
+            if (s.DischargePhase is not { } dp)
+            {
+                missing ??= "dischargePhase";
+            }
+            else if (!a.DischargePhases.Contains(dp))
+            {
+                return null;
+            }
+        }
+
+        if (a.OxygenPartialPressureAbovePascals is { } pO2Threshold)
+        {
+            if (s.DischargeOxygenPartialPressure is not { } pO2)
+            {
+                missing ??= "gas.composition";
+            }
+            else if (!(pO2.Pascals > pO2Threshold))
+            {
+                return null;
+            }
+        }
+
+        if (a.Lubricated is { } lubricated)
+        {
+            if (type is null)
+            {
+                missing ??= "compressorType";
+            }
+            else if (type.Lubricated != lubricated)
+            {
+                return null;
+            }
+        }
+
+        if (a.Cooled is { } cooled)
+        {
+            var isCooled = s.Cooled ?? (s.JacketCoolantInlet is not null || type?.PredictionIsUpperBound == true ? true : type is null ? null : false);
+            if (isCooled is null)
+            {
+                missing ??= "compressorType";
+            }
+            else if (isCooled != cooled)
+            {
+                return null;
+            }
+        }
+
+        if (a.ValveMaterialOxygenCompatible is { } valveO2)
+        {
+            if (s.ValveMaterialId is null)
+            {
+                missing ??= "valveMaterial";
+            }
+            else if (rules.Materials[s.ValveMaterialId].OxygenCompatible is not { } compatible)
+            {
+                missing ??= $"materials[{s.ValveMaterialId}].oxygenCompatible";
+            }
+            else if (compatible != valveO2)
+            {
+                return null;
+            }
+        }
+
+        if (a.SealMaterialOxygenCompatible is { } sealO2)
+        {
+            if (s.SealMaterialId is null)
+            {
+                missing ??= "sealMaterial";
+            }
+            else if (rules.Materials[s.SealMaterialId].OxygenCompatible is not { } compatible)
+            {
+                missing ??= $"materials[{s.SealMaterialId}].oxygenCompatible";
+            }
+            else if (compatible != sealO2)
+            {
+                return null;
+            }
+        }
         if (a.CompressorTypes.Count > 0 || a.NotCompressorTypes.Count > 0)
         {
             if (s.CompressorTypeId is null)
@@ -302,6 +399,12 @@ public static class RuleEngine
 
         if (a.BaseStocks.Count > 0)
         {
+            if (lubricant is null && type is { Lubricated: false })
+            {
+                // A non-lubricated machine carries no lubricant in its gas path: a rule on the oil does not apply.
+                return null;
+            }
+
             if (lubricant is null)
             {
                 missing ??= "lubricant";
@@ -352,6 +455,19 @@ public static class RuleEngine
         return missing;
     }
 
+    private static bool Contains(IReadOnlyList<CheckedQuantity> list, CheckedQuantity value)
+    {
+        for (var i = 0; i < list.Count; i++)
+        {
+            if (list[i] == value)
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
     private static bool Contains(IReadOnlyList<string> list, string value)
     {
         for (var i = 0; i < list.Count; i++)
@@ -389,6 +505,9 @@ public static class RuleEngine
         CheckedQuantity.MeasuredMinusPredicted => (s.MeasuredDischarge is { } m ? m.Kelvins - s.Estimated.Kelvins : null, "measuredDischargeTemperature"),
         CheckedQuantity.PressureRatio => (s.PressureRatio, null),
         CheckedQuantity.RealGasCorrection => (s.RealGasCorrection?.Kelvins, "realGasResult"),
+        CheckedQuantity.MeasuredMinusIsentropic => (s.MeasuredDischarge is { } mi ? mi.Kelvins - s.Isentropic.Kelvins : null, "measuredDischargeTemperature"),
+        CheckedQuantity.SuctionSuperheat => (s.SuctionSuperheat?.Kelvins, "suctionSuperheat"),
+        CheckedQuantity.Combination => (null, null),
         CheckedQuantity.TemperatureRise => (s.TemperatureRise.Kelvins, null),
         CheckedQuantity.JacketCoolantInlet => (s.JacketCoolantInlet?.Kelvins, "jacketCoolantInletTemperature"),
         CheckedQuantity.NormalOperating => (s.NormalOperatingDischarge?.Kelvins, "normalOperatingDischargeTemperature"),
@@ -480,6 +599,44 @@ public static class RuleEngine
 
     private static Finding? Check(EffectiveRuleSet rules, RuleDefinition rule, StageFacts s, Lubricant? lubricant, ref List<NotChecked>? notChecked)
     {
+        if (rule.Prohibited)
+        {
+            // A prohibited combination or condition: no number to compare, nothing a layer can sign off.
+            return new Finding
+            {
+                RuleId = rule.Id,
+                Title = rule.Title,
+                Severity = Severity.Violation,
+                RuleSeverity = Severity.Violation,
+                Quantity = CheckedQuantity.Combination,
+                Basis = rule.Basis,
+                Layer = rule.LimitLayer,
+                Message = rule.Message,
+            };
+        }
+
+        if (rule.Quantities.Count == 1 && rule.Quantities[0] == CheckedQuantity.Combination)
+        {
+            // An info note on a condition (its appliesTo already holds).
+            return new Finding
+            {
+                RuleId = rule.Id,
+                Title = rule.Title,
+                Severity = Severity.Info,
+                RuleSeverity = rule.Severity,
+                Quantity = CheckedQuantity.Combination,
+                Basis = rule.Basis,
+                Layer = rule.LimitLayer,
+                Message = rule.Message,
+            };
+        }
+
+        if (s.SuctionSuperheat is null && s.SuctionPhase is not null && Contains(rule.Quantities, CheckedQuantity.SuctionSuperheat))
+        {
+            // No hydrocarbon dew point at the suction pressure (nothing condensable, or above the cricondenbar): no margin to keep.
+            return null;
+        }
+
         var dim = rule.Quantities[0].Dimension();
         var marginDim = dim == QuantityDimension.Ratio ? QuantityDimension.Ratio : QuantityDimension.TemperatureDifference;
 
@@ -603,24 +760,30 @@ public static class RuleEngine
             Layer = limitLayer,
             LoosenedReason = rule.LoosenedReason,
             SignOff = rule.SignOff,
-            Message = rule.Message,
+            Message = OutcomeWording.For(rule, bestMargin < 0 ? Outcome.Beyond : severity == Severity.Pass ? Outcome.Inside : Outcome.Near, marginReading, rule.WarningBand),
         };
     }
 
     private static Finding ProposeSetPoints(RuleDefinition rule, Temperature normal, List<Finding> findings)
     {
+        var spec = rule.SetPoints!;
         var nK = normal.Kelvins;
         var nC = nK - CelsiusOffset;
+        var minStep = spec.MinimumStepKelvin;
 
         // Percent steps are taken on the Celsius reading: smaller than on the Fahrenheit reading above -40 °C, so more cautious.
-        static double Step(SetPointStep s, double celsius) => Math.Max(0, Math.Min(s.Fraction * celsius, s.AtMostKelvin));
-        var alarm = nK + Step(rule.SetPoints!.Alarm, nC);
-        var trip = nK + Step(rule.SetPoints.Trip, nC);
+        // Every step is at least the minimum: an alarm sits above normal, a trip above the alarm.
+        static double Step(SetPointStep s, double celsius, double least) => Math.Max(least, Math.Min(s.Fraction * celsius, s.AtMostKelvin));
+        var alarm = nK + Step(spec.Alarm, nC, minStep);
+        var trip = Math.Max(nK + Step(spec.Trip, nC, minStep), alarm + minStep);
 
+        // Only limits on what the instrument reads (the measured or estimated discharge temperature) cap a set point; a
+        // design-prediction limit (isentropic, η = 1) is a rating criterion for the machine, not an operating ceiling.
         Finding? cap = null;
         foreach (var f in findings)
         {
-            if (f.RuleSeverity == Severity.Violation && f.Limit is { Dimension: QuantityDimension.Temperature } l && f.Quantity.IsDischargeTemperature()
+            if (f.RuleSeverity == Severity.Violation && f.Limit is { Dimension: QuantityDimension.Temperature } l
+                && f.Quantity is CheckedQuantity.Measured or CheckedQuantity.Estimated
                 && f.Direction == LimitDirection.Upper && (cap is null || l.SiValue < cap.Limit!.Value.SiValue))
             {
                 cap = f;
@@ -635,20 +798,21 @@ public static class RuleEngine
             var capK = cap.Limit!.Value.SiValue;
             if (trip > capK)
             {
-                trip = capK;
-                capped = true;
-            }
-
-            if (alarm > trip)
-            {
-                alarm = trip;
-                capped = true;
-            }
-
-            if (nK >= capK)
-            {
-                severity = Severity.Warning;
-                note = string.Create(CultureInfo.InvariantCulture, $"normal operating {new Reading(QuantityDimension.Temperature, nK)} is at or above the fail limit of {cap.RuleId}, so no set point can sit between them");
+                var cappedTrip = capK;
+                var cappedAlarm = Math.Min(alarm, cappedTrip - minStep);
+                if (cappedAlarm >= nK + minStep && cappedTrip > cappedAlarm)
+                {
+                    trip = cappedTrip;
+                    alarm = cappedAlarm;
+                    capped = true;
+                }
+                else
+                {
+                    // The limit leaves no room for an alarm and a trip above normal: say so rather than collapse them.
+                    severity = Severity.Warning;
+                    note = string.Create(CultureInfo.InvariantCulture,
+                        $"the fail limit {new Reading(QuantityDimension.Temperature, capK)} of {cap.RuleId} leaves no room above normal operating {new Reading(QuantityDimension.Temperature, nK)} for an alarm and a trip {minStep:0.#} K apart; the proposal shown ignores the limit, and its trip is above it: lower the normal operating temperature or review the limit");
+                }
             }
         }
 
@@ -664,7 +828,9 @@ public static class RuleEngine
             Basis = rule.Basis,
             Layer = rule.LimitLayer,
             LoosenedReason = rule.LoosenedReason,
-            Message = rule.Message,
+            Message = severity == Severity.Warning
+                ? "The limits in force leave no room for alarm and trip set points above the normal operating discharge temperature. Lower the normal operating temperature (cooling, ratio) or have the limits reviewed with the manufacturer, the site's safety review and local codes."
+                : rule.Message,
             Note = note,
             SetPoints = proposal,
         };

@@ -8,11 +8,11 @@ public static class ServiceClassDetector
 {
     /// <summary>
     /// The ids of the detected service classes: hydrogen-rich when the molar mass is at or below its threshold,
-    /// oxygen-rich when the O2 mole fraction is above its threshold.
+    /// an oxygen class when the dry-basis O2 mole fraction is above its threshold (and below its upper bound, if any).
     /// </summary>
     /// <param name="rules">The rule set holding the thresholds.</param>
     /// <param name="molarMass">Gas molar mass, or null when unknown.</param>
-    /// <param name="oxygenFraction">O2 mole fraction, or null when unknown.</param>
+    /// <param name="oxygenFraction">O2 mole fraction on the dry basis, or null when unknown.</param>
     /// <returns>Detected ids, in catalogue order.</returns>
     public static IReadOnlyList<string> Detect(EffectiveRuleSet rules, MolarMass? molarMass, Ratio? oxygenFraction)
     {
@@ -33,7 +33,8 @@ public static class ServiceClassDetector
             var hit = s.Detection switch
             {
                 ServiceDetection.MolarMassAtMost => molarMass is { } m && s.MolarMassThreshold is { } t && m.GramsPerMole <= t.GramsPerMole,
-                ServiceDetection.OxygenFractionAbove => oxygenFraction is { } f && s.OxygenFractionThreshold is { } t2 && f.DecimalFractions > t2.DecimalFractions,
+                ServiceDetection.OxygenFractionAbove => oxygenFraction is { } f && s.OxygenFractionThreshold is { } t2 && f.DecimalFractions > t2.DecimalFractions
+                    && (s.OxygenFractionBelow is not { } below || f.DecimalFractions < below.DecimalFractions),
                 _ => false,
             };
             if (hit)

@@ -26,8 +26,29 @@ public sealed record StageFacts
     public IReadOnlyList<string> DeclaredServiceClasses { get; init; } = [];
     /// <summary>Gas molar mass, for hydrogen-rich detection.</summary>
     public MolarMass? GasMolarMass { get; init; }
-    /// <summary>O2 mole fraction, for oxygen-rich detection.</summary>
+    /// <summary>
+    /// O2 mole fraction on the dry basis (water excluded), for the oxygen service classes: one basis for air,
+    /// oxygen-rich and oxygen-depleted, whatever the humidity.
+    /// </summary>
     public Ratio? OxygenMoleFraction { get; init; }
+    /// <summary>O2 partial pressure at discharge (wet gas, absolute), for rules that need an oxidant; null when unknown.</summary>
+    public Pressure? DischargeOxygenPartialPressure { get; init; }
+    /// <summary>Which model's discharge temperatures the stage's checks rest on: "ideal-gas" or "real-gas".</summary>
+    public string DecidedBy { get; init; } = "ideal-gas";
+    /// <summary>
+    /// Whether heat is removed during compression: a jacket coolant temperature stated, or a compressor type whose
+    /// injected oil or liquid cools the gas (null: decide from the jacket coolant and the type).
+    /// </summary>
+    public bool? Cooled { get; init; }
+    /// <summary>Phase at suction (after any intercooler); null when the phase check was not run.</summary>
+    public StagePhase? SuctionPhase { get; init; }
+    /// <summary>Phase at discharge; null when the phase check was not run.</summary>
+    public StagePhase? DischargePhase { get; init; }
+    /// <summary>
+    /// Suction temperature minus the hydrocarbon dew point at suction pressure; null when there is no dew point at that
+    /// pressure (no condensable component, or above the cricondenbar) or the check was not run.
+    /// </summary>
+    public TemperatureDelta? SuctionSuperheat { get; init; }
     /// <summary>Suction temperature.</summary>
     public required Temperature SuctionTemperature { get; init; }
     /// <summary>Suction pressure, absolute.</summary>

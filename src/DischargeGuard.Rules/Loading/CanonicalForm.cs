@@ -128,6 +128,11 @@ public static class CanonicalForm
             w.WriteString("detection", s.Detection.ToString());
             WriteNum(w, "molarMassGPerMol", s.MolarMassThreshold?.GramsPerMole);
             WriteNum(w, "oxygenFraction", s.OxygenFractionThreshold?.DecimalFractions);
+            if (s.OxygenFractionBelow is { } below)
+            {
+                WriteNum(w, "oxygenFractionBelow", below.DecimalFractions);
+            }
+
             w.WriteString("basis", s.Basis);
             w.WriteEndObject();
         }
@@ -157,6 +162,11 @@ public static class CanonicalForm
             w.WriteString("title", m.Title);
             w.WriteString("use", m.Use.ToString());
             WriteNum(w, "continuousLimitK", m.ContinuousLimit?.Kelvins);
+            if (m.OxygenCompatible is { } o2)
+            {
+                w.WriteBoolean("oxygenCompatible", o2);
+            }
+
             w.WriteString("basis", m.Basis);
             w.WriteEndObject();
         }
@@ -178,6 +188,14 @@ public static class CanonicalForm
         }
 
         w.WriteEndArray();
+    }
+
+    private static void WriteFlag(Utf8JsonWriter w, string name, bool? value)
+    {
+        if (value is { } v)
+        {
+            w.WriteBoolean(name, v);
+        }
     }
 
     private static void WriteList(Utf8JsonWriter w, string name, IEnumerable<string> items)
@@ -211,6 +229,31 @@ public static class CanonicalForm
             w.WriteBoolean("unloadedRunning", u);
         }
 
+        // Criteria added later are written only when set, so layers that do not use them keep their digests.
+        WriteFlag(w, "lubricated", a.Lubricated);
+        WriteFlag(w, "cooled", a.Cooled);
+        WriteFlag(w, "valveMaterialOxygenCompatible", a.ValveMaterialOxygenCompatible);
+        WriteFlag(w, "sealMaterialOxygenCompatible", a.SealMaterialOxygenCompatible);
+        if (a.OxygenPartialPressureAbovePascals is { } po2)
+        {
+            WriteNum(w, "oxygenPartialPressureAbovePa", po2);
+        }
+
+        if (a.DecidedBy.Count > 0)
+        {
+            WriteList(w, "decidedBy", a.DecidedBy.Order(StringComparer.Ordinal));
+        }
+
+        if (a.SuctionPhases.Count > 0)
+        {
+            WriteList(w, "suctionPhases", a.SuctionPhases.Order().Select(p => p.ToString()));
+        }
+
+        if (a.DischargePhases.Count > 0)
+        {
+            WriteList(w, "dischargePhases", a.DischargePhases.Order().Select(p => p.ToString()));
+        }
+
         w.WriteEndObject();
         WriteList(w, "quantity", r.Quantities.Select(q => q.ToName()));
         w.WriteString("direction", r.Direction.ToString());
@@ -236,6 +279,11 @@ public static class CanonicalForm
         w.WriteString("basis", r.Basis);
         w.WriteString("message", r.Message);
         w.WriteBoolean("requiresSignedLimit", r.RequiresSignedLimit);
+        if (r.Prohibited)
+        {
+            w.WriteBoolean("prohibited", true);
+        }
+
         if (r.SetPoints is { } sp)
         {
             w.WriteStartObject("setPoints");
@@ -243,6 +291,11 @@ public static class CanonicalForm
             WriteNum(w, "alarmAtMostK", sp.Alarm.AtMostKelvin);
             WriteNum(w, "tripFraction", sp.Trip.Fraction);
             WriteNum(w, "tripAtMostK", sp.Trip.AtMostKelvin);
+            if (sp.MinimumStepKelvin != 0)
+            {
+                WriteNum(w, "minimumStepK", sp.MinimumStepKelvin);
+            }
+
             w.WriteEndObject();
         }
 

@@ -98,6 +98,13 @@ public static class LayerMerger
         }
 
         var rule = rules[index];
+        if (rule.Prohibited)
+        {
+            Err(errors, RuleFileErrorKind.LayeringViolation, layer, o.Location, "overrides.rule",
+                $"'{o.RuleId}' is a prohibited combination: no layer may override, loosen or disable it, whatever the sign-off. Change the equipment or the service instead.");
+            return;
+        }
+
         var raw = o.Raw;
         var hasLimit = raw?.Get("limit") is not null;
         var hasBand = raw?.Get("warningBand") is not null;

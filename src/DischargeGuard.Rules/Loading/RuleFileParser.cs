@@ -15,16 +15,17 @@ public static class RuleFileParser
 {
     private static readonly string[] TopKeys = ["schemaVersion", "layer", "serviceClasses", "lubricants", "materials", "compressorTypes", "rules", "overrides"];
     private static readonly string[] LayerKeys = ["kind", "id", "site", "title", "description", "owner"];
-    private static readonly string[] ServiceKeys = ["id", "title", "detection", "threshold", "basis"];
+    private static readonly string[] ServiceKeys = ["id", "title", "detection", "threshold", "below", "basis"];
     private static readonly string[] LubricantKeys = ["id", "title", "baseStock", "class", "flashPoint", "autoignitionTemperature", "ratedMaxDischarge", "basis"];
-    private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "basis"];
+    private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "oxygenCompatible", "basis"];
     private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound"];
     private static readonly string[] EfficiencyKeys = ["kind", "value", "basis"];
-    private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "setPoints", "trend"];
-    private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning"];
+    private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "prohibited", "setPoints", "trend"];
+    private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning",
+        "lubricated", "cooled", "valveMaterialOxygenCompatible", "sealMaterialOxygenCompatible", "oxygenPartialPressureAbove", "decidedBy", "suctionPhases", "dischargePhases"];
     private static readonly string[] CatalogueLimitKeys = ["from", "deratingForPressure", "margin", "plus"];
     private static readonly string[] GreaterOfKeys = ["atLeast", "fractionOfPredicted"];
-    private static readonly string[] SetPointKeys = ["alarm", "trip"];
+    private static readonly string[] SetPointKeys = ["alarm", "trip", "minimumStep"];
     private static readonly string[] StepKeys = ["fraction", "atMost"];
     private static readonly string[] TrendKeys = ["evaluations", "steadyPressureWithin"];
     private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "approvedBy", "approvedOn", "reference"];
@@ -201,6 +202,12 @@ public static class RuleFileParser
         var basis = ctx.Text(m, "basis", path + ".basis", required: true);
         MolarMass? mm = null;
         Ratio? o2 = null;
+        Ratio? below = null;
+        if (detection != "oxygenFractionAbove" && m.Get("below") is { } misplacedBelow)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, misplacedBelow, path + ".below", "Only an oxygenFractionAbove class has an upper bound.");
+        }
+
         if (detection == "molarMassAtMost")
         {
             mm = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.MolarMass, required: true) is { } q ? (MolarMass)q : null;
@@ -208,6 +215,11 @@ public static class RuleFileParser
         else if (detection == "oxygenFractionAbove")
         {
             o2 = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.Fraction, required: true) is { } q ? (Ratio)q : null;
+            below = ctx.Quantity(m, "below", path + ".below", QuantityKind.Fraction) is { } qb ? (Ratio)qb : null;
+            if (o2 is { } lo && below is { } hi && !(hi.DecimalFractions > lo.DecimalFractions))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, m.Get("below")!, path + ".below", "The upper bound must lie above the threshold.");
+            }
         }
         else if (m.Get("threshold") is { } t)
         {
@@ -220,7 +232,7 @@ public static class RuleFileParser
         }
 
         var det = detection switch { "molarMassAtMost" => ServiceDetection.MolarMassAtMost, "oxygenFractionAbove" => ServiceDetection.OxygenFractionAbove, _ => ServiceDetection.Declared };
-        return new ServiceClass(id, title, det, mm, o2, basis);
+        return new ServiceClass(id, title, det, mm, o2, basis, below);
     }
 
     private static Lubricant? ParseLubricant(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
@@ -254,9 +266,10 @@ public static class RuleFileParser
         var title = ctx.Text(m, "title", path + ".title", required: true);
         var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal"], required: true);
         var limit = ctx.Temperature(m, "continuousLimit", path + ".continuousLimit");
+        var oxygen = ctx.Bool(m, "oxygenCompatible", path + ".oxygenCompatible");
         var basis = ctx.Text(m, "basis", path + ".basis", required: true);
         return id is null || title is null || use is null || basis is null ? null
-            : new Material(id, title, use == "seal" ? MaterialUse.Seal : MaterialUse.Valve, limit, basis);
+            : new Material(id, title, use == "seal" ? MaterialUse.Seal : MaterialUse.Valve, limit, basis, oxygen);
     }
 
     private static CompressorType? ParseType(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
@@ -310,7 +323,31 @@ public static class RuleFileParser
         var id = Id(ctx, m, path, ids);
         var title = ctx.Text(m, "title", path + ".title", required: true);
         var applies = ParseAppliesTo(ctx, m, path + ".appliesTo");
-        var quantities = ParseQuantities(ctx, m, path + ".quantity");
+        var prohibited = ctx.Bool(m, "prohibited", path + ".prohibited") ?? false;
+        List<CheckedQuantity>? quantities;
+        if (prohibited)
+        {
+            // A prohibited combination has no number: it names no quantity and no limit.
+            foreach (var key in new[] { "quantity", "limit", "warningBand", "direction", "requiresSignedLimit", "setPoints", "trend" })
+            {
+                if (m.Get(key) is { } extra)
+                {
+                    ctx.Add(RuleFileErrorKind.BadValue, extra, path + "." + key, "A prohibited rule flags a combination or condition with no number: it has no " + key + ".");
+                }
+            }
+
+            quantities = [CheckedQuantity.Combination];
+        }
+        else if (m.Get("quantity") is null && m.Get("limit") is null && m.Get("setPoints") is null
+            && m.Get("severity") is YamlScalarNode { Value: "info" })
+        {
+            // An info note that applies whenever its appliesTo holds (e.g. a saturated suction): no number either.
+            quantities = [CheckedQuantity.Combination];
+        }
+        else
+        {
+            quantities = ParseQuantities(ctx, m, path + ".quantity");
+        }
         var dirText = ctx.Enum(m, "direction", path + ".direction", ["upper", "lower"]);
         var direction = dirText == "lower" ? LimitDirection.Lower : LimitDirection.Upper;
         var severityText = ctx.Enum(m, "severity", path + ".severity", ["info", "warning", "violation"], required: true);
@@ -332,9 +369,14 @@ public static class RuleFileParser
             var s = ctx.Map(sp, path + ".setPoints", SetPointKeys);
             var alarm = ParseStep(ctx, s, "alarm", path + ".setPoints.alarm");
             var trip = ParseStep(ctx, s, "trip", path + ".setPoints.trip");
-            if (alarm is not null && trip is not null)
+            var minimumStep = ctx.Quantity(s, "minimumStep", path + ".setPoints.minimumStep", QuantityKind.TemperatureDifference) is TemperatureDelta ms ? ms.Kelvins : 0;
+            if (minimumStep < 0)
             {
-                setPoints = new SetPointSpec(alarm, trip);
+                ctx.Add(RuleFileErrorKind.BadValue, s.Get("minimumStep")!, path + ".setPoints.minimumStep", "The minimum step is zero or more.");
+            }
+            else if (alarm is not null && trip is not null)
+            {
+                setPoints = new SetPointSpec(alarm, trip, minimumStep);
             }
         }
 
@@ -364,7 +406,12 @@ public static class RuleFileParser
             }
         }
 
-        if (severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
+        if (prohibited && severityText is not null && severity != Severity.Violation)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("severity")!, path + ".severity", "A prohibited rule is a violation rule.");
+        }
+
+        if (!prohibited && severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
         {
             ctx.Add(RuleFileErrorKind.MissingKey, m.Key("severity") ?? mapNode, path + ".limit", "A warning or violation rule needs a limit (or requiresSignedLimit: true).");
         }
@@ -398,6 +445,7 @@ public static class RuleFileParser
             Message = message,
             Trend = trend,
             RequiresSignedLimit = signed,
+            Prohibited = prohibited,
             SetPoints = setPoints,
             Location = ctx.Loc(mapNode),
         };
@@ -451,10 +499,49 @@ public static class RuleFileParser
             SealMaterials = Texts(ctx.TextList(m, "sealMaterials", path + ".sealMaterials")),
             StagePositions = positions,
             UnloadedRunning = ctx.Bool(m, "unloadedRunning", path + ".unloadedRunning"),
+            Lubricated = ctx.Bool(m, "lubricated", path + ".lubricated"),
+            Cooled = ctx.Bool(m, "cooled", path + ".cooled"),
+            ValveMaterialOxygenCompatible = ctx.Bool(m, "valveMaterialOxygenCompatible", path + ".valveMaterialOxygenCompatible"),
+            SealMaterialOxygenCompatible = ctx.Bool(m, "sealMaterialOxygenCompatible", path + ".sealMaterialOxygenCompatible"),
+            OxygenPartialPressureAbovePascals = ctx.Quantity(m, "oxygenPartialPressureAbove", path + ".oxygenPartialPressureAbove", QuantityKind.PressureDifference) is Pressure po2 ? po2.Pascals : null,
+            DecidedBy = Texts(ctx.TextList(m, "decidedBy", path + ".decidedBy")).Where(t => CheckMethod(ctx, m, path, t)).ToArray(),
+            SuctionPhases = Phases(ctx, m, "suctionPhases", path),
+            DischargePhases = Phases(ctx, m, "dischargePhases", path),
         };
     }
 
     private static string[] Texts(List<(string Text, YamlNode Node)>? list) => list?.Select(x => x.Text).ToArray() ?? [];
+
+    private static bool CheckMethod(Context ctx, MapView m, string path, string method)
+    {
+        if (method is "ideal-gas" or "real-gas")
+        {
+            return true;
+        }
+
+        ctx.Add(RuleFileErrorKind.BadValue, m.Get("decidedBy")!, path + ".decidedBy", $"'{method}' is not a model; use ideal-gas or real-gas.");
+        return false;
+    }
+
+    private static StagePhase[] Phases(Context ctx, MapView m, string key, string path)
+    {
+        var result = new List<StagePhase>();
+        foreach (var p in ctx.TextList(m, key, path + "." + key) ?? [])
+        {
+            switch (p.Text)
+            {
+                case "gas": result.Add(StagePhase.Gas); break;
+                case "saturated": result.Add(StagePhase.Saturated); break;
+                case "two-phase": result.Add(StagePhase.TwoPhase); break;
+                case "liquid": result.Add(StagePhase.Liquid); break;
+                default:
+                    ctx.Add(RuleFileErrorKind.BadValue, p.Node, path + "." + key, $"'{p.Text}' is not a phase; use gas, saturated, two-phase or liquid.");
+                    break;
+            }
+        }
+
+        return result.ToArray();
+    }
 
     private static List<CheckedQuantity>? ParseQuantities(Context ctx, MapView m, string path)
     {
@@ -480,13 +567,13 @@ public static class RuleFileParser
         var result = new List<CheckedQuantity>();
         foreach (var (text, n) in items)
         {
-            if (CheckedQuantityNames.TryParse(text, out var q))
+            if (CheckedQuantityNames.TryParse(text, out var q) && q != CheckedQuantity.Combination)
             {
                 result.Add(q);
             }
             else
             {
-                ctx.Add(RuleFileErrorKind.BadValue, n, path, $"'{text}' is not a checkable quantity; use one of: {string.Join(", ", CheckedQuantityNames.All)}.");
+                ctx.Add(RuleFileErrorKind.BadValue, n, path, $"'{text}' is not a checkable quantity; use one of: {string.Join(", ", CheckedQuantityNames.All.Where(n => n != "combination"))} (a combination with no number is written as prohibited: true).");
             }
         }
 

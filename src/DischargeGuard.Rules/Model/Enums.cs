@@ -55,6 +55,31 @@ public enum CheckedQuantity
     /// (a difference; needs the real-gas result).
     /// </summary>
     RealGasCorrection,
+    /// <summary>
+    /// Measured minus isentropic (η = 1) discharge temperature (a difference): below zero is physically implausible for
+    /// an uncooled stage.
+    /// </summary>
+    MeasuredMinusIsentropic,
+    /// <summary>
+    /// Suction temperature minus the hydrocarbon dew point of the water-free gas at suction pressure (a difference;
+    /// absent when no dew point exists at that pressure).
+    /// </summary>
+    SuctionSuperheat,
+    /// <summary>No number: the rule flags a combination or a condition (a prohibited rule).</summary>
+    Combination,
+}
+
+/// <summary>The phase of the gas at a stage's suction or discharge (Peng-Robinson stability test, water by saturation).</summary>
+public enum StagePhase
+{
+    /// <summary>A single gas phase, not at saturation.</summary>
+    Gas,
+    /// <summary>A gas at its water or hydrocarbon dew point (condensate formed upstream and was separated, or RH = 1).</summary>
+    Saturated,
+    /// <summary>Inside the two-phase region: liquid would form.</summary>
+    TwoPhase,
+    /// <summary>A liquid (or liquid-like dense) phase.</summary>
+    Liquid,
 }
 
 /// <summary>What kind of number a checked quantity is.</summary>
@@ -120,6 +145,9 @@ public static class CheckedQuantityNames
         CheckedQuantity.NormalOperating => "normalOperating",
         CheckedQuantity.MeasuredMinusPredictedRise => "measuredMinusPredictedRise",
         CheckedQuantity.RealGasCorrection => "realGasCorrection",
+        CheckedQuantity.MeasuredMinusIsentropic => "measuredMinusIsentropic",
+        CheckedQuantity.SuctionSuperheat => "suctionSuperheat",
+        CheckedQuantity.Combination => "combination",
         _ => throw new ArgumentOutOfRangeException(nameof(quantity), quantity, "Unknown quantity."),
     };
 
@@ -151,7 +179,8 @@ public static class CheckedQuantityNames
     public static QuantityDimension Dimension(this CheckedQuantity quantity) => quantity switch
     {
         CheckedQuantity.PressureRatio => QuantityDimension.Ratio,
-        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise or CheckedQuantity.MeasuredMinusPredictedRise or CheckedQuantity.RealGasCorrection => QuantityDimension.TemperatureDifference,
+        CheckedQuantity.MeasuredMinusPredicted or CheckedQuantity.TemperatureRise or CheckedQuantity.MeasuredMinusPredictedRise or CheckedQuantity.RealGasCorrection
+            or CheckedQuantity.MeasuredMinusIsentropic or CheckedQuantity.SuctionSuperheat => QuantityDimension.TemperatureDifference,
         _ => QuantityDimension.Temperature,
     };
 

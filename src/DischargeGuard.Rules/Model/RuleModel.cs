@@ -40,7 +40,11 @@ public enum MaterialUse
 /// <param name="Use">Valve or seal.</param>
 /// <param name="ContinuousLimit">Continuous-service temperature limit; null means no temperature check applies (e.g. metal plates).</param>
 /// <param name="Basis">Where the number comes from.</param>
-public sealed record Material(string Id, string Title, MaterialUse Use, Temperature? ContinuousLimit, string Basis);
+/// <param name="OxygenCompatible">
+/// Whether the material is suited to oxygen-rich service; null when the catalogue does not say (a rule that needs it
+/// then lists the material as not checked).
+/// </param>
+public sealed record Material(string Id, string Title, MaterialUse Use, Temperature? ContinuousLimit, string Basis, bool? OxygenCompatible = null);
 
 /// <summary>How a default efficiency is defined.</summary>
 public enum EfficiencyKind
@@ -72,7 +76,9 @@ public enum ServiceDetection
     Declared,
     /// <summary>Detected when the gas molar mass is at or below a threshold.</summary>
     MolarMassAtMost,
-    /// <summary>Detected when the O2 mole fraction is above a threshold.</summary>
+    /// <summary>
+    /// Detected when the dry-basis O2 mole fraction is above a threshold (and, when an upper bound is given, below it).
+    /// </summary>
     OxygenFractionAbove,
 }
 
@@ -81,10 +87,11 @@ public enum ServiceDetection
 /// <param name="Title">Human title.</param>
 /// <param name="Detection">How it is recognised.</param>
 /// <param name="MolarMassThreshold">Threshold for <see cref="ServiceDetection.MolarMassAtMost"/>.</param>
-/// <param name="OxygenFractionThreshold">Threshold for <see cref="ServiceDetection.OxygenFractionAbove"/>.</param>
+/// <param name="OxygenFractionThreshold">Threshold for <see cref="ServiceDetection.OxygenFractionAbove"/> (dry basis, exclusive).</param>
 /// <param name="Basis">Where the threshold comes from.</param>
+/// <param name="OxygenFractionBelow">Optional exclusive upper bound of the dry-basis O2 mole fraction (oxygen-depleted gases).</param>
 public sealed record ServiceClass(string Id, string Title, ServiceDetection Detection, MolarMass? MolarMassThreshold,
-    Ratio? OxygenFractionThreshold, string Basis);
+    Ratio? OxygenFractionThreshold, string Basis, Ratio? OxygenFractionBelow = null);
 
 /// <summary>What a rule applies to. Empty lists mean "any". All criteria must hold.</summary>
 public sealed record AppliesTo
@@ -107,6 +114,28 @@ public sealed record AppliesTo
     public IReadOnlyList<StagePosition> StagePositions { get; init; } = [];
     /// <summary>When set, the rule applies only when the unloaded-running flag has this value (the flag is then a required input).</summary>
     public bool? UnloadedRunning { get; init; }
+    /// <summary>When set, the rule applies only to compressor types whose gas path is (true) or is not (false) lubricated.</summary>
+    public bool? Lubricated { get; init; }
+    /// <summary>
+    /// When set, the rule applies only when the stage is (true) or is not (false) cooled: a jacket coolant temperature
+    /// stated, or a compressor type whose injected oil or liquid removes heat.
+    /// </summary>
+    public bool? Cooled { get; init; }
+    /// <summary>When set, the rule applies only when the valve material's oxygen compatibility has this value.</summary>
+    public bool? ValveMaterialOxygenCompatible { get; init; }
+    /// <summary>When set, the rule applies only when the seal material's oxygen compatibility has this value.</summary>
+    public bool? SealMaterialOxygenCompatible { get; init; }
+    /// <summary>
+    /// When set, the rule applies only when the O2 partial pressure at discharge is above this value, Pa (an oxidant is
+    /// present: air, oxygen-depleted air, oxygen-bearing process gases).
+    /// </summary>
+    public double? OxygenPartialPressureAbovePascals { get; init; }
+    /// <summary>The models whose answer the rule applies to ("ideal-gas", "real-gas"); empty means any.</summary>
+    public IReadOnlyList<string> DecidedBy { get; init; } = [];
+    /// <summary>The phases at the stage's suction the rule applies to; empty means any.</summary>
+    public IReadOnlyList<StagePhase> SuctionPhases { get; init; } = [];
+    /// <summary>The phases at the stage's discharge the rule applies to; empty means any.</summary>
+    public IReadOnlyList<StagePhase> DischargePhases { get; init; } = [];
 }
 
 /// <summary>Where a catalogue- or input-derived limit takes its base value from.</summary>
@@ -175,7 +204,11 @@ public sealed record TrendSpec(int Evaluations, double SteadyPressureFraction)
 /// <summary>The set-point proposal form of a rule.</summary>
 /// <param name="Alarm">Alarm step.</param>
 /// <param name="Trip">Trip step.</param>
-public sealed record SetPointSpec(SetPointStep Alarm, SetPointStep Trip);
+/// <param name="MinimumStepKelvin">
+/// The smallest step between normal and alarm and between alarm and trip, K: an alarm is always above normal and a
+/// trip always above the alarm.
+/// </param>
+public sealed record SetPointSpec(SetPointStep Alarm, SetPointStep Trip, double MinimumStepKelvin = 0);
 
 /// <summary>An engineer's sign-off on a limit that the defaults leave unset (special services).</summary>
 /// <param name="ApprovedBy">Name or staff id of the approving engineer.</param>
@@ -208,6 +241,11 @@ public sealed record RuleDefinition
     public required string Message { get; init; }
     /// <summary>True when no default limit exists and a site or asset layer must set and sign off one.</summary>
     public bool RequiresSignedLimit { get; init; }
+    /// <summary>
+    /// True for a prohibited combination: wherever the rule applies it is a violation with no number, and no layer may
+    /// override, loosen or disable it.
+    /// </summary>
+    public bool Prohibited { get; init; }
     /// <summary>The set-point proposal form, for R-SETPOINTS.</summary>
     public SetPointSpec? SetPoints { get; init; }
     /// <summary>The history window, for the <see cref="CheckedQuantity.MeasuredMinusPredictedRise"/> quantity.</summary>
