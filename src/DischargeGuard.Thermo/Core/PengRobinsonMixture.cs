@@ -44,6 +44,8 @@ internal sealed class PengRobinsonMixture
     private const double Sqrt2 = 1.4142135623730950488;
 
     private readonly double[] _tc;
+    private readonly double[] _pc;
+    private readonly double[] _omega;
     private readonly double[] _sqrtTc;
     private readonly double[] _kappa;
     private readonly double[] _bmC;
@@ -83,6 +85,8 @@ internal sealed class PengRobinsonMixture
         Count = n;
         R = gasConstant;
         _tc = criticalTemperaturesKelvin.ToArray();
+        _pc = criticalPressuresPascals.ToArray();
+        _omega = acentricFactors.ToArray();
         _sqrtTc = new double[n];
         _kappa = new double[n];
         _bmC = new double[n];
@@ -129,6 +133,41 @@ internal sealed class PengRobinsonMixture
 
     /// <summary>Mixture co-volume b, m³/mol.</summary>
     public double B { get; }
+
+    /// <summary>Tc_i, K.</summary>
+    public ReadOnlySpan<double> CriticalTemperaturesKelvin => _tc;
+
+    /// <summary>Pc_i, Pa.</summary>
+    public ReadOnlySpan<double> CriticalPressuresPascals => _pc;
+
+    /// <summary>ω_i, dimensionless.</summary>
+    public ReadOnlySpan<double> AcentricFactors => _omega;
+
+    /// <summary>b_i, m³/mol.</summary>
+    public ReadOnlySpan<double> CoVolumes => _bi;
+
+    /// <summary>The mixture's own mole fractions x_i.</summary>
+    public ReadOnlySpan<double> MoleFractions => _x;
+
+    /// <summary>
+    /// a_ij(T) = (1 − k_ij)√(a_i a_j) at <paramref name="tKelvin"/>, n×n row-major (Pa·m⁶/mol²), for fugacities of any
+    /// composition at that temperature.
+    /// </summary>
+    public void AttractionMatrix(double tKelvin, Span<double> aij)
+    {
+        var n = Count;
+        Span<double> u = n <= MaxStackComponents ? stackalloc double[n] : new double[n];
+        Span<double> du = n <= MaxStackComponents ? stackalloc double[n] : new double[n];
+        Span<double> d2u = n <= MaxStackComponents ? stackalloc double[n] : new double[n];
+        SqrtAlpha(tKelvin, u, du, d2u);
+        for (var i = 0; i < n; i++)
+        {
+            for (var j = 0; j < n; j++)
+            {
+                aij[(i * n) + j] = _q[(i * n) + j] * u[i] * u[j];
+            }
+        }
+    }
 
     /// <summary>κ(ω): the 1976 correlation, or the 1978 one for ω &gt; 0.49.</summary>
     public static double Kappa(double omega) => omega > HeavyAcentricFactor
