@@ -68,6 +68,36 @@ public static class HumidGas
         return WaterSaturation.SaturationTemperature(Pressure.FromPascals(Math.Min(pw, pMax)));
     }
 
+    /// <summary>The gas without its water (the same instance when it holds none).</summary>
+    /// <param name="gas">A gas, humid or dry.</param>
+    /// <returns>The water-free gas, renormalised.</returns>
+    public static GasMixture Dry(GasMixture gas)
+    {
+        ArgumentNullException.ThrowIfNull(gas);
+        return gas.WaterMoleFraction > 0 ? gas.WithWaterFraction(GasCatalog.Default.Water, 0) : gas;
+    }
+
+    /// <summary>
+    /// The relative humidity of a gas at (<paramref name="temperature"/>, <paramref name="absolutePressure"/>):
+    /// y_w·P / p_sat(T), capped at 1 (a gas is never supersaturated); 0 for a dry gas or outside the saturation line's
+    /// range (200–647.096 K).
+    /// </summary>
+    /// <param name="gas">The gas.</param>
+    /// <param name="temperature">Its temperature.</param>
+    /// <param name="absolutePressure">Its absolute pressure.</param>
+    /// <returns>Relative humidity, 0–1.</returns>
+    public static double RelativeHumidity(GasMixture gas, Temperature temperature, Pressure absolutePressure)
+    {
+        ArgumentNullException.ThrowIfNull(gas);
+        var t = temperature.Kelvins;
+        if (gas.WaterMoleFraction <= 0 || t < WaterSaturation.MinimumKelvin || t > WaterSaturation.CriticalKelvin)
+        {
+            return 0;
+        }
+
+        return Math.Min(1, gas.WaterMoleFraction * absolutePressure.Pascals / WaterSaturation.SaturationPressurePascals(t));
+    }
+
     private static GasMixture WithWaterPartialPressure(GasMixture dryGas, double pwPascals, Pressure absolutePressure, string parameterName)
     {
         var p = absolutePressure.Pascals;

@@ -186,6 +186,9 @@ public sealed class RealGasMixture
     /// its partial pressure y_w·P above the saturation pressure at T: water condenses. A mixture's hydrocarbon dew point
     /// between those is not detected (no flash here).
     /// </remarks>
+    /// <summary>Relative tolerance on the water partial pressure against saturation (rounding of a saturated gas).</summary>
+    internal const double SaturationTolerance = 1e-9;
+
     internal string? PhaseProblem(double tKelvin, double pPascals)
     {
         var att = _eos.AttractionAt(tKelvin);
@@ -213,7 +216,10 @@ public sealed class RealGasMixture
         {
             var pw = _waterFraction * pPascals;
             var sat = WaterSaturation.SaturationPressurePascals(tKelvin);
-            if (pw > sat)
+
+            // A gas exactly at saturation (after a cooler drops its condensate, or RH = 1) is a gas: the water fraction
+            // left by the drop-out is computed from this same saturation pressure, so allow its rounding.
+            if (pw > sat * (1 + SaturationTolerance))
             {
                 return string.Create(
                     CultureInfo.InvariantCulture,

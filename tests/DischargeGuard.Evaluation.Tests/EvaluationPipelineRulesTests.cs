@@ -36,7 +36,7 @@ public sealed class EvaluationPipelineRulesTests
         Assert.Equal("info", info.Severity);
 
         var given = Evaluate(AirRequest()).Stages[0];
-        Assert.Equal(given.DischargeTemperature.Estimated, stage.DischargeTemperature.Estimated);
+        Assert.Equal(given.DischargeTemperature!.Estimated, stage.DischargeTemperature!.Estimated);
     }
 
     [Fact]
@@ -144,7 +144,7 @@ public sealed class EvaluationPipelineRulesTests
         var stage = response.Stages[0];
         Assert.Equal("fail", response.Verdict);
         Assert.Equal("fail", stage.Verdict);
-        Assert.True(stage.DischargeTemperature.Isentropic.Value > 220, $"isentropic {stage.DischargeTemperature.Isentropic.Value} °C");
+        Assert.True(stage.DischargeTemperature!.Isentropic.Value > 220, $"isentropic {stage.DischargeTemperature!.Isentropic.Value} °C");
         Assert.Contains(stage.Findings, f => f.RuleId == "R-API618-GEN" && f.Severity == "violation");
 
         var governing = stage.Governing!;

@@ -31,8 +31,8 @@ public sealed class EvaluationPipelineTrainTests
             var s = response.Stages[i];
             AssertEx.Within(d.SuctionPressure.Kilopascals, s.Suction.PressureAbsolute.Value, Rounding, $"stage {i} suction pressure");
             AssertEx.Within(d.SuctionTemperature.DegreesCelsius, s.Suction.Temperature.Value, Rounding, $"stage {i} suction temperature");
-            AssertEx.Within(d.IsentropicDischargeTemperature.DegreesCelsius, s.DischargeTemperature.Isentropic.Value, Rounding, $"stage {i} isentropic");
-            AssertEx.Within(d.EstimatedDischargeTemperature.DegreesCelsius, s.DischargeTemperature.Estimated.Value, Rounding, $"stage {i} estimated");
+            AssertEx.Within(d.IsentropicDischargeTemperature.DegreesCelsius, s.DischargeTemperature!.Isentropic.Value, Rounding, $"stage {i} isentropic");
+            AssertEx.Within(d.EstimatedDischargeTemperature.DegreesCelsius, s.DischargeTemperature!.Estimated.Value, Rounding, $"stage {i} estimated");
         }
     }
 

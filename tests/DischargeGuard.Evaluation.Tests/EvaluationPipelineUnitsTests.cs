@@ -88,15 +88,15 @@ public sealed class EvaluationPipelineUnitsTests
         var direct = StageSolver.Solve(DryAir, new StageConditions(
             Pressure.FromKilopascals(148.6), Temperature.FromDegreesCelsius(35), Pressure.FromKilopascals(418.6), StageEfficiency.Isentropic(0.80, 0.03)));
 
-        AssertEx.Within(direct.IsentropicDischargeTemperature.DegreesCelsius, stage.DischargeTemperature.Isentropic.Value, Rounding);
-        AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature.Estimated.Value, Rounding);
-        AssertEx.Within(direct.EstimatedUpperBound.DegreesCelsius, stage.DischargeTemperature.EstimatedUpperBound.Value, Rounding);
-        AssertEx.Within(direct.EstimatedLowerBound.DegreesCelsius, stage.DischargeTemperature.EstimatedLowerBound.Value, Rounding);
-        AssertEx.Within(direct.ConstantK.Estimated.DegreesCelsius, stage.DischargeTemperature.ConstantK.Estimated.Value, Rounding);
-        AssertEx.Within(direct.TemperatureRise.Kelvins, stage.TemperatureRise.Value, Rounding);
+        AssertEx.Within(direct.IsentropicDischargeTemperature.DegreesCelsius, stage.DischargeTemperature!.Isentropic.Value, Rounding);
+        AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature!.Estimated.Value, Rounding);
+        AssertEx.Within(direct.EstimatedUpperBound.DegreesCelsius, stage.DischargeTemperature!.EstimatedUpperBound.Value, Rounding);
+        AssertEx.Within(direct.EstimatedLowerBound.DegreesCelsius, stage.DischargeTemperature!.EstimatedLowerBound.Value, Rounding);
+        AssertEx.Within(direct.ConstantK.Estimated.DegreesCelsius, stage.DischargeTemperature!.ConstantK.Estimated.Value, Rounding);
+        AssertEx.Within(direct.TemperatureRise!.Kelvins, stage.TemperatureRise!.Value, Rounding);
         AssertEx.Within(direct.PolytropicEfficiency, stage.Efficiency.Polytropic, 1e-6);
         AssertEx.Within(direct.KSuction, stage.Properties.KSuction, 1e-6);
-        Assert.True(stage.DischargeTemperature.EstimatedUpperBound.Value > stage.DischargeTemperature.Estimated.Value, "the lower efficiency bound gives the higher temperature");
+        Assert.True(stage.DischargeTemperature!.EstimatedUpperBound.Value > stage.DischargeTemperature!.Estimated.Value, "the lower efficiency bound gives the higher temperature");
         Assert.Equal("request", stage.Efficiency.Source);
     }
 
@@ -108,24 +108,24 @@ public sealed class EvaluationPipelineUnitsTests
         var imperial = Evaluate(baseRequest with { OutputUnits = "imperial" }).Stages[0];
         var direct = Direct(148.6, 35, 418.6, massFlow: 2.5);
 
-        Assert.Equal("°C", metric.DischargeTemperature.Estimated.Unit);
-        Assert.Equal("°F", imperial.DischargeTemperature.Estimated.Unit);
+        Assert.Equal("°C", metric.DischargeTemperature!.Estimated.Unit);
+        Assert.Equal("°F", imperial.DischargeTemperature!.Estimated.Unit);
         Assert.Equal("kPa", metric.Discharge.PressureAbsolute.Unit);
         Assert.Equal("psia", imperial.Discharge.PressureAbsolute.Unit);
-        Assert.Equal("K", metric.TemperatureRise.Unit);
-        Assert.Equal("Δ°F", imperial.TemperatureRise.Unit);
-        Assert.Equal("kJ/kg", metric.SpecificWork.Actual.Unit);
-        Assert.Equal("Btu/lb", imperial.SpecificWork.Actual.Unit);
+        Assert.Equal("K", metric.TemperatureRise!.Unit);
+        Assert.Equal("Δ°F", imperial.TemperatureRise!.Unit);
+        Assert.Equal("kJ/kg", metric.SpecificWork!.Actual.Unit);
+        Assert.Equal("Btu/lb", imperial.SpecificWork!.Actual.Unit);
         Assert.Equal("kW", metric.Power!.Unit);
         Assert.Equal("hp", imperial.Power!.Unit);
 
         // °F = K × 9/5 − 459.67 and a kelvin of difference is 9/5 Δ°F (NIST SP 811, 4.2.1.1 and B.8).
-        AssertEx.Within((direct.EstimatedDischargeTemperature.Kelvins * 1.8) - 459.67, imperial.DischargeTemperature.Estimated.Value, Rounding);
-        AssertEx.Within((direct.IsentropicDischargeTemperature.Kelvins * 1.8) - 459.67, imperial.DischargeTemperature.Isentropic.Value, Rounding);
-        AssertEx.Within(direct.TemperatureRise.Kelvins * 1.8, imperial.TemperatureRise.Value, Rounding);
+        AssertEx.Within((direct.EstimatedDischargeTemperature.Kelvins * 1.8) - 459.67, imperial.DischargeTemperature!.Estimated.Value, Rounding);
+        AssertEx.Within((direct.IsentropicDischargeTemperature.Kelvins * 1.8) - 459.67, imperial.DischargeTemperature!.Isentropic.Value, Rounding);
+        AssertEx.Within(direct.TemperatureRise!.Kelvins * 1.8, imperial.TemperatureRise!.Value, Rounding);
         AssertEx.Within(418.6 / KilopascalsPerPsi, imperial.Discharge.PressureAbsolute.Value, Rounding);
         AssertEx.Within(148.6 / KilopascalsPerPsi, imperial.Suction.PressureAbsolute.Value, Rounding);
-        AssertEx.Within(direct.SpecificActualWork.JoulesPerKilogram / 1000 / KilojoulesPerKilogramPerBtuPerPound, imperial.SpecificWork.Actual.Value, Rounding);
+        AssertEx.Within(direct.SpecificActualWork.JoulesPerKilogram / 1000 / KilojoulesPerKilogramPerBtuPerPound, imperial.SpecificWork!.Actual.Value, Rounding);
         AssertEx.Within((double)direct.Power!.Value.Watts / WattsPerHorsepower, imperial.Power.Value, Rounding);
         AssertEx.Within((double)direct.Power!.Value.Watts / 1000, metric.Power.Value, Rounding);
 
@@ -156,7 +156,7 @@ public sealed class EvaluationPipelineUnitsTests
 
         // 9000 kg/h = 2.5 kg/s; P = ṁ·(h2 − h1).
         AssertEx.Within(2.5 * direct.SpecificActualWork.JoulesPerKilogram / 1000, stage.Power!.Value, Rounding);
-        AssertEx.Within(stage.Power.Value / stage.SpecificWork.Actual.Value, 2.5, 1e-5, "power / actual work (kg/s)");
+        AssertEx.Within(stage.Power.Value / stage.SpecificWork!.Actual.Value, 2.5, 1e-5, "power / actual work (kg/s)");
     }
 
     [Fact]

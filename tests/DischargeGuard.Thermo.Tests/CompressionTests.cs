@@ -105,7 +105,7 @@ public sealed class CompressionTests
         var r = StageSolver.Solve(gas, Stage(2e6, 300, 8e6, StageEfficiency.Isentropic(0.85)));
         Assert.True(r.ConstantK.Estimated > r.EstimatedDischargeTemperature);
         AssertEx.Within(r.ConstantK.Estimated.Kelvins - r.EstimatedDischargeTemperature.Kelvins, r.ConstantK.DifferenceFromCpT.Kelvins, 1e-9);
-        AssertEx.Within(100 * r.ConstantK.DifferenceFromCpT.Kelvins / r.TemperatureRise.Kelvins, r.ConstantK.DifferencePercentOfRise, 1e-9);
+        AssertEx.Within(100 * r.ConstantK.DifferenceFromCpT.Kelvins / r.TemperatureRise!.Kelvins, r.ConstantK.DifferencePercentOfRise, 1e-9);
         Assert.True(r.KDischarge < r.KSuction);
     }
 

@@ -46,7 +46,7 @@ public static class EnvelopeReport
             {
                 var e = s.Envelope;
                 w.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                    $"  Stage {s.Index + 1}: now {Format.Q(s.Discharge.PressureAbsolute)} discharge (absolute), {Format.Q(s.Suction.Temperature)} suction, estimated {Format.Q(s.DischargeTemperature.Estimated)}"));
+                    $"  Stage {s.Index + 1}: now {Format.Q(s.Discharge.PressureAbsolute)} discharge (absolute), {Format.Q(s.Suction.Temperature)} suction, {(s.DischargeTemperature is { } dt ? "estimated " + Format.Q(dt.Estimated) : "not evaluated (liquid at suction)")}"));
                 if (e is null)
                 {
                     w.WriteLine("    no violation-level limit applies to this stage, so it has no envelope.");

@@ -138,7 +138,7 @@ public static class JUnitReport
             parts.Add($"margin {Format.Q(f.Margin)}");
         }
 
-        return parts.Count == 0 ? f.Quantity : string.Join(", ", parts);
+        return parts.Count == 0 ? (f.Quantity == "combination" ? "prohibited, whatever the temperature" : f.Quantity) : string.Join(", ", parts);
     }
 
     // Dots separate the class name's parts in JUnit viewers; keep them out of file and case names.

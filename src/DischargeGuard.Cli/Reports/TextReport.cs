@@ -85,8 +85,8 @@ public static class TextReport
                 Format.N(s.PressureRatio, "0.00"),
                 Format.Q(s.Suction.PressureAbsolute) + ", " + Format.Q(s.Suction.Temperature),
                 Format.Q(s.Discharge.PressureAbsolute),
-                Format.Q(t.Isentropic),
-                $"{Format.Q(t.Estimated)} ({Format.N(t.EstimatedLowerBound.Value, "0.#")}–{Format.Q(t.EstimatedUpperBound)})",
+                t is null ? "not evaluated" : Format.Q(t.Isentropic),
+                t is null ? "liquid at suction" : $"{Format.Q(t.Estimated)} ({Format.N(t.EstimatedLowerBound.Value, "0.#")}–{Format.Q(t.EstimatedUpperBound)})",
                 s.Governing is { } g ? $"{g.RuleId} {Format.Q(g.Limit)} ({g.Quantity})" : "none applies",
                 s.Governing?.Margin is { } margin ? Format.Q(margin) : "—",
                 Format.Verdict(s.Verdict));
@@ -95,7 +95,20 @@ public static class TextReport
         table.WriteTo(w, "    ");
         foreach (var s in r.Stages)
         {
-            w.WriteLine($"    Stage {s.Index + 1} model: {RealGasLine(s)}");
+            if (s.NotEvaluated is { } why)
+            {
+                w.WriteLine($"    Stage {s.Index + 1}: {why}");
+            }
+            else
+            {
+                w.WriteLine($"    Stage {s.Index + 1} model: {RealGasLine(s)}");
+            }
+
+            if (s.Phase is { } phase)
+            {
+                w.WriteLine($"    Stage {s.Index + 1} phase: {PhaseLine(phase)}");
+            }
+
             w.WriteLine($"    Stage {s.Index + 1} findings:");
             foreach (var f in s.Findings)
             {
@@ -124,9 +137,18 @@ public static class TextReport
         return rg.DefaultedPairs.Count > 0 ? line + $"; k_ij taken as 0 for {string.Join(", ", rg.DefaultedPairs)}" : line;
     }
 
+    private static string PhaseLine(PhaseDto p)
+    {
+        var hc = p.HydrocarbonDewPoint is { } dew
+            ? $"hydrocarbon dew point {Format.Q(dew)}" + (p.SuperheatAboveHydrocarbonDewPoint is { } sh ? $" (superheat {Format.Q(sh)})" : string.Empty)
+            : $"hydrocarbon dew point: {p.HydrocarbonDewPointNote ?? "none"}";
+        var water = p.WaterDewPoint is { } w ? $"; water dew point {Format.Q(w)}" + (p.SuperheatAboveWaterDewPoint is { } sw ? $" (superheat {Format.Q(sw)})" : string.Empty) : string.Empty;
+        return $"suction {p.Suction}, discharge {p.Discharge ?? "not evaluated"}; {hc}{water}";
+    }
+
     private static void WriteFinding(FindingDto f, TextWriter w)
     {
-        var numbers = f.Value is null ? string.Empty : $" {f.Quantity} {Format.Q(f.Value)}";
+        var numbers = f.Value is null ? (f.Quantity == "combination" ? " prohibited, whatever the temperature" : string.Empty) : $" {f.Quantity} {Format.Q(f.Value)}";
         if (f.Limit is not null)
         {
             numbers += $", limit {Format.Q(f.Limit)}";

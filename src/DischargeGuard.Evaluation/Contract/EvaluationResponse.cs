@@ -83,17 +83,17 @@ public sealed record StageDto
     /// <summary>Efficiencies used and where they came from.</summary>
     public required EfficiencyDto Efficiency { get; init; }
 
-    /// <summary>Predicted discharge temperatures.</summary>
-    public required DischargeTemperatureDto DischargeTemperature { get; init; }
+    /// <summary>Predicted discharge temperatures; null when the stage was not evaluated (see <see cref="NotEvaluated"/>).</summary>
+    public DischargeTemperatureDto? DischargeTemperature { get; init; }
 
-    /// <summary>Estimated discharge minus suction temperature.</summary>
-    public required QuantityDto TemperatureRise { get; init; }
+    /// <summary>Estimated discharge minus suction temperature; null when the stage was not evaluated.</summary>
+    public QuantityDto? TemperatureRise { get; init; }
 
     /// <summary>k and Z.</summary>
     public required PropertiesDto Properties { get; init; }
 
-    /// <summary>Specific work.</summary>
-    public required SpecificWorkDto SpecificWork { get; init; }
+    /// <summary>Specific work; null when the stage was not evaluated.</summary>
+    public SpecificWorkDto? SpecificWork { get; init; }
 
     /// <summary>Gas power, when a flow was given.</summary>
     public QuantityDto? Power { get; init; }
@@ -124,7 +124,27 @@ public sealed record StageDto
 
     /// <summary>Estimated and upper-bound temperature against discharge pressure (only with <c>?curve=true</c>).</summary>
     public IReadOnlyList<CurvePointDto>? Curve { get; init; }
+
+    /// <summary>The phase at suction and discharge, the dew points and the superheat above them.</summary>
+    public PhaseDto? Phase { get; init; }
+
+    /// <summary>
+    /// Why the stage has no discharge temperatures and no envelope (liquid or two-phase at suction); null when it was
+    /// evaluated.
+    /// </summary>
+    public string? NotEvaluated { get; init; }
 }
+
+/// <summary>The phase check of one stage (Peng-Robinson tangent-plane stability on the water-free gas; water from its saturation pressure).</summary>
+/// <param name="Suction">gas, saturated, two-phase or liquid, at the stage's suction (after any intercooler).</param>
+/// <param name="Discharge">gas, saturated, two-phase or liquid, at the predicted discharge state; null when the stage was not evaluated.</param>
+/// <param name="HydrocarbonDewPoint">The upper hydrocarbon dew point of the water-free gas at suction pressure; null where none exists.</param>
+/// <param name="HydrocarbonDewPointNote">Why there is no hydrocarbon dew point ("above the cricondenbar", "no condensable component"), or null.</param>
+/// <param name="WaterDewPoint">The water dew point at suction pressure; null for a dry gas.</param>
+/// <param name="SuperheatAboveHydrocarbonDewPoint">Suction temperature minus the hydrocarbon dew point; negative inside the two-phase region.</param>
+/// <param name="SuperheatAboveWaterDewPoint">Suction temperature minus the water dew point.</param>
+public sealed record PhaseDto(string Suction, string? Discharge, QuantityDto? HydrocarbonDewPoint, string? HydrocarbonDewPointNote, QuantityDto? WaterDewPoint,
+    QuantityDto? SuperheatAboveHydrocarbonDewPoint, QuantityDto? SuperheatAboveWaterDewPoint);
 
 /// <summary>Isentropic and estimated discharge temperatures of one model (or their differences).</summary>
 /// <param name="Isentropic">η = 1.</param>

@@ -109,8 +109,30 @@ public sealed class EvaluationPipeline
                 facts = facts with { DeviationHistory = history[i] };
             }
 
+            // Liquid never reaches a compressor unflagged, whatever the method: the phase at suction (after any cooler and
+            // its separator) decides whether the stage can be evaluated at all.
+            var separated = input.Intercooler is not null;
+            var suctionPhase = StagePhases.AtSuction(s.Gas, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, separated);
+            facts = facts with { SuctionPhase = suctionPhase.Phase, SuctionSuperheat = suctionPhase.SuperheatAboveHydrocarbonDewPoint };
+            if (suctionPhase.Phase is StagePhase.TwoPhase or StagePhase.Liquid)
+            {
+                var refused = NotEvaluatedStage(s, i, facts, effective, efficiencySources[i], trainStages[i].Efficiency, suctionPhase, output);
+                verdict = Worst(verdict, refused.Verdict);
+                allFindings.AddRange(refused.Stage.Findings.Select(f => f with { Stage = i }));
+                if (i == 0)
+                {
+                    serviceClasses = refused.ServiceClasses;
+                }
+
+                stageDtos.Add(refused.Stage);
+                continue;
+            }
+
             var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
-            var realGas = RealGasOf(s, conditions, method, i, stagesIn);
+            var idealDischarge = StagePhases.AtDischarge(s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
+            var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
+                ? new RealGasStage(false, null, null, null, "The real gas was not computed: the discharge state lies inside the two-phase region.")
+                : RealGasOf(s, conditions, method, i, stagesIn);
             if (realGas.Result is { } rgr)
             {
                 facts = facts with
@@ -121,6 +143,7 @@ public sealed class EvaluationPipeline
                 {
                     facts = facts with
                     {
+                        DecidedBy = "real-gas",
                         Isentropic = rgr.IsentropicDischargeTemperature,
                         Estimated = rgr.EstimatedDischargeTemperature,
                         EstimatedUpperBound = rgr.EstimatedUpperBound,
@@ -128,6 +151,8 @@ public sealed class EvaluationPipeline
                 }
             }
 
+            var dischargePhase = realGas.Used ? StagePhases.AtDischarge(s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
+            facts = facts with { DischargePhase = dischargePhase };
             var envelopeGas = realGas.Used ? realGas.Mixture : null;
             var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas));
             if (i == 0)
@@ -141,6 +166,7 @@ public sealed class EvaluationPipeline
             allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
             var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output, envelopeGas) : null, LimitsOf(s, conditions, ruled, output, envelopeGas));
             stage = WithRealGas(stage, s, realGas, output);
+            stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;
             anyReal |= realGas.Used;
             if (facts.MeasuredDischarge is { } measured)
@@ -459,6 +485,60 @@ public sealed class EvaluationPipeline
         }
     }
 
+    private static PhaseDto PhaseOf(SuctionPhase suction, StagePhase? discharge, Temperature t1, OutputUnitSystem u) => new(
+        PhaseName(suction.Phase),
+        discharge is { } d ? PhaseName(d) : null,
+        suction.HydrocarbonDewPoint is { } hc ? u.Temperature(hc) : null,
+        suction.HydrocarbonDewPointNote,
+        suction.WaterDewPoint is { } w ? u.Temperature(w) : null,
+        suction.SuperheatAboveHydrocarbonDewPoint is { } sh ? u.DifferenceKelvin(sh.Kelvins) : null,
+        suction.WaterDewPoint is { } w2 ? u.DifferenceKelvin(t1.Kelvins - w2.Kelvins) : null);
+
+    private static string PhaseName(StagePhase? phase) => phase switch
+    {
+        null => "unknown",
+        StagePhase.Saturated => "saturated",
+        StagePhase.TwoPhase => "two-phase",
+        StagePhase.Liquid => "liquid",
+        _ => "gas",
+    };
+
+    /// <summary>A stage whose suction is liquid or two-phase: only the rules that need no discharge temperature, no envelope.</summary>
+    private static (StageDto Stage, Verdict Verdict, IReadOnlyList<string> ServiceClasses) NotEvaluatedStage(
+        TrainStageResult s, int index, StageFacts facts, EffectiveRuleSet rules, (string Source, string? Basis) efficiencySource, StageEfficiency efficiency,
+        SuctionPhase phase, OutputUnitSystem u)
+    {
+        var ruled = RuleEngine.EvaluateStage(rules, facts);
+        var kept = ruled.Findings
+            .Where(f => f.Quantity is CheckedQuantity.Combination or CheckedQuantity.SuctionSuperheat or CheckedQuantity.PressureRatio or CheckedQuantity.JacketCoolantInlet)
+            .ToList();
+        var verdict = kept.Any(f => f.Severity == Severity.Violation) ? Verdict.Fail : kept.Any(f => f.Severity == Severity.Warning) ? Verdict.Review : Verdict.Pass;
+        var r = s.Stage;
+        var reason = string.Create(CultureInfo.InvariantCulture,
+            $"Not evaluated: the gas at this stage's suction is {PhaseName(phase.Phase)} ({(phase.SuperheatAboveHydrocarbonDewPoint is { } sh ? $"{-sh.Kelvins:0.#} K below its hydrocarbon dew point" : "a liquid")}). A compressor must not take in liquid, so no discharge temperature or envelope is given.");
+        var stage = new StageDto
+        {
+            Index = index,
+            Verdict = Name(verdict),
+            PressureRatio = Math.Round(r.PressureRatio, 6),
+            Suction = new StateDto(u.PressureAbsolute(r.SuctionPressure), u.Temperature(r.SuctionTemperature)),
+            Discharge = new DischargeStateDto(u.PressureAbsolute(r.DischargePressure)),
+            Efficiency = new EfficiencyDto(
+                Math.Round(r.IsentropicEfficiency, 6),
+                Math.Round(r.PolytropicEfficiency, 6),
+                r.EfficiencyKind == ThermoEfficiencyKind.Isentropic ? "isentropic" : "polytropic",
+                efficiency.Uncertainty,
+                efficiencySource.Source,
+                efficiencySource.Basis),
+            Properties = new PropertiesDto(Math.Round(r.KSuction, 6), Math.Round(r.KDischarge, 6), 1.0, 1.0),
+            Findings = kept.Select(f => FindingOf(f, u, null)).ToArray(),
+            NotChecked = [],
+            Phase = PhaseOf(phase, null, r.SuctionTemperature, u),
+            NotEvaluated = reason,
+        };
+        return (stage, verdict, ruled.ServiceClasses);
+    }
+
     private StageFacts FactsOf(TrainStageResult s, StageInput input, int index, int count, IReadOnlyList<string> declared, bool defaulted)
     {
         var path = string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
@@ -473,7 +553,9 @@ public sealed class EvaluationPipeline
             SealMaterialId = input.Equipment?.SealMaterial,
             DeclaredServiceClasses = declared,
             GasMolarMass = s.Gas.MolarMass,
-            OxygenMoleFraction = Ratio.FromDecimalFractions(s.Gas.MoleFractionOf("O2")),
+            // One basis for every oxygen class: the dry-basis fraction, whatever the humidity.
+            OxygenMoleFraction = Ratio.FromDecimalFractions(s.Gas.MoleFractionOf("O2") / (1 - s.Gas.WaterMoleFraction)),
+            DischargeOxygenPartialPressure = Pressure.FromPascals(s.Gas.MoleFractionOf("O2") * r.DischargePressure.Pascals),
             SuctionTemperature = r.SuctionTemperature,
             SuctionPressure = r.SuctionPressure,
             DischargePressure = r.DischargePressure,
@@ -759,14 +841,14 @@ public sealed class EvaluationPipeline
             RealGas = dto,
             Properties = r is { } z ? stage.Properties with { ZSuction = Math.Round(z.ZSuction, 6), ZDischarge = Math.Round(z.ZDischarge, 6) } : stage.Properties,
         };
-        if (!rg.Used || r is not { } used)
+        if (!rg.Used || r is not { } used || stage.DischargeTemperature is not { } ideals)
         {
             return stage;
         }
 
         return stage with
         {
-            DischargeTemperature = stage.DischargeTemperature with
+            DischargeTemperature = ideals with
             {
                 Isentropic = u.Temperature(used.IsentropicDischargeTemperature),
                 Estimated = u.Temperature(used.EstimatedDischargeTemperature),

@@ -36,7 +36,10 @@ internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions c
         }
 
         var p = realGas is null ? EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, t);
-        var s = realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, conditions, q.Value, t);
+        // A humid gas keeps its relative humidity, not its water fraction, as the suction temperature moves.
+        var s = gas.WaterMoleFraction > 0
+            ? HumidEnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t, realGas is not null)
+            : realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, conditions, q.Value, t);
         return (new(Map(p.Status), p.Value, p.Note), new(Map(s.Status), s.Value, s.Note));
     }
 

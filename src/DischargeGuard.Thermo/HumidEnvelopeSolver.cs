@@ -1,0 +1,116 @@
+using System.Globalization;
+using UnitsNet;
+
+namespace DischargeGuard.Thermo;
+
+/// <summary>
+/// The suction-temperature envelope of a humid stage with its relative humidity held fixed: a warmer suction carries
+/// more water (y_w = RH·p_sat(T1)/P1), as air drawn in on a hotter day does. Holding the water mole fraction fixed
+/// instead would supersaturate the gas at a colder suction and cap the search there.
+/// </summary>
+public static class HumidEnvelopeSolver
+{
+    private const int MaxIterations = 200;
+
+    /// <summary>
+    /// The highest suction temperature at which <paramref name="quantity"/> reaches <paramref name="limit"/>, the
+    /// relative humidity of <paramref name="gas"/> at the stage's suction held fixed.
+    /// </summary>
+    /// <param name="gas">The stage's humid gas at its suction.</param>
+    /// <param name="conditions">The stage (its suction temperature sets the humidity held).</param>
+    /// <param name="quantity">Which discharge temperature reaches the limit.</param>
+    /// <param name="limit">The limit.</param>
+    /// <param name="realGas">True to solve each trial with Peng-Robinson, false for the ideal gas.</param>
+    /// <returns>The suction temperature, or why there is none.</returns>
+    public static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas)
+    {
+        ArgumentNullException.ThrowIfNull(gas);
+        var rh = HumidGas.RelativeHumidity(gas, conditions.SuctionTemperature, conditions.SuctionPressure);
+        var dry = HumidGas.Dry(gas);
+        var c = conditions;
+        var tLim = limit.Kelvins;
+        double? At(double t1)
+        {
+            try
+            {
+                var trial = HumidGas.FromRelativeHumidity(dry, rh, Temperature.FromKelvins(t1), c.SuctionPressure);
+                var sc = c with { SuctionTemperature = Temperature.FromKelvins(t1) };
+                if (realGas)
+                {
+                    var r = RealGasStageSolver.Solve(RealGasMixture.Create(trial), sc);
+                    return Pick(quantity, r.IsentropicDischargeTemperature, r.EstimatedDischargeTemperature, r.EstimatedUpperBound);
+                }
+
+                var i = StageSolver.Solve(trial, sc);
+                return Pick(quantity, i.IsentropicDischargeTemperature, i.EstimatedDischargeTemperature, i.EstimatedUpperBound);
+            }
+            catch (ThermoInputException)
+            {
+                return null;
+            }
+        }
+
+        if (conditions.SuctionTemperature.Kelvins >= tLim)
+        {
+            return new(EnvelopeStatus.AlreadyExceeded, null, "The suction temperature is already at or above the limit.");
+        }
+
+        var lo = Math.Max(WaterSaturation.MinimumKelvin, dry.MinimumKelvin);
+        var hi = Math.Min(tLim, Math.Min(dry.MaximumKelvin, WaterSaturation.CriticalKelvin));
+        var fLo = At(lo) - tLim;
+        for (var k = 0; fLo is null && k < 60 && lo < hi - 0.5; k++)
+        {
+            lo += 0.1 * (hi - lo);
+            fLo = At(lo) - tLim;
+        }
+
+        if (fLo is not { } fl)
+        {
+            return new(EnvelopeStatus.NotReachableInRange, null, "No suction temperature in the data's range gives a gas-phase answer at this humidity.");
+        }
+
+        if (fl >= 0)
+        {
+            return new(EnvelopeStatus.AlreadyExceeded, null, string.Create(CultureInfo.InvariantCulture,
+                $"Already exceeded even at the lowest suction temperature ({lo - 273.15:0.#} °C) at this relative humidity ({rh:0.###})."));
+        }
+
+        // Bisection with a regula-falsi step: f(lo) < 0; a trial above the limit or without an answer (steam, liquid) is "high".
+        var fHi = At(hi) - tLim;
+        if (fHi is { } fh0 && fh0 < 0)
+        {
+            return new(EnvelopeStatus.NotReachableInRange, null, "The limit is not reached below the limit itself at this humidity.");
+        }
+
+        for (var i = 0; i < MaxIterations && hi - lo > 1e-7; i++)
+        {
+            var x = fHi is { } fh && fh - fl > 0 ? hi - (fh * (hi - lo) / (fh - fl)) : 0.5 * (lo + hi);
+            if (!(x > lo + (0.01 * (hi - lo)) && x < hi - (0.01 * (hi - lo))))
+            {
+                x = 0.5 * (lo + hi);
+            }
+
+            var fx = At(x) - tLim;
+            if (fx is { } v && v < 0)
+            {
+                lo = x;
+                fl = v;
+            }
+            else
+            {
+                hi = x;
+                fHi = fx;
+            }
+        }
+
+        return new(EnvelopeStatus.Found, Temperature.FromKelvins(0.5 * (lo + hi)), string.Create(CultureInfo.InvariantCulture,
+            $"Relative humidity held at {rh:0.###} as the suction temperature moves."));
+    }
+
+    private static double Pick(TemperatureQuantity quantity, Temperature isentropic, Temperature estimated, Temperature upper) => quantity switch
+    {
+        TemperatureQuantity.Isentropic => isentropic.Kelvins,
+        TemperatureQuantity.Estimated => estimated.Kelvins,
+        _ => upper.Kelvins,
+    };
+}
