@@ -89,6 +89,10 @@ function tag(kind, word) {
 
 function governingBlock(stage) {
   const governing = stage.governing;
+  if (stage.notEvaluated) {
+    return h("div", { class: "governing" }, h("p", {}, "No temperature limit governs: the stage was not evaluated (see above)."));
+  }
+
   if (!governing) {
     return h("div", { class: "governing" }, h("p", {}, "No violation-level limit applied to this stage, so none governs."));
   }
@@ -213,6 +217,27 @@ function realGasRows(realGas, properties) {
   return rows;
 }
 
+function phaseRows(phase) {
+  if (!phase) {
+    return [];
+  }
+
+  const rows = [row("Phase at suction / discharge", `${phase.suction} / ${phase.discharge || "not evaluated"}`, { "data-value": "phase" })];
+  if (phase.hydrocarbonDewPoint) {
+    const superheat = phase.superheatAboveHydrocarbonDewPoint ? ` (suction ${q(phase.superheatAboveHydrocarbonDewPoint)} above it)` : "";
+    rows.push(row("Hydrocarbon dew point at suction pressure", `${q(phase.hydrocarbonDewPoint)}${superheat}`));
+  } else if (phase.hydrocarbonDewPointNote) {
+    rows.push(row("Hydrocarbon dew point at suction pressure", phase.hydrocarbonDewPointNote));
+  }
+
+  if (phase.waterDewPoint) {
+    const superheat = phase.superheatAboveWaterDewPoint ? ` (suction ${q(phase.superheatAboveWaterDewPoint)} above it)` : "";
+    rows.push(row("Water dew point at suction pressure", `${q(phase.waterDewPoint)}${superheat}`));
+  }
+
+  return rows;
+}
+
 function stageSection(stage, count) {
   const dt = stage.dischargeTemperature;
   const title = count > 1 ? `Stage ${stage.index + 1}` : "The stage";
@@ -223,6 +248,15 @@ function stageSection(stage, count) {
   const efficiencyWords = efficiency.source === "rule-default"
     ? `${formatNumber(efficiency[efficiency.given])} ${efficiency.given}: the compressor type's default from the rule file`
     : `${formatNumber(efficiency[efficiency.given])} ${efficiency.given}, as entered`;
+  if (!dt) {
+    // Liquid or two-phase at suction: the stage has no discharge temperatures; say why, then the phase and findings.
+    section.append(h("p", { class: "not-evaluated", "data-value": "not-evaluated" }, stage.notEvaluated || "Not evaluated."));
+    section.append(h("table", { class: "values" },
+      h("caption", { class: "visually-hidden" }, `${title}: phase`),
+      h("tbody", {},
+        row("Suction (absolute)", `${q(stage.suction.pressureAbsolute)}, ${q(stage.suction.temperature)}`),
+        ...phaseRows(stage.phase))));
+  } else {
   section.append(h("table", { class: "values" },
     h("caption", { class: "visually-hidden" }, `${title}: predicted temperatures`),
     h("tbody", {},
@@ -235,7 +269,9 @@ function stageSection(stage, count) {
       row("Pressure ratio", formatNumber(stage.pressureRatio)),
       row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }),
       row("Gas model of these temperatures", stage.method === "real-gas" ? "real gas (Peng-Robinson)" : "ideal gas", { "data-value": "method" }),
-      ...realGasRows(stage.realGas, stage.properties))));
+      ...realGasRows(stage.realGas, stage.properties),
+      ...phaseRows(stage.phase))));
+  }
 
   section.append(governingBlock(stage));
   const chart = drawStageChart(stage);
