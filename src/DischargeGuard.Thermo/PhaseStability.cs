@@ -59,8 +59,9 @@ public readonly record struct HydrocarbonDewPoint(DewPointStatus Status, double 
 /// the gas holds no water or the point lies below 200 K.
 /// </param>
 /// <param name="MinimumReducedTangentPlaneDistance">
-/// The lowest tangent-plane distance found over the trial phases' stationary points, per mole of trial phase over RT
-/// (dimensionless): negative = unstable (a second phase lowers the Gibbs energy), 0 when every trial went back to the feed.
+/// The lowest tangent-plane distance of the non-trivial stationary points found, per mole of trial phase over RT
+/// (dimensionless): negative = unstable (a second phase lowers the Gibbs energy), positive = stable with that margin
+/// against the nearest candidate phase, 0 when every trial went back to the feed (or for a pure component).
 /// </param>
 /// <param name="IncipientPhaseLiquidLike">When unstable: true if the phase that forms is liquid-like (drop-out from a gas).</param>
 /// <param name="TemperatureKelvin">The checked temperature, K (the superheats are measured from it).</param>

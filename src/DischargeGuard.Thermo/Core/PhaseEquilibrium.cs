@@ -22,6 +22,12 @@ internal sealed class PhaseEquilibrium
     private const double Sqrt2 = 1.4142135623730950488;
     private const int MaxIterations = 300;
 
+    /// <summary>Convergence of the substitution: Σ(Δ ln W_i)² below this (|Δ ln W| ≈ 1e-9).</summary>
+    public const double FineTolerance = 1e-18;
+
+    /// <summary>Looser convergence for the scan steps, which need only the sign and a warm start.</summary>
+    public const double ScanTolerance = 1e-12;
+
     private readonly PengRobinsonMixture _eos;
     private readonly double[] _lnZ;
     private readonly int _heaviest;
@@ -120,7 +126,7 @@ internal sealed class PhaseEquilibrium
     /// first trial whose modified tangent-plane distance tm* turns negative ends the test (its value is then an upper
     /// bound of the minimum). <paramref name="incipient"/> receives the composition of the lowest stationary point found.
     /// </summary>
-    public StabilityOutcome Test(double tKelvin, double pPascals, bool allTrials, bool stopWhenUnstable, ReadOnlySpan<double> warmStart, Span<double> incipient)
+    public StabilityOutcome Test(double tKelvin, double pPascals, bool allTrials, bool stopWhenUnstable, ReadOnlySpan<double> warmStart, Span<double> incipient, double tolerance = FineTolerance)
     {
         var n = Count;
         Span<double> aij = n <= MaxStack ? stackalloc double[n * n] : new double[n * n];
@@ -145,18 +151,25 @@ internal sealed class PhaseEquilibrium
         }
 
         WilsonK(tKelvin, pPascals, wilson);
-        var minTpd = 0.0;
+        var minTpd = double.PositiveInfinity;
         var found = false;
         var incipientLiquid = false;
         var trials = 3 + (allTrials ? n : 2);
         for (var k = 0; k < trials; k++)
         {
+            // The scan (not allTrials) looks for liquid dropping out of a gas-like feed: a warm start from the last
+            // stationary point that stays non-trivial is enough; otherwise the liquid-like and heaviest-component trials.
+            if (!allTrials && (k == 2 || k == 4 || (k > 0 && found)))
+            {
+                continue;
+            }
+
             if (!InitialTrial(k, n, z, wilson, warmStart, allTrials, trial))
             {
                 continue;
             }
 
-            var tpd = Substitute(aij, bi, d, z, rt, pPascals, trial, scratch, stopWhenUnstable, out var trivial, out var trialLiquid);
+            var tpd = Substitute(aij, bi, d, z, rt, pPascals, trial, scratch, stopWhenUnstable, tolerance, out var trivial, out var trialLiquid);
             if (!trivial && tpd < minTpd)
             {
                 minTpd = tpd;
@@ -175,7 +188,7 @@ internal sealed class PhaseEquilibrium
             best.CopyTo(incipient);
         }
 
-        return new StabilityOutcome(minTpd < UnstableBelow, minTpd, feedLiquid, zFeed, found && incipientLiquid, found);
+        return new StabilityOutcome(found && minTpd < UnstableBelow, found ? minTpd : 0, feedLiquid, zFeed, found && incipientLiquid, found);
     }
 
     /// <summary>
@@ -190,7 +203,7 @@ internal sealed class PhaseEquilibrium
         var haveWarm = false;
         var top = 1.05 * MaximumCriticalTemperatureKelvin;
         var wilsonDew = WilsonDewTemperature(pPascals);
-        var t = double.IsNaN(wilsonDew) ? top : Math.Min(top, Math.Max(wilsonDew + 40, 1.25 * wilsonDew));
+        var t = double.IsNaN(wilsonDew) ? top : Math.Min(top, Math.Max(wilsonDew + 30, 1.1 * wilsonDew));
         t = Math.Max(t, SearchFloorKelvin);
 
         // Start where the feed is stable; climb if the first guess is already inside the envelope.
@@ -220,7 +233,7 @@ internal sealed class PhaseEquilibrium
                 return new DewPointSearch(DewPointOutcome.NotFound, double.NaN);
             }
 
-            var r = Test(lo, pPascals, false, true, haveWarm ? warm : default, next);
+            var r = Test(lo, pPascals, false, true, haveWarm ? warm : default, next, ScanTolerance);
             if (r.FoundStationaryPoint)
             {
                 next.CopyTo(warm);
@@ -229,23 +242,7 @@ internal sealed class PhaseEquilibrium
 
             if (r.Unstable)
             {
-                // Bisect between the unstable lo and the stable hi.
-                while (hi - lo > toleranceKelvin)
-                {
-                    var mid = 0.5 * (lo + hi);
-                    var m = Test(mid, pPascals, false, true, warm, next);
-                    if (m.Unstable)
-                    {
-                        lo = mid;
-                        next.CopyTo(warm);
-                    }
-                    else
-                    {
-                        hi = mid;
-                    }
-                }
-
-                return new DewPointSearch(DewPointOutcome.Found, 0.5 * (lo + hi));
+                return new DewPointSearch(DewPointOutcome.Found, Refine(lo, hi, pPascals, toleranceKelvin, warm, next));
             }
 
             if (r.FeedLiquidLike)
@@ -256,6 +253,54 @@ internal sealed class PhaseEquilibrium
 
             hi = lo;
         }
+    }
+
+    // The tangent-plane distance of the liquid-like stationary point is smooth in T and crosses 0 at the dew point:
+    // regula falsi with the Illinois modification on it, falling back to bisection where the trial returns to the feed.
+    private double Refine(double lo, double hi, double pPascals, double toleranceKelvin, Span<double> warm, Span<double> next)
+    {
+        var fLo = Test(lo, pPascals, false, false, warm, next).MinimumReducedDistance;
+        next.CopyTo(warm);
+        var fHi = double.NaN;
+        var side = 0;
+        var previous = double.NaN;
+        for (var i = 0; i < 60 && hi - lo > toleranceKelvin; i++)
+        {
+            var t = double.IsNaN(fHi) || !(fLo < 0) || !(fHi > 0) ? 0.5 * (lo + hi) : lo + ((hi - lo) * fLo / (fLo - fHi));
+            var r = Test(t, pPascals, false, false, warm, next);
+            if (r.Unstable)
+            {
+                lo = t;
+                fLo = r.MinimumReducedDistance;
+                next.CopyTo(warm);
+                if (side == -1 && !double.IsNaN(fHi))
+                {
+                    fHi /= 2;
+                }
+
+                side = -1;
+            }
+            else
+            {
+                hi = t;
+                fHi = r.FoundStationaryPoint && r.MinimumReducedDistance > 0 ? r.MinimumReducedDistance : double.NaN;
+                if (side == 1)
+                {
+                    fLo /= 2;
+                }
+
+                side = 1;
+            }
+
+            if (Math.Abs(t - previous) < 0.5 * toleranceKelvin)
+            {
+                return t;
+            }
+
+            previous = t;
+        }
+
+        return 0.5 * (lo + hi);
     }
 
     /// <summary>
@@ -472,13 +517,14 @@ internal sealed class PhaseEquilibrium
     /// on a negative value); on return <paramref name="w"/> holds the normalised composition.
     /// </summary>
     private static double Substitute(
-        ReadOnlySpan<double> aij, ReadOnlySpan<double> bi, ReadOnlySpan<double> d, ReadOnlySpan<double> z, double rt, double p, Span<double> w, Span<double> scratch, bool stopWhenUnstable, out bool trivial, out bool liquidLike)
+        ReadOnlySpan<double> aij, ReadOnlySpan<double> bi, ReadOnlySpan<double> d, ReadOnlySpan<double> z, double rt, double p, Span<double> w, Span<double> scratch, bool stopWhenUnstable, double tolerance, out bool trivial, out bool liquidLike)
     {
         var n = z.Length;
         Span<double> lnW = stackalloc double[n];
         Span<double> lnPhi = stackalloc double[n];
         Span<double> delta = stackalloc double[n];
         Span<double> previous = stackalloc double[n];
+        Span<double> big = stackalloc double[n];
         for (var i = 0; i < n; i++)
         {
             lnW[i] = Math.Log(Math.Max(w[i], 1e-300));
@@ -493,13 +539,14 @@ internal sealed class PhaseEquilibrium
             for (var i = 0; i < n; i++)
             {
                 lnW[i] = Math.Min(lnW[i], 50);
-                sumW += Math.Exp(lnW[i]);
+                big[i] = Math.Exp(lnW[i]);
+                sumW += big[i];
             }
 
             double distance = 0;
             for (var i = 0; i < n; i++)
             {
-                w[i] = Math.Exp(lnW[i]) / sumW;
+                w[i] = big[i] / sumW;
                 var dz = w[i] - z[i];
                 distance += dz * dz;
             }
@@ -510,8 +557,7 @@ internal sealed class PhaseEquilibrium
             double tm = 1, err = 0, dot = 0, prevDot = 0;
             for (var i = 0; i < n; i++)
             {
-                var wi = Math.Exp(lnW[i]);
-                tm += wi * (lnW[i] + lnPhi[i] - d[i] - 1);
+                tm += big[i] * (lnW[i] + lnPhi[i] - d[i] - 1);
                 var next = d[i] - lnPhi[i];
                 delta[i] = next - lnW[i];
                 err += delta[i] * delta[i];
@@ -530,7 +576,7 @@ internal sealed class PhaseEquilibrium
                 return tm;
             }
 
-            if (err < 1e-22)
+            if (err < tolerance)
             {
                 result = -Math.Log(sumW);
                 return result;
@@ -554,7 +600,7 @@ internal sealed class PhaseEquilibrium
 
 /// <summary>The outcome of one stability test.</summary>
 /// <param name="Unstable">A trial phase with negative tangent-plane distance was found.</param>
-/// <param name="MinimumReducedDistance">Lowest reduced tangent-plane distance found (0 if every trial went to the feed).</param>
+/// <param name="MinimumReducedDistance">Lowest reduced tangent-plane distance of the non-trivial stationary points found (0 if every trial went to the feed).</param>
 /// <param name="FeedLiquidLike">The feed's chosen root is liquid-like.</param>
 /// <param name="FeedZ">Z of the feed's chosen root.</param>
 /// <param name="IncipientLiquidLike">The lowest stationary point's root is liquid-like.</param>
