@@ -234,7 +234,7 @@ public abstract class PlanningEndpointsContract(ServiceFactory fixture)
     public async Task Trend_WhenDeviationRisesTwoKelvinPerEvaluationAtSteadyPressures_NewestCarriesTheTrendWarning()
     {
         // Deviations 1, 3, 5, 7, 9 K: a straight line, so the fitted rise over five evaluations is 8 K (above R-DEVIATION-TREND's 5 K),
-        // while each deviation stays below R-DEVIATION's max(10 K, 5 % of T) on its own.
+        // while each deviation stays below R-DEVIATION's 10 K limit on its own (the newest, 9 K, is inside its 5 K note band: info).
         var estimated = await EstimatedAsync("K-605A");
         JsonElement last = default;
         foreach (var deviation in new[] { 1.0, 3.0, 5.0, 7.0, 9.0 })
@@ -246,7 +246,7 @@ public abstract class PlanningEndpointsContract(ServiceFactory fixture)
         Assert.Equal("warning", trend.At("severity").GetString());
         AssertEx.Near(8.0, AssertEx.Quantity(trend.At("value"), "K"), 0.01, "fitted rise");
         Assert.Equal("review", last.At("verdict").GetString());
-        Assert.DoesNotContain(Findings(last), f => f.At("ruleId").GetString() == "R-DEVIATION" && f.At("severity").GetString() != "pass");
+        Assert.DoesNotContain(Findings(last), f => f.At("ruleId").GetString() == "R-DEVIATION" && f.At("severity").GetString() is "warning" or "violation");
     }
 
     [SkippableFact]

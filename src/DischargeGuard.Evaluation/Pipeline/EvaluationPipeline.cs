@@ -112,7 +112,8 @@ public sealed class EvaluationPipeline
             // Liquid never reaches a compressor unflagged, whatever the method: the phase at suction (after any cooler and
             // its separator) decides whether the stage can be evaluated at all.
             var separated = input.Intercooler is not null;
-            var suctionPhase = StagePhases.AtSuction(s.Gas, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, separated);
+            var phaseModel = StagePhases.Prepare(s.Gas);
+            var suctionPhase = StagePhases.AtSuction(phaseModel, s.Gas, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, separated);
             facts = facts with { SuctionPhase = suctionPhase.Phase, SuctionSuperheat = suctionPhase.SuperheatAboveHydrocarbonDewPoint };
             if (suctionPhase.Phase is StagePhase.TwoPhase or StagePhase.Liquid)
             {
@@ -129,7 +130,7 @@ public sealed class EvaluationPipeline
             }
 
             var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
-            var idealDischarge = StagePhases.AtDischarge(s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
+            var idealDischarge = StagePhases.AtDischarge(phaseModel, s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
             var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
                 ? new RealGasStage(false, null, null, null, "The real gas was not computed: the discharge state lies inside the two-phase region.")
                 : RealGasOf(s, conditions, method, i, stagesIn);
@@ -151,7 +152,7 @@ public sealed class EvaluationPipeline
                 }
             }
 
-            var dischargePhase = realGas.Used ? StagePhases.AtDischarge(s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
+            var dischargePhase = realGas.Used ? StagePhases.AtDischarge(phaseModel, s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
             facts = facts with { DischargePhase = dischargePhase };
             var envelopeGas = realGas.Used ? realGas.Mixture : null;
             var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas));

@@ -19,25 +19,67 @@ internal sealed record SuctionPhase(StagePhase? Phase, Temperature? HydrocarbonD
 /// </summary>
 internal static class StagePhases
 {
+    /// <summary>The stage gas's phase model, built once for its suction and discharge checks; null when a species has no Peng-Robinson constants.</summary>
+    /// <param name="gas">The stage's gas.</param>
+    public static PhaseStabilityModel? Prepare(GasMixture gas)
+    {
+        try
+        {
+            return PhaseStability.Prepare(gas);
+        }
+        catch (InvalidCompositionException)
+        {
+            return null;
+        }
+    }
+
+    private static Temperature? WaterDewPoint(GasMixture gas, Pressure pressure)
+    {
+        try
+        {
+            return HumidGas.DewPoint(gas, pressure);
+        }
+        catch (ThermoInputException)
+        {
+            return null;
+        }
+    }
+
     /// <summary>Relative humidity read as saturated (the water left after a cooler's drop-out is exactly saturated, up to rounding).</summary>
     private const double SaturatedHumidity = 1 - 1e-6;
 
     /// <summary>The phase at suction.</summary>
+    /// <param name="model">The gas's phase model from <see cref="Prepare"/>.</param>
     /// <param name="gas">The stage's gas (with any water left after an upstream cooler).</param>
     /// <param name="temperature">Suction temperature.</param>
     /// <param name="pressure">Suction pressure, absolute.</param>
     /// <param name="separatedUpstream">True when a cooler and its separator feed the stage: condensate formed there is removed.</param>
-    public static SuctionPhase AtSuction(GasMixture gas, Temperature temperature, Pressure pressure, bool separatedUpstream)
+    public static SuctionPhase AtSuction(PhaseStabilityModel? model, GasMixture gas, Temperature temperature, Pressure pressure, bool separatedUpstream)
     {
+        if (model is null)
+        {
+            // A species without Peng-Robinson constants: the phase cannot be decided, and the rules that need it say so.
+            return new SuctionPhase(null, null, "not computed: a species has no Peng-Robinson constants", WaterDewPoint(gas, pressure), null);
+        }
+
         PhaseCheck check;
         try
         {
-            check = PhaseStability.Check(gas, temperature, pressure);
+            check = model.Check(temperature, pressure);
         }
-        catch (InvalidCompositionException)
+        catch (ThermoInputException) when (temperature.Kelvins > PhaseStability.MaximumKelvin)
         {
-            // A species without Peng-Robinson constants: the phase cannot be decided, and the rules that need it say so.
-            return new SuctionPhase(null, null, "not computed: a species has no Peng-Robinson constants", HumidGas.DewPoint(gas, pressure), null);
+            // Far above every critical temperature: a gas. (The gas data and the envelope refuse such states on their own.)
+            return new SuctionPhase(StagePhase.Gas, null, "above the stability test's range: a gas", null, null);
+        }
+        catch (ThermoInputException)
+        {
+            return new SuctionPhase(null, null, "not computed: the state is outside the stability test's range", null, null);
+        }
+        catch (InvalidOperationException)
+        {
+            // Only water: judged by its saturation alone.
+            return new SuctionPhase(HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity ? StagePhase.Saturated : StagePhase.Gas, null, "no gas besides water", WaterDewPoint(gas, pressure), null);
         }
 
         var waterSaturated = HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity;
@@ -65,15 +107,26 @@ internal static class StagePhases
     }
 
     /// <summary>The phase at the predicted discharge state; null when it cannot be decided.</summary>
+    /// <param name="model">The gas's phase model from <see cref="Prepare"/>.</param>
     /// <param name="gas">The stage's gas.</param>
     /// <param name="temperature">Predicted discharge temperature.</param>
     /// <param name="pressure">Discharge pressure, absolute.</param>
-    public static StagePhase? AtDischarge(GasMixture gas, Temperature temperature, Pressure pressure)
+    public static StagePhase? AtDischarge(PhaseStabilityModel? model, GasMixture gas, Temperature temperature, Pressure pressure)
     {
+        if (model is null)
+        {
+            return null;
+        }
+
+        if (temperature.Kelvins > PhaseStability.MaximumKelvin)
+        {
+            return StagePhase.Gas;
+        }
+
         try
         {
             // Hydrocarbons by the stability test; water by its saturation at the discharge state.
-            var check = PhaseStability.Check(gas, temperature, pressure);
+            var check = model.Check(temperature, pressure);
             return check.HydrocarbonPhase switch
             {
                 FluidPhase.TwoPhase => StagePhase.TwoPhase,
@@ -81,9 +134,9 @@ internal static class StagePhases
                 _ => HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity ? StagePhase.Saturated : StagePhase.Gas,
             };
         }
-        catch (InvalidCompositionException)
+        catch (InvalidOperationException)
         {
-            return null;
+            return HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity ? StagePhase.Saturated : StagePhase.Gas;
         }
         catch (ThermoInputException)
         {
