@@ -71,7 +71,7 @@ public static partial class GateApp
         return root;
     }
 
-    [GeneratedRegex("^[0-9a-fA-F]{64}$", RegexOptions.CultureInvariant)]
+    [GeneratedRegex(@"^[0-9a-fA-F]{64}\z", RegexOptions.CultureInvariant)]
     internal static partial Regex DigestPattern();
 
     /// <summary>Writes UTF-8 bytes (a JSON or XML report) to a text writer.</summary>
