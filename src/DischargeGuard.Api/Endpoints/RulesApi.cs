@@ -44,21 +44,21 @@ public static partial class RulesApi
     [LoggerMessage(EventId = 31, Level = LogLevel.Warning, Message = "Rule reload requested by {Caller} refused with {ErrorCount} errors; {RuleDigest} stays in force")]
     private static partial void LogReloadRefused(ILogger logger, int errorCount, string ruleDigest, string caller);
 
-    internal static Ok<RulesDocument> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
+    internal static Results<Ok<RulesDocument>, ValidationProblem> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
     {
         var snapshot = provider.Current;
-        EffectiveRuleSet set;
-        try
+        // The same resolution as an evaluation: a near miss of a layer id, or an asset with another site, is refused, never
+        // answered with a set that silently lacks the layer.
+        var resolution = snapshot.ResolveRequest(NullIfEmpty(site), NullIfEmpty(asset));
+        if (resolution.Refusal is { } refused)
         {
-            set = snapshot.Resolve(site, asset);
-        }
-        catch (ArgumentOutOfRangeException)
-        {
-            set = snapshot.Resolve(null, asset);
+            return Problems.Validation(new Dictionary<string, string[]> { [refused.Field == LayerIdField.Site ? "site" : "asset"] = [refused.Message] });
         }
 
-        return TypedResults.Ok(RulesDocument.From(set, snapshot, provider.LastError));
+        return TypedResults.Ok(RulesDocument.From(resolution, snapshot, provider.LastError));
     }
+
+    private static string? NullIfEmpty(string? value) => string.IsNullOrEmpty(value) ? null : value;
 
     internal static async Task<Results<Ok<RuleReloadResult>, ProblemHttpResult>> ReloadRules(
         HttpContext http, IRuleSetProvider provider, ILoggerFactory loggers, CancellationToken cancellationToken)
@@ -131,7 +131,19 @@ public sealed record RulesDocument(
     IReadOnlyList<RuleSummaryDto> Rules,
     IReadOnlyList<DisabledRuleDto> Disabled)
 {
-    internal static RulesDocument From(EffectiveRuleSet set, RuleSetSnapshot snapshot, ReloadResult? lastError) => new(
+    internal static RulesDocument From(LayerResolution resolution, RuleSetSnapshot snapshot, ReloadResult? lastError) => From(resolution.Set!, snapshot, lastError) with
+    {
+        Applied = resolution.Applied,
+        Unmatched = resolution.Unmatched.Select(u => new Evaluation.Contract.UnmatchedLayerDto(u.Field == LayerIdField.Site ? "site" : "asset", u.Id, u.NearestLayer, u.Message)).ToArray(),
+    };
+
+    /// <summary>The layers applied in a plain sentence, as an evaluation's <c>ruleSet.applied</c> says it.</summary>
+    public string Applied { get; init; } = string.Empty;
+
+    /// <summary>The site or asset asked for that has no layer, with the nearest layer not applied.</summary>
+    public IReadOnlyList<Evaluation.Contract.UnmatchedLayerDto> Unmatched { get; init; } = [];
+
+    private static RulesDocument From(EffectiveRuleSet set, RuleSetSnapshot snapshot, ReloadResult? lastError) => new(
         set.Digest,
         set.Layers.Select(l => new RuleLayerDto(l.Name, l.File, l.Digest)).ToArray(),
         snapshot.LoadedAt,

@@ -119,7 +119,12 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
             {
                 var layer = RuleFileParser.Parse(file.Name, Decode(file.Bytes!), file.Kind);
                 var expectedId = Path.GetFileNameWithoutExtension(file.Name);
-                if (file.Kind != LayerKind.Default && layer.Id != expectedId)
+                if (file.Kind != LayerKind.Default && !LayerIds.IsWellFormed(expectedId))
+                {
+                    errors.Add(new RuleFileError(RuleFileErrorKind.BadValue, file.Name, 0, 0, "layer.id",
+                        $"The file name '{expectedId}' is not a layer id: letters, digits, '-', '_' or '.', beginning and ending with a letter or digit (no trailing space or dot)."));
+                }
+                else if (file.Kind != LayerKind.Default && layer.Id != expectedId)
                 {
                     errors.Add(new RuleFileError(RuleFileErrorKind.BadValue, file.Name, 0, 0, "layer.id", $"The layer id '{layer.Id}' differs from the file name '{expectedId}'."));
                 }
