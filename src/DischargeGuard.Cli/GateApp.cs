@@ -66,7 +66,7 @@ public static partial class GateApp
         root.Subcommands.Add(CheckCommand.Create(stdout, stderr, environment, envelope: false));
         root.Subcommands.Add(CheckCommand.Create(stdout, stderr, environment, envelope: true));
         var rules = new Command("rules", "Rule files.");
-        rules.Subcommands.Add(RulesCheckCommand.Create(stdout, stderr));
+        rules.Subcommands.Add(RulesCheckCommand.Create(stdout, stderr, environment.ShippedRulesDirectory));
         root.Subcommands.Add(rules);
         return root;
     }

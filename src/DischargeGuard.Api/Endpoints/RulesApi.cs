@@ -86,9 +86,20 @@ public static partial class RulesApi
             });
     }
 
-    internal static async Task<Ok<RuleCheckResult>> CheckRuleFile(HttpRequest request, [FromQuery] string? name, CancellationToken cancellationToken)
+    internal static async Task<Results<Ok<RuleCheckResult>, ValidationProblem>> CheckRuleFile(
+        HttpRequest request, [FromQuery] string? name, IRuleSetProvider provider, TimeProvider time, CancellationToken cancellationToken)
     {
-        var fileName = string.IsNullOrWhiteSpace(name) ? "candidate.yaml" : Path.GetFileName(name);
+        // A place in the rules directory (sites/marlow-fen.yaml), or a bare file name whose own kind and id give the place.
+        var fileName = string.IsNullOrWhiteSpace(name) ? null : name;
+        if (fileName is not null && (fileName.Contains('/', StringComparison.Ordinal)
+                ? RuleSetValidation.KindOfPlace(fileName) is null
+                : fileName.Contains('\\', StringComparison.Ordinal) || fileName is "." or ".." || !fileName.EndsWith(".yaml", StringComparison.Ordinal)))
+        {
+            return Problems.Validation(new Dictionary<string, string[]>
+            {
+                ["name"] = ["Give the candidate's place in the rules directory (default.yaml, sites/<site-id>.yaml, assets/<asset-tag>.yaml) or a bare file name ending .yaml."],
+            });
+        }
         using var reader = new StreamReader(request.Body, new UTF8Encoding(false, true));
         var buffer = new char[MaxRuleFileBytes + 1];
         int length;
@@ -106,15 +117,14 @@ public static partial class RulesApi
             throw new BadHttpRequestException("Rule file too large.", StatusCodes.Status413PayloadTooLarge);
         }
 
-        try
+        // Merged over the active layers by the same routine as the directory loader and the gate's rules check.
+        var check = RuleSetValidation.CheckCandidate(provider.Current, fileName, new string(buffer, 0, length), time.GetUtcNow());
+        return TypedResults.Ok(new RuleCheckResult(check.Valid, check.Layer?.Name, check.Layer?.Digest, check.Errors.Select(RuleErrorDto.From).ToArray())
         {
-            var layer = RuleFileParser.Parse(fileName, new string(buffer, 0, length));
-            return TypedResults.Ok(new RuleCheckResult(true, layer.Name, CanonicalForm.Digest(CanonicalForm.OfLayer(layer)), []));
-        }
-        catch (RuleFileException ex)
-        {
-            return TypedResults.Ok(new RuleCheckResult(false, null, null, ex.Errors.Select(RuleErrorDto.From).ToArray()));
-        }
+            Place = check.Place,
+            MergedDigest = check.Merged?.Digest,
+            MergedLayers = check.Merged?.Layers.Select(l => l.Name).ToArray(),
+        });
     }
 }
 
@@ -200,5 +210,19 @@ public sealed record RuleSummaryDto(string Id, string Title, IReadOnlyList<strin
 /// <summary>A rule disabled by a layer.</summary>
 public sealed record DisabledRuleDto(string RuleId, string Layer, string Reason);
 
-/// <summary>The result of checking a candidate rule file.</summary>
-public sealed record RuleCheckResult(bool Valid, string? Layer, string? Digest, IReadOnlyList<RuleErrorDto> Errors);
+/// <summary>The result of checking a candidate rule file merged over the active layers.</summary>
+/// <param name="Valid">Whether the candidate parses and every merge of the set with it in place is valid.</param>
+/// <param name="Layer">The candidate layer's name (default, site:&lt;id&gt;, asset:&lt;tag&gt;), when it parses.</param>
+/// <param name="Digest">The candidate layer's own digest, when it parses.</param>
+/// <param name="Errors">Every error with file, line, column and key.</param>
+public sealed record RuleCheckResult(bool Valid, string? Layer, string? Digest, IReadOnlyList<RuleErrorDto> Errors)
+{
+    /// <summary>The place the candidate was checked at (default.yaml, sites/&lt;id&gt;.yaml, assets/&lt;tag&gt;.yaml).</summary>
+    public string? Place { get; init; }
+
+    /// <summary>The digest of the candidate's own merge (an evaluation naming its site or asset would carry it), when valid.</summary>
+    public string? MergedDigest { get; init; }
+
+    /// <summary>The layers of that merge, lowest first, when valid.</summary>
+    public IReadOnlyList<string>? MergedLayers { get; init; }
+}
