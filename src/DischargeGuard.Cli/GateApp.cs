@@ -67,6 +67,7 @@ public static partial class GateApp
         root.Subcommands.Add(CheckCommand.Create(stdout, stderr, environment, envelope: true));
         var rules = new Command("rules", "Rule files.");
         rules.Subcommands.Add(RulesCheckCommand.Create(stdout, stderr, environment.ShippedRulesDirectory));
+        rules.Subcommands.Add(RulesShowCommand.Create(stdout, stderr, environment.ShippedRulesDirectory));
         root.Subcommands.Add(rules);
         return root;
     }

@@ -117,4 +117,50 @@ public sealed class LayerSelectionEndpointTests(ServiceFactory factory) : IClass
             Assert.Equal(JsonValueKind.Array, body.GetProperty("layers").ValueKind);
         }
     }
+
+    [Fact]
+    public async Task GetRules_ForSiteAndAsset_ShowsEachLimitInForceWithItsLayerBasisAndChain()
+    {
+        var (response, body) = await factory.GetJsonAsync("/v1/rules?site=marlow-fen&asset=C-204B");
+        using (response)
+        {
+            Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+            var rule = body.GetProperty("rules").EnumerateArray().Single(r => r.GetProperty("id").GetString() == "R-FIELD-HC");
+
+            // rules/assets/C-204B.yaml: 170 °C, band 15 K (the invented cylinder maker's limit); rules/default.yaml: 177 °C, 12 K.
+            Assert.Equal(170, AssertEx.Quantity(rule.GetProperty("limit"), "°C", "limit"), 3);
+            Assert.Equal(15, AssertEx.Quantity(rule.GetProperty("warningBand"), "K", "warningBand"), 3);
+            Assert.Equal("upper", rule.GetProperty("direction").GetString());
+            Assert.Equal("asset:C-204B", rule.GetProperty("limitLayer").GetString());
+            Assert.Contains("recip-packaged-lubricated", rule.At("appliesTo.text").GetString(), StringComparison.Ordinal);
+            Assert.Equal("hydrocarbon", rule.At("appliesTo.serviceClasses[0]").GetString());
+            var basis = rule.GetProperty("basis").GetString()!;
+            Assert.Contains("cylinder manufacturer", basis, StringComparison.Ordinal);
+            Assert.DoesNotContain("177", basis, StringComparison.Ordinal);
+            var chain = rule.GetProperty("chain");
+            Assert.Equal(2, chain.GetArrayLength());
+            Assert.Equal("default", chain[0].GetProperty("layer").GetString());
+            Assert.Contains("177 °C", chain[0].GetProperty("basis").GetString(), StringComparison.Ordinal);
+            Assert.Equal("assets/C-204B.yaml", chain[1].GetProperty("file").GetString());
+            Assert.StartsWith("tightened the limit from 177 °C to 170 °C", chain[1].GetProperty("change").GetString(), StringComparison.Ordinal);
+
+            var ratio = body.GetProperty("rules").EnumerateArray().Single(r => r.GetProperty("id").GetString() == "R-RATIO");
+            Assert.Equal(4.5, AssertEx.Quantity(ratio.GetProperty("limit"), "1", "ratio limit"), 6);
+            Assert.Contains("PR-17", ratio.GetProperty("reason").GetString(), StringComparison.Ordinal);
+            var disabled = body.GetProperty("disabled").EnumerateArray().Single(d => d.GetProperty("ruleId").GetString() == "R-FLASH-SOFT");
+            Assert.Equal("disabled the rule", disabled.At("chain[1].change").GetString());
+        }
+    }
+
+    [Fact]
+    public async Task Evaluate_WhenAssetLayerSetsTheLimit_FindingsBasisIsTheLayersNotTheDefaults()
+    {
+        using var response = await factory.EvaluateAsync(Methane("C-204B"));
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        var body = await Json.ReadAsync(response);
+        var finding = body.GetProperty("findings").EnumerateArray().Single(f => f.GetProperty("ruleId").GetString() == "R-FIELD-HC");
+        Assert.Equal(170, AssertEx.Quantity(finding.GetProperty("limit"), "°C", "limit"), 3);
+        Assert.Equal("asset:C-204B", finding.GetProperty("layer").GetString());
+        Assert.DoesNotContain("177", finding.GetProperty("basis").GetString(), StringComparison.Ordinal);
+    }
 }

@@ -173,3 +173,65 @@ public sealed class LayerIdTests : IDisposable
         Assert.Contains(ex.Errors, e => e.Key == "rules[0].id" && e.Message.Contains("ending with a letter or digit", StringComparison.Ordinal));
     }
 }
+
+/// <summary>
+/// The limit in force and where it came from: each merged rule carries the chain of layers that touched it, and once a
+/// layer changes a limit the basis shown is that layer's, never a lower layer's basis that names other numbers.
+/// </summary>
+public sealed class RuleChainTests
+{
+    [Fact]
+    public void Merge_WhenAssetTightensLimit_BasisIsTheAssetLayersAndTheDefaultsIsInTheChain()
+    {
+        var rule = Repo.Shipped.Resolve("marlow-fen", "C-204B").RulesById["R-FIELD-HC"];
+
+        // rules/assets/C-204B.yaml: 170 °C, band 15 K; rules/default.yaml: 177 °C, band 12 K.
+        Assert.Equal("170 °C", Model.LimitText.Of(rule));
+        Assert.Equal("asset:C-204B", rule.LimitLayer);
+        Assert.StartsWith("asset:C-204B: cylinder manufacturer's stated maximum", rule.Basis, StringComparison.Ordinal);
+        Assert.DoesNotContain("177", rule.Basis, StringComparison.Ordinal);
+        Assert.Equal(["default", "asset:C-204B"], rule.Chain.Select(c => c.Layer));
+        Assert.Equal("defined the rule", rule.Chain[0].Change);
+        Assert.Equal("177 °C", rule.Chain[0].Limit);
+        Assert.Contains("177 °C", rule.Chain[0].Basis, StringComparison.Ordinal);
+        Assert.Equal("tightened the limit from 177 °C to 170 °C; widened the warning band from 12 K to 15 K", rule.Chain[1].Change);
+        Assert.Equal("15 K", rule.Chain[1].WarningBand);
+    }
+
+    [Fact]
+    public void Merge_WhenSiteLoosensWithReasonAndNoBasis_ReasonIsTheBasis()
+    {
+        var rule = Repo.Shipped.Resolve("marlow-fen", null).RulesById["R-RATIO"];
+
+        // rules/sites/marlow-fen.yaml: R-RATIO 4.0 → 4.5 with the packager's rating sheet as its reason.
+        Assert.Equal("4.5", Model.LimitText.Of(rule));
+        Assert.StartsWith("site:marlow-fen: Packager's frame rating sheet PR-17", rule.Basis, StringComparison.Ordinal);
+        Assert.Equal("loosened the limit from 4 to 4.5", rule.Chain[^1].Change);
+        Assert.Equal(rule.LoosenedReason, rule.Chain[^1].Reason);
+    }
+
+    [Fact]
+    public void Merge_WhenLayerGivesNoBasisReasonOrSignOff_BasisSaysSoInsteadOfKeepingTheLowerOne()
+    {
+        var site = RuleFileParser.Parse("sites/test-site.yaml", "schemaVersion: 1\nlayer:\n  kind: site\n  id: test-site\noverrides:\n  - rule: R-FIELD-HC\n    limit: 160 °C\n");
+        var rule = LayerMerger.Merge([Repo.Shipped.Default, site]).RulesById["R-FIELD-HC"];
+        Assert.Equal("site:test-site: the layer states no basis for this change; the bases of the layers below are in the rule's chain", rule.Basis);
+        Assert.Null(rule.Chain[^1].Basis);
+    }
+
+    [Fact]
+    public void Merge_WhenRuleDisabled_ChainEndsWithTheDisablingLayer()
+    {
+        var d = Assert.Single(Repo.Shipped.Resolve("marlow-fen", null).Disabled, d => d.RuleId == "R-FLASH-SOFT");
+        Assert.Equal(["default", "site:marlow-fen"], d.Chain.Select(c => c.Layer));
+        Assert.Equal("disabled the rule", d.Chain[^1].Change);
+    }
+
+    [Fact]
+    public void Parse_WhenOverrideBasisBlank_IsBadValue()
+    {
+        var ex = Assert.Throws<RuleFileException>(() => RuleFileParser.Parse("sites/test-site.yaml",
+            "schemaVersion: 1\nlayer:\n  kind: site\n  id: test-site\noverrides:\n  - rule: R-FIELD-HC\n    limit: 160 °C\n    basis: \" \"\n"));
+        Assert.Equal("overrides[0].basis", Assert.Single(ex.Errors).Key);
+    }
+}

@@ -1,6 +1,7 @@
 using System.Text;
 using DischargeGuard.Api.Infrastructure;
 using DischargeGuard.Api.Infrastructure.Security;
+using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules;
 using DischargeGuard.Rules.Loading;
 using DischargeGuard.Rules.Model;
@@ -24,7 +25,8 @@ public static partial class RulesApi
         var group = routes.MapGroup("/v1/rules").WithTags("Rules").RequireKey();
         group.MapGet("/", GetRules)
             .WithName("GetRules")
-            .WithSummary("The effective rule set for a site and asset: layers with digests, catalogues and rules.");
+            .WithSummary("The effective rule set for a site and asset: layers applied, catalogues, and each rule's limit in force with the layer, basis, reason and sign-off that set it and the chain of layers that touched it.")
+            .WithDescription("A site or asset id that differs from a layer's only in case or separators is refused (400, keyed by the query name, with \"did you mean\"); an id with no layer answers the layers below it and says so in `applied` and `unmatched`.");
         group.MapPost("/check", CheckRuleFile)
             .WithName("CheckRuleFile")
             .WithSummary("Validate a candidate rule file (YAML in the body); nothing is activated.")
@@ -131,14 +133,18 @@ public static partial class RulesApi
 /// <summary>The rule set in force after a successful reload.</summary>
 public sealed record RuleReloadResult(string Digest, DateTimeOffset LoadedAt);
 
-/// <summary>The effective rule set as <c>GET /v1/rules</c> returns it.</summary>
+/// <summary>
+/// The effective rule set as <c>GET /v1/rules</c> returns it: layers with digests, catalogues, and each rule's limit and
+/// warning band in force with what it applies to, the layer that set it with its basis, reason and sign-off, and the chain
+/// of layers that touched it.
+/// </summary>
 public sealed record RulesDocument(
     string Digest,
     IReadOnlyList<RuleLayerDto> Layers,
     DateTimeOffset LoadedAt,
     IReadOnlyList<RuleErrorDto> LastReloadErrors,
     CataloguesDto Catalogues,
-    IReadOnlyList<RuleSummaryDto> Rules,
+    IReadOnlyList<RuleInForceDto> Rules,
     IReadOnlyList<DisabledRuleDto> Disabled)
 {
     internal static RulesDocument From(LayerResolution resolution, RuleSetSnapshot snapshot, ReloadResult? lastError) => From(resolution.Set!, snapshot, lastError) with
@@ -164,8 +170,8 @@ public sealed record RulesDocument(
             Materials(set, MaterialUse.Seal),
             set.CompressorTypes.Values.OrderBy(c => c.Id, StringComparer.Ordinal).Select(c => new CompressorTypeDto(c.Id, c.Title, c.Family, c.Lubricated, c.EfficiencyKind == EfficiencyKind.Polytropic ? "polytropic" : "isentropic", c.DefaultEfficiency, c.EfficiencyBasis, c.PredictionIsUpperBound)).ToArray(),
             set.ServiceClasses.Values.OrderBy(s => s.Id, StringComparer.Ordinal).Select(s => new ServiceClassDto(s.Id, s.Title, s.Detection.ToString())).ToArray()),
-        set.Rules.Select(r => new RuleSummaryDto(r.Id, r.Title, r.Quantities.Select(q => q.ToName()).ToArray(), r.Severity.ToString().ToLowerInvariant(), r.Basis, r.LimitLayer)).ToArray(),
-        set.Disabled.Select(d => new DisabledRuleDto(d.RuleId, d.Layer, d.Reason)).ToArray());
+        RulesInForce.Rules(set),
+        RulesInForce.Disabled(set));
 
     private static MaterialDto[] Materials(EffectiveRuleSet set, MaterialUse use) =>
         set.Materials.Values.Where(m => m.Use == use).OrderBy(m => m.Id, StringComparer.Ordinal)
@@ -204,11 +210,6 @@ public sealed record CompressorTypeDto(string Id, string Title, string Family, b
 /// <summary>A service class.</summary>
 public sealed record ServiceClassDto(string Id, string Title, string Detection);
 
-/// <summary>A rule in brief.</summary>
-public sealed record RuleSummaryDto(string Id, string Title, IReadOnlyList<string> Quantities, string Severity, string Basis, string LimitLayer);
-
-/// <summary>A rule disabled by a layer.</summary>
-public sealed record DisabledRuleDto(string RuleId, string Layer, string Reason);
 
 /// <summary>The result of checking a candidate rule file merged over the active layers.</summary>
 /// <param name="Valid">Whether the candidate parses and every merge of the set with it in place is valid.</param>

@@ -27,7 +27,7 @@ public static class RuleFileParser
     private static readonly string[] SetPointKeys = ["alarm", "trip"];
     private static readonly string[] StepKeys = ["fraction", "atMost"];
     private static readonly string[] TrendKeys = ["evaluations", "steadyPressureWithin"];
-    private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "approvedBy", "approvedOn", "reference"];
+    private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "basis", "approvedBy", "approvedOn", "reference"];
 
     /// <summary>The only format version this loader reads.</summary>
     public const int SchemaVersion = 1;
@@ -604,6 +604,13 @@ public static class RuleFileParser
         var ruleId = ctx.Text(m, "rule", path + ".rule", required: true);
         var disabled = ctx.Bool(m, "disabled", path + ".disabled") ?? false;
         var reason = ctx.Text(m, "reason", path + ".reason");
+        var basis = ctx.Text(m, "basis", path + ".basis");
+        if (basis is not null && string.IsNullOrWhiteSpace(basis))
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("basis")!, path + ".basis", "A basis is not blank.");
+            basis = null;
+        }
+
         var approvedBy = ctx.Text(m, "approvedBy", path + ".approvedBy");
         var approvedOnText = ctx.Text(m, "approvedOn", path + ".approvedOn");
         var reference = ctx.Text(m, "reference", path + ".reference");
@@ -642,6 +649,7 @@ public static class RuleFileParser
             RuleId = ruleId,
             Disabled = disabled,
             Reason = reason,
+            Basis = basis,
             SignOff = approvedBy is not null && approvedOn is not null ? new SignOff(approvedBy, approvedOn.Value, reference) : null,
             Location = ctx.Loc(mapNode),
             Raw = m,
