@@ -47,7 +47,7 @@ public static class KeyCommand
         id ??= "key-" + Convert.ToHexStringLower(RandomNumberGenerator.GetBytes(3));
         if (!AuthOptionsValidator.IdPattern().IsMatch(id))
         {
-            return Usage(output, "the id must be 1-64 letters, digits, '.', '_' or '-', starting with a letter or digit");
+            return Usage(output, "the id must be 1-64 letters, digits, '.', '_' or '-', beginning and ending with a letter or digit");
         }
 
         if (roles.Count == 0)

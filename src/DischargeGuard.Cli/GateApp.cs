@@ -66,12 +66,13 @@ public static partial class GateApp
         root.Subcommands.Add(CheckCommand.Create(stdout, stderr, environment, envelope: false));
         root.Subcommands.Add(CheckCommand.Create(stdout, stderr, environment, envelope: true));
         var rules = new Command("rules", "Rule files.");
-        rules.Subcommands.Add(RulesCheckCommand.Create(stdout, stderr));
+        rules.Subcommands.Add(RulesCheckCommand.Create(stdout, stderr, environment.ShippedRulesDirectory));
+        rules.Subcommands.Add(RulesShowCommand.Create(stdout, stderr, environment.ShippedRulesDirectory));
         root.Subcommands.Add(rules);
         return root;
     }
 
-    [GeneratedRegex("^[0-9a-fA-F]{64}$", RegexOptions.CultureInvariant)]
+    [GeneratedRegex(@"^[0-9a-fA-F]{64}\z", RegexOptions.CultureInvariant)]
     internal static partial Regex DigestPattern();
 
     /// <summary>Writes UTF-8 bytes (a JSON or XML report) to a text writer.</summary>

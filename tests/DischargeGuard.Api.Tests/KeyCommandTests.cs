@@ -42,6 +42,9 @@ public sealed partial class KeyCommandTests
     [InlineData("--role", "operator")]
     [InlineData("--id", "tablet 07")]
     [InlineData("--colour", "blue")]
+    [InlineData("--id", "tablet-07\n")]
+    [InlineData("--id", "tablet-07 ")]
+    [InlineData("--id", "tablet-07.")]
     public void Run_WhenAnArgumentIsInvalid_PrintsUsageAndExitsWithTwo(string option, string value)
     {
         using var output = new StringWriter();
@@ -51,6 +54,22 @@ public sealed partial class KeyCommandTests
         Assert.Equal(2, exit);
         Assert.Contains("usage: new-key", output.ToString(), StringComparison.Ordinal);
         Assert.DoesNotMatch(Base64UrlKey(), output.ToString());
+    }
+
+    [Theory]
+    [InlineData("tablet-07\n", "0000000000000000000000000000000000000000000000000000000000000000")]
+    [InlineData("tablet-07.", "0000000000000000000000000000000000000000000000000000000000000000")]
+    [InlineData("tablet-07", "0000000000000000000000000000000000000000000000000000000000000000\n")]
+    public void AuthOptions_WhenIdOrHashHasTrailingBreakOrDot_FailValidation(string id, string sha256)
+    {
+        var options = new Infrastructure.Security.AuthOptions();
+        var entry = new Infrastructure.Security.ApiKeyEntry { Id = id, Sha256 = sha256 };
+        entry.Roles.Add("technician");
+        options.Keys.Add(entry);
+
+        var result = new Infrastructure.Security.AuthOptionsValidator().Validate(null, options);
+
+        Assert.True(result.Failed);
     }
 
     [GeneratedRegex("^[A-Za-z0-9_-]{43}$", RegexOptions.Multiline)]

@@ -117,6 +117,8 @@ public abstract class PlanningEndpointsContract(ServiceFactory fixture)
         Assert.Equal(HttpStatusCode.OK, response.StatusCode);
         Assert.Equal(original.At("id").GetGuid(), body.At("original.id").GetGuid());
         Assert.False(body.At("changes.changed").GetBoolean(), body.At("changes").ToString());
+        Assert.Equal(0, body.At("changes.layers").GetArrayLength());
+        Assert.Equal(JsonValueKind.Null, body.At("changes.verdictMovedBy").ValueKind);
         Assert.Equal(original.At("verdict").GetString(), body.At("replay.verdict").GetString());
         var replayId = body.At("replay.id").GetGuid();
         Assert.NotEqual(original.At("id").GetGuid(), replayId);
@@ -161,6 +163,9 @@ public abstract class PlanningEndpointsContract(ServiceFactory fixture)
             Assert.Equal("pass", body.At("changes.verdict.from").GetString());
             Assert.Equal("fail", body.At("changes.verdict.to").GetString());
             Assert.True(body.At("changes.ruleDigest.changed").GetBoolean());
+            Assert.Equal("asset:K-603A", body.At("changes.layers[0].name").GetString());
+            Assert.Equal("added", body.At("changes.layers[0].change").GetString());
+            Assert.Equal("asset:K-603A", Assert.Single(body.At("changes.verdictMovedBy.layers").EnumerateArray()).GetString());
             var stage = body.At("changes.stages[0]");
             Assert.Equal("R-AIR-RECIP", stage.At("governingRule.to").GetString());
             Assert.True(stage.At("governingMargin.to.value").GetDouble() < 0, stage.ToString());

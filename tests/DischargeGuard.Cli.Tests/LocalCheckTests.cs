@@ -94,7 +94,9 @@ public class LocalCheckTests
             "Case 'recycle' — C-204B at marlow-fen — verdict FAIL",
             "isentropic T2s", "estimated T2 (band)", "governing limit", "margin", "verdict",
             "violation    R-API618-GEN",
-            "basis: (c, high) API 618",
+            // marlow-fen tightens R-API618-GEN to 145 °C: the basis shown is the site's, not the default's 150 °C one.
+            "basis: site:marlow-fen: owner's purchase specification",
+            "layers applied: default ← site:marlow-fen ← asset:C-204B",
             "not checked  R-DEVIATION",
             "Stage 1 model: ",
             "Peng-Robinson",
@@ -154,7 +156,8 @@ public class LocalCheckTests
         using var doc = JsonDocument.Parse(json.Stdout);
         var responses = doc.RootElement.GetProperty("cases").EnumerateArray().Select(c => c.GetProperty("response")).ToList();
         var stages = responses.SelectMany(r => r.GetProperty("stages").EnumerateArray()).ToList();
-        var expectedCases = stages.Sum(s => s.GetProperty("findings").GetArrayLength() + s.GetProperty("notChecked").GetArrayLength());
+        // One per finding and rule not checked, plus each case's "rule layers" test case.
+        var expectedCases = stages.Sum(s => s.GetProperty("findings").GetArrayLength() + s.GetProperty("notChecked").GetArrayLength()) + responses.Count;
         var violations = stages.Sum(s => s.GetProperty("findings").EnumerateArray().Count(f => f.GetProperty("severity").GetString() == "violation"));
 
         var testcases = xml.Descendants("testcase").ToList();

@@ -11,8 +11,8 @@ namespace DischargeGuard.Api.Endpoints;
 
 /// <summary>
 /// <c>POST /v1/evaluations/{id}/replay</c>: the stored request evaluated again against the rules active now, recorded as
-/// a new evaluation that names the one it replays, with what changed: verdict, rule digest, and per stage the verdict,
-/// the governing rule and its margin.
+/// a new evaluation that names the one it replays, with what changed: verdict, rule digest, per stage the verdict, the
+/// governing rule and its margin, the rule layers added, removed or changed, and the layer whose change moved the verdict.
 /// </summary>
 internal static partial class ReplayApi
 {
@@ -130,12 +130,140 @@ internal static partial class ReplayApi
             }
 
             w.WriteEndArray();
-            w.WriteBoolean("changed", changed);
+            var layers = LayerChanges(before.RootElement, after.RootElement);
+            WriteLayerChanges(w, layers);
+            WriteVerdictCause(w, original, replay, layers, stagesBefore, stagesAfter);
+            w.WriteBoolean("changed", changed || layers.Count > 0);
             w.WriteEndObject();
             w.WriteEndObject();
         }
 
         return buffer.ToArray();
+    }
+
+    private sealed record LayerChange(string Name, string Change, string? From, string? To);
+
+    // The layers of the two answers compared by name: a layer added, removed, or with another digest. Answers recorded
+    // before the layer list existed have none, and every layer then reads as added.
+    private static List<LayerChange> LayerChanges(JsonElement before, JsonElement after)
+    {
+        static Dictionary<string, string?> Layers(JsonElement root) =>
+            root.TryGetProperty("ruleSet", out var rs) && rs.TryGetProperty("layers", out var ls) && ls.ValueKind == JsonValueKind.Array
+                ? ls.EnumerateArray().Where(l => Text(l, "name") is not null).ToDictionary(l => Text(l, "name")!, l => Text(l, "digest"), StringComparer.Ordinal)
+                : new Dictionary<string, string?>(StringComparer.Ordinal);
+        var from = Layers(before);
+        var to = Layers(after);
+        var changes = new List<LayerChange>();
+        foreach (var (name, digest) in from)
+        {
+            if (!to.TryGetValue(name, out var now))
+            {
+                changes.Add(new LayerChange(name, "removed", digest, null));
+            }
+            else if (!string.Equals(digest, now, StringComparison.Ordinal))
+            {
+                changes.Add(new LayerChange(name, "changed", digest, now));
+            }
+        }
+
+        changes.AddRange(to.Where(kv => !from.ContainsKey(kv.Key)).Select(kv => new LayerChange(kv.Key, "added", null, kv.Value)));
+        return changes;
+    }
+
+    private static void WriteLayerChanges(Utf8JsonWriter w, List<LayerChange> layers)
+    {
+        w.WriteStartArray("layers");
+        foreach (var l in layers)
+        {
+            w.WriteStartObject();
+            w.WriteString("name", l.Name);
+            w.WriteString("change", l.Change);
+            WriteNullable(w, "from", l.From);
+            WriteNullable(w, "to", l.To);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+    }
+
+    // Which changed layer moved the verdict: among the layers added, removed or changed, the ones named by a finding whose
+    // severity moved (the layer that set its limit before or after). When no finding names one, every changed layer is
+    // named: the change is in one of them, and the answer says it could not tell which.
+    private static void WriteVerdictCause(Utf8JsonWriter w, AuditRecord original, AuditRecord replay, List<LayerChange> layers, List<JsonElement> stagesBefore, List<JsonElement> stagesAfter)
+    {
+        var moved = !string.Equals(original.Verdict, replay.Verdict, StringComparison.Ordinal)
+            || Enumerable.Range(0, Math.Max(stagesBefore.Count, stagesAfter.Count)).Any(i =>
+                !string.Equals(Text(i < stagesBefore.Count ? stagesBefore[i] : default, "verdict"), Text(i < stagesAfter.Count ? stagesAfter[i] : default, "verdict"), StringComparison.Ordinal));
+        if (!moved)
+        {
+            w.WriteNull("verdictMovedBy");
+            return;
+        }
+
+        var changedNames = layers.Select(l => l.Name).ToHashSet(StringComparer.Ordinal);
+        var named = new SortedSet<string>(StringComparer.Ordinal);
+        for (var i = 0; i < Math.Max(stagesBefore.Count, stagesAfter.Count); i++)
+        {
+            var b = Findings(i < stagesBefore.Count ? stagesBefore[i] : default);
+            var a = Findings(i < stagesAfter.Count ? stagesAfter[i] : default);
+            foreach (var rule in b.Keys.Union(a.Keys, StringComparer.Ordinal))
+            {
+                b.TryGetValue(rule, out var fb);
+                a.TryGetValue(rule, out var fa);
+                if (!string.Equals(fb.Severity, fa.Severity, StringComparison.Ordinal))
+                {
+                    foreach (var layer in new[] { fb.Layer, fa.Layer }.Where(l => l is not null && changedNames.Contains(l)))
+                    {
+                        named.Add(layer!);
+                    }
+                }
+            }
+        }
+
+        var names = named.Count > 0 ? named.ToList() : layers.Select(l => l.Name).ToList();
+        var verdict = $"The verdict moved from {original.Verdict} to {replay.Verdict}";
+        string message;
+        if (layers.Count == 0)
+        {
+            message = string.Equals(original.EngineVersion, replay.EngineVersion, StringComparison.Ordinal)
+                ? verdict + "; no rule layer changed (the stored request's history or data did)."
+                : verdict + $"; no rule layer changed, the engine did ({original.EngineVersion} → {replay.EngineVersion}).";
+        }
+        else
+        {
+            var described = string.Join(", ", layers.Where(l => names.Contains(l.Name)).Select(l => $"{l.Name} ({l.Change})"));
+            message = named.Count > 0
+                ? verdict + $" because of the change to {described}."
+                : verdict + $"; no finding names the changed layer, so the change is in one of: {described}.";
+        }
+
+        w.WriteStartObject("verdictMovedBy");
+        w.WriteStartArray("layers");
+        foreach (var n in layers.Count == 0 ? [] : names)
+        {
+            w.WriteStringValue(n);
+        }
+
+        w.WriteEndArray();
+        w.WriteString("message", message);
+        w.WriteEndObject();
+    }
+
+    private static Dictionary<string, (string? Severity, string? Layer)> Findings(JsonElement stage)
+    {
+        var result = new Dictionary<string, (string?, string?)>(StringComparer.Ordinal);
+        if (stage.ValueKind == JsonValueKind.Object && stage.TryGetProperty("findings", out var fs) && fs.ValueKind == JsonValueKind.Array)
+        {
+            foreach (var f in fs.EnumerateArray())
+            {
+                if (Text(f, "ruleId") is { } id)
+                {
+                    result[id] = (Text(f, "severity"), Text(f, "layer"));
+                }
+            }
+        }
+
+        return result;
     }
 
     private static bool WriteChange(Utf8JsonWriter w, string name, string? from, string? to)
@@ -236,5 +364,25 @@ public sealed record ReplayMarginChange(QuantityDto? From, QuantityDto? To, Quan
 /// <summary>One stage before and after.</summary>
 public sealed record ReplayStageChange(int Index, ReplayChange Verdict, ReplayChange GoverningRule, ReplayMarginChange GoverningMargin, bool Changed);
 
+/// <summary>A rule layer that differs between the original and the replay, compared by name.</summary>
+/// <param name="Name">"default", "site:&lt;id&gt;" or "asset:&lt;tag&gt;".</param>
+/// <param name="Change">added, removed or changed.</param>
+/// <param name="From">The layer's digest in the original (null when added).</param>
+/// <param name="To">Its digest now (null when removed).</param>
+public sealed record ReplayLayerChange(string Name, string Change, string? From, string? To);
+
+/// <summary>The layer change that moved the verdict.</summary>
+/// <param name="Layers">The changed layers named by a finding whose severity moved (all changed layers when none is; empty when no layer changed).</param>
+/// <param name="Message">The plain sentence.</param>
+public sealed record ReplayVerdictCause(IReadOnlyList<string> Layers, string Message);
+
 /// <summary>Everything that differs.</summary>
-public sealed record ReplayChanges(ReplayChange Verdict, ReplayChange RuleDigest, ReplayChange EngineVersion, IReadOnlyList<ReplayStageChange> Stages, bool Changed);
+/// <param name="Verdict">The verdict before and after.</param>
+/// <param name="RuleDigest">The merged rule digest before and after.</param>
+/// <param name="EngineVersion">The engine version before and after.</param>
+/// <param name="Stages">Per stage.</param>
+/// <param name="Layers">The rule layers added, removed or changed (by name and digest).</param>
+/// <param name="VerdictMovedBy">When a verdict moved: the layer whose change moved it; null when no verdict moved.</param>
+/// <param name="Changed">Whether anything differs.</param>
+public sealed record ReplayChanges(ReplayChange Verdict, ReplayChange RuleDigest, ReplayChange EngineVersion, IReadOnlyList<ReplayStageChange> Stages,
+    IReadOnlyList<ReplayLayerChange> Layers, ReplayVerdictCause? VerdictMovedBy, bool Changed);

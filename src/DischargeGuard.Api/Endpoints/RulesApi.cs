@@ -1,6 +1,7 @@
 using System.Text;
 using DischargeGuard.Api.Infrastructure;
 using DischargeGuard.Api.Infrastructure.Security;
+using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules;
 using DischargeGuard.Rules.Loading;
 using DischargeGuard.Rules.Model;
@@ -24,7 +25,8 @@ public static partial class RulesApi
         var group = routes.MapGroup("/v1/rules").WithTags("Rules").RequireKey();
         group.MapGet("/", GetRules)
             .WithName("GetRules")
-            .WithSummary("The effective rule set for a site and asset: layers with digests, catalogues and rules.");
+            .WithSummary("The effective rule set for a site and asset: layers applied, catalogues, and each rule's limit in force with the layer, basis, reason and sign-off that set it and the chain of layers that touched it.")
+            .WithDescription("A site or asset id that differs from a layer's only in case or separators is refused (400, keyed by the query name, with \"did you mean\"); an id with no layer answers the layers below it and says so in `applied` and `unmatched`.");
         group.MapPost("/check", CheckRuleFile)
             .WithName("CheckRuleFile")
             .WithSummary("Validate a candidate rule file (YAML in the body); nothing is activated.")
@@ -44,21 +46,21 @@ public static partial class RulesApi
     [LoggerMessage(EventId = 31, Level = LogLevel.Warning, Message = "Rule reload requested by {Caller} refused with {ErrorCount} errors; {RuleDigest} stays in force")]
     private static partial void LogReloadRefused(ILogger logger, int errorCount, string ruleDigest, string caller);
 
-    internal static Ok<RulesDocument> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
+    internal static Results<Ok<RulesDocument>, ValidationProblem> GetRules([FromQuery] string? site, [FromQuery] string? asset, IRuleSetProvider provider)
     {
         var snapshot = provider.Current;
-        EffectiveRuleSet set;
-        try
+        // The same resolution as an evaluation: a near miss of a layer id, or an asset with another site, is refused, never
+        // answered with a set that silently lacks the layer.
+        var resolution = snapshot.ResolveRequest(NullIfEmpty(site), NullIfEmpty(asset));
+        if (resolution.Refusal is { } refused)
         {
-            set = snapshot.Resolve(site, asset);
-        }
-        catch (ArgumentOutOfRangeException)
-        {
-            set = snapshot.Resolve(null, asset);
+            return Problems.Validation(new Dictionary<string, string[]> { [refused.Field == LayerIdField.Site ? "site" : "asset"] = [refused.Message] });
         }
 
-        return TypedResults.Ok(RulesDocument.From(set, snapshot, provider.LastError));
+        return TypedResults.Ok(RulesDocument.From(resolution, snapshot, provider.LastError));
     }
+
+    private static string? NullIfEmpty(string? value) => string.IsNullOrEmpty(value) ? null : value;
 
     internal static async Task<Results<Ok<RuleReloadResult>, ProblemHttpResult>> ReloadRules(
         HttpContext http, IRuleSetProvider provider, ILoggerFactory loggers, CancellationToken cancellationToken)
@@ -86,9 +88,20 @@ public static partial class RulesApi
             });
     }
 
-    internal static async Task<Ok<RuleCheckResult>> CheckRuleFile(HttpRequest request, [FromQuery] string? name, CancellationToken cancellationToken)
+    internal static async Task<Results<Ok<RuleCheckResult>, ValidationProblem>> CheckRuleFile(
+        HttpRequest request, [FromQuery] string? name, IRuleSetProvider provider, TimeProvider time, CancellationToken cancellationToken)
     {
-        var fileName = string.IsNullOrWhiteSpace(name) ? "candidate.yaml" : Path.GetFileName(name);
+        // A place in the rules directory (sites/marlow-fen.yaml), or a bare file name whose own kind and id give the place.
+        var fileName = string.IsNullOrWhiteSpace(name) ? null : name;
+        if (fileName is not null && (fileName.Contains('/', StringComparison.Ordinal)
+                ? RuleSetValidation.KindOfPlace(fileName) is null
+                : fileName.Contains('\\', StringComparison.Ordinal) || fileName is "." or ".." || !fileName.EndsWith(".yaml", StringComparison.Ordinal)))
+        {
+            return Problems.Validation(new Dictionary<string, string[]>
+            {
+                ["name"] = ["Give the candidate's place in the rules directory (default.yaml, sites/<site-id>.yaml, assets/<asset-tag>.yaml) or a bare file name ending .yaml."],
+            });
+        }
         using var reader = new StreamReader(request.Body, new UTF8Encoding(false, true));
         var buffer = new char[MaxRuleFileBytes + 1];
         int length;
@@ -106,32 +119,47 @@ public static partial class RulesApi
             throw new BadHttpRequestException("Rule file too large.", StatusCodes.Status413PayloadTooLarge);
         }
 
-        try
+        // Merged over the active layers by the same routine as the directory loader and the gate's rules check.
+        var check = RuleSetValidation.CheckCandidate(provider.Current, fileName, new string(buffer, 0, length), time.GetUtcNow());
+        return TypedResults.Ok(new RuleCheckResult(check.Valid, check.Layer?.Name, check.Layer?.Digest, check.Errors.Select(RuleErrorDto.From).ToArray())
         {
-            var layer = RuleFileParser.Parse(fileName, new string(buffer, 0, length));
-            return TypedResults.Ok(new RuleCheckResult(true, layer.Name, CanonicalForm.Digest(CanonicalForm.OfLayer(layer)), []));
-        }
-        catch (RuleFileException ex)
-        {
-            return TypedResults.Ok(new RuleCheckResult(false, null, null, ex.Errors.Select(RuleErrorDto.From).ToArray()));
-        }
+            Place = check.Place,
+            MergedDigest = check.Merged?.Digest,
+            MergedLayers = check.Merged?.Layers.Select(l => l.Name).ToArray(),
+        });
     }
 }
 
 /// <summary>The rule set in force after a successful reload.</summary>
 public sealed record RuleReloadResult(string Digest, DateTimeOffset LoadedAt);
 
-/// <summary>The effective rule set as <c>GET /v1/rules</c> returns it.</summary>
+/// <summary>
+/// The effective rule set as <c>GET /v1/rules</c> returns it: layers with digests, catalogues, and each rule's limit and
+/// warning band in force with what it applies to, the layer that set it with its basis, reason and sign-off, and the chain
+/// of layers that touched it.
+/// </summary>
 public sealed record RulesDocument(
     string Digest,
     IReadOnlyList<RuleLayerDto> Layers,
     DateTimeOffset LoadedAt,
     IReadOnlyList<RuleErrorDto> LastReloadErrors,
     CataloguesDto Catalogues,
-    IReadOnlyList<RuleSummaryDto> Rules,
+    IReadOnlyList<RuleInForceDto> Rules,
     IReadOnlyList<DisabledRuleDto> Disabled)
 {
-    internal static RulesDocument From(EffectiveRuleSet set, RuleSetSnapshot snapshot, ReloadResult? lastError) => new(
+    internal static RulesDocument From(LayerResolution resolution, RuleSetSnapshot snapshot, ReloadResult? lastError) => From(resolution.Set!, snapshot, lastError) with
+    {
+        Applied = resolution.Applied,
+        Unmatched = resolution.Unmatched.Select(u => new Evaluation.Contract.UnmatchedLayerDto(u.Field == LayerIdField.Site ? "site" : "asset", u.Id, u.NearestLayer, u.Message)).ToArray(),
+    };
+
+    /// <summary>The layers applied in a plain sentence, as an evaluation's <c>ruleSet.applied</c> says it.</summary>
+    public string Applied { get; init; } = string.Empty;
+
+    /// <summary>The site or asset asked for that has no layer, with the nearest layer not applied.</summary>
+    public IReadOnlyList<Evaluation.Contract.UnmatchedLayerDto> Unmatched { get; init; } = [];
+
+    private static RulesDocument From(EffectiveRuleSet set, RuleSetSnapshot snapshot, ReloadResult? lastError) => new(
         set.Digest,
         set.Layers.Select(l => new RuleLayerDto(l.Name, l.File, l.Digest)).ToArray(),
         snapshot.LoadedAt,
@@ -142,8 +170,8 @@ public sealed record RulesDocument(
             Materials(set, MaterialUse.Seal),
             set.CompressorTypes.Values.OrderBy(c => c.Id, StringComparer.Ordinal).Select(c => new CompressorTypeDto(c.Id, c.Title, c.Family, c.Lubricated, c.EfficiencyKind == EfficiencyKind.Polytropic ? "polytropic" : "isentropic", c.DefaultEfficiency, c.EfficiencyBasis, c.PredictionIsUpperBound)).ToArray(),
             set.ServiceClasses.Values.OrderBy(s => s.Id, StringComparer.Ordinal).Select(s => new ServiceClassDto(s.Id, s.Title, s.Detection.ToString())).ToArray()),
-        set.Rules.Select(r => new RuleSummaryDto(r.Id, r.Title, r.Quantities.Select(q => q.ToName()).ToArray(), r.Severity.ToString().ToLowerInvariant(), r.Basis, r.LimitLayer)).ToArray(),
-        set.Disabled.Select(d => new DisabledRuleDto(d.RuleId, d.Layer, d.Reason)).ToArray());
+        RulesInForce.Rules(set),
+        RulesInForce.Disabled(set));
 
     private static MaterialDto[] Materials(EffectiveRuleSet set, MaterialUse use) =>
         set.Materials.Values.Where(m => m.Use == use).OrderBy(m => m.Id, StringComparer.Ordinal)
@@ -182,11 +210,20 @@ public sealed record CompressorTypeDto(string Id, string Title, string Family, b
 /// <summary>A service class.</summary>
 public sealed record ServiceClassDto(string Id, string Title, string Detection);
 
-/// <summary>A rule in brief.</summary>
-public sealed record RuleSummaryDto(string Id, string Title, IReadOnlyList<string> Quantities, string Severity, string Basis, string LimitLayer);
 
-/// <summary>A rule disabled by a layer.</summary>
-public sealed record DisabledRuleDto(string RuleId, string Layer, string Reason);
+/// <summary>The result of checking a candidate rule file merged over the active layers.</summary>
+/// <param name="Valid">Whether the candidate parses and every merge of the set with it in place is valid.</param>
+/// <param name="Layer">The candidate layer's name (default, site:&lt;id&gt;, asset:&lt;tag&gt;), when it parses.</param>
+/// <param name="Digest">The candidate layer's own digest, when it parses.</param>
+/// <param name="Errors">Every error with file, line, column and key.</param>
+public sealed record RuleCheckResult(bool Valid, string? Layer, string? Digest, IReadOnlyList<RuleErrorDto> Errors)
+{
+    /// <summary>The place the candidate was checked at (default.yaml, sites/&lt;id&gt;.yaml, assets/&lt;tag&gt;.yaml).</summary>
+    public string? Place { get; init; }
 
-/// <summary>The result of checking a candidate rule file.</summary>
-public sealed record RuleCheckResult(bool Valid, string? Layer, string? Digest, IReadOnlyList<RuleErrorDto> Errors);
+    /// <summary>The digest of the candidate's own merge (an evaluation naming its site or asset would carry it), when valid.</summary>
+    public string? MergedDigest { get; init; }
+
+    /// <summary>The layers of that merge, lowest first, when valid.</summary>
+    public IReadOnlyList<string>? MergedLayers { get; init; }
+}

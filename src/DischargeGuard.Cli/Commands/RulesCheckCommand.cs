@@ -12,22 +12,29 @@ namespace DischargeGuard.Cli.Commands;
 /// </summary>
 internal static class RulesCheckCommand
 {
-    public static Command Create(TextWriter stdout, TextWriter stderr)
+    public static Command Create(TextWriter stdout, TextWriter stderr, string shippedRulesDirectory)
     {
         var command = new Command("check", "Validate rule layers (a rules directory, or one file) and print the merged digest; exit 64 with file, line and key when invalid.");
         var path = new Argument<string>("path") { Description = "A rules directory (default.yaml, sites/*.yaml, assets/*.yaml) or one rule file." };
         var site = new Option<string?>("--site") { Description = "Print the merged digest in force for this site.", HelpName = "ID" };
         var asset = new Option<string?>("--asset") { Description = "Print the merged digest in force for this asset.", HelpName = "TAG" };
         var expect = new Option<string?>("--expect-rules-digest") { Description = "Fail (exit 64) unless the printed digest is this one.", HelpName = "DIGEST" };
+        var over = new Option<string?>("--rules")
+        {
+            Description = "Check the file as a candidate merged over this rules directory (as POST /v1/rules/check merges it over the active rules). "
+                + "Default for a file outside a rules directory: the rules shipped with the tool.",
+            HelpName = "DIR",
+        };
         command.Arguments.Add(path);
         command.Options.Add(site);
         command.Options.Add(asset);
         command.Options.Add(expect);
-        command.SetAction(parse => Run(parse.GetValue(path)!, parse.GetValue(site), parse.GetValue(asset), parse.GetValue(expect), stdout, stderr));
+        command.Options.Add(over);
+        command.SetAction(parse => Run(parse.GetValue(path)!, parse.GetValue(site), parse.GetValue(asset), parse.GetValue(expect), stdout, stderr, parse.GetValue(over) ?? shippedRulesDirectory, parse.GetResult(over) is not null));
         return command;
     }
 
-    internal static int Run(string path, string? site, string? asset, string? expected, TextWriter stdout, TextWriter stderr)
+    internal static int Run(string path, string? site, string? asset, string? expected, TextWriter stdout, TextWriter stderr, string? activeRules = null, bool overGiven = false)
     {
         if (expected is not null && !GateApp.DigestPattern().IsMatch(expected))
         {
@@ -43,8 +50,14 @@ internal static class RulesCheckCommand
         }
         else if (File.Exists(path))
         {
-            directory = RulesDirectoryOf(path);
+            directory = overGiven ? null : RulesDirectoryOf(path);
             singleFile = path;
+            if (directory is null)
+            {
+                return activeRules is null
+                    ? Fail(stderr, $"{path}: give --rules DIR, the rules the candidate is merged over.")
+                    : RunCandidate(path, activeRules, expected, stdout, stderr);
+            }
         }
         else
         {
@@ -54,30 +67,8 @@ internal static class RulesCheckCommand
 
         try
         {
-            string digest;
-            if (directory is not null)
-            {
-                var snapshot = FileRuleSetProvider.LoadDirectory(directory, DateTimeOffset.UtcNow);
-                digest = WriteDirectory(snapshot, directory, singleFile, site, asset, stdout);
-            }
-            else
-            {
-                var file = singleFile!;
-                var layer = RuleFileParser.Parse(Path.GetFileName(file), File.ReadAllText(file));
-                stdout.WriteLine($"Rule file {file}: valid ({layer.Name})");
-                stdout.WriteLine($"  layer digest {layer.Digest}");
-                if (layer.Kind != LayerKind.Default)
-                {
-                    stdout.WriteLine("  A site or asset layer has a merged digest only over its default layer: check the rules directory that holds it.");
-                    digest = layer.Digest;
-                }
-                else
-                {
-                    digest = LayerMerger.Merge([layer]).Digest;
-                    stdout.WriteLine($"digest: {digest}");
-                }
-            }
-
+            var snapshot = FileRuleSetProvider.LoadDirectory(directory, DateTimeOffset.UtcNow);
+            var digest = WriteDirectory(snapshot, directory, singleFile, site, asset, stdout);
             WriteCautions(stdout);
             if (expected is not null && !string.Equals(expected, digest, StringComparison.OrdinalIgnoreCase))
             {
@@ -91,8 +82,7 @@ internal static class RulesCheckCommand
         {
             foreach (var e in ex.Errors)
             {
-                var file = directory is not null ? Path.Combine(directory, e.File) : Path.Combine(Path.GetDirectoryName(singleFile!) ?? string.Empty, e.File);
-                stderr.WriteLine((e with { File = file }).ToString());
+                stderr.WriteLine((e with { File = Path.Combine(directory, e.File) }).ToString());
             }
 
             stderr.WriteLine($"dischargeguard: {ex.Errors.Count} error(s); the rules are not valid. (exit 64)");
@@ -103,6 +93,73 @@ internal static class RulesCheckCommand
             stderr.WriteLine($"{path}: cannot read: {ex.Message} (exit 64)");
             return ExitCodes.InvalidInput;
         }
+    }
+
+    private static int Fail(TextWriter stderr, string message)
+    {
+        stderr.WriteLine(message + " (exit 64)");
+        return ExitCodes.InvalidInput;
+    }
+
+    // A file outside a rules directory (or any file with --rules): merged over the directory's layers by the routine the
+    // service's POST /v1/rules/check uses, so the two give one verdict with the same located errors.
+    private static int RunCandidate(string file, string rulesDirectory, string? expected, TextWriter stdout, TextWriter stderr)
+    {
+        RuleSetSnapshot active;
+        string text;
+        try
+        {
+            active = FileRuleSetProvider.LoadDirectory(rulesDirectory, DateTimeOffset.UtcNow);
+            text = File.ReadAllText(file);
+        }
+        catch (RuleFileException ex)
+        {
+            foreach (var e in ex.Errors)
+            {
+                stderr.WriteLine((e with { File = Path.Combine(rulesDirectory, e.File) }).ToString());
+            }
+
+            return Fail(stderr, $"dischargeguard: the rules in {rulesDirectory} do not load, so nothing can be merged over them.");
+        }
+        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+        {
+            return Fail(stderr, $"{file}: cannot read: {ex.Message}");
+        }
+
+        var check = RuleSetValidation.CheckCandidate(active, CandidateName(file), text, DateTimeOffset.UtcNow);
+        if (!check.Valid)
+        {
+            foreach (var e in check.Errors)
+            {
+                // The candidate's own errors name the file given; errors in other layers name their file in the directory.
+                var where = e.File == check.Place || e.File == Path.GetFileName(file) ? file : Path.Combine(rulesDirectory, e.File);
+                stderr.WriteLine((e with { File = where }).ToString());
+            }
+
+            stderr.WriteLine($"dischargeguard: {check.Errors.Count} error(s); the candidate is not valid over {rulesDirectory}. (exit 64)");
+            return ExitCodes.InvalidInput;
+        }
+
+        var merged = check.Merged!;
+        stdout.WriteLine($"Rule file {file}: valid ({check.Layer!.Name}) as {check.Place} over {rulesDirectory}");
+        stdout.WriteLine($"  layer digest {check.Layer.Digest}");
+        stdout.WriteLine($"  merged layers {string.Join(" ← ", merged.Layers.Select(l => l.Name))}");
+        stdout.WriteLine($"digest: {merged.Digest}");
+        WriteCautions(stdout);
+        if (expected is not null && !string.Equals(expected, merged.Digest, StringComparison.OrdinalIgnoreCase))
+        {
+            return Fail(stderr, $"dischargeguard: the rules' digest is {merged.Digest}, not the approved {expected.ToLowerInvariant()}.");
+        }
+
+        return ExitCodes.Pass;
+    }
+
+    // sites/x.yaml and assets/y.yaml keep their folder (it sets the kind); any other file is named bare and placed by its own kind and id.
+    private static string CandidateName(string file)
+    {
+        var full = Path.GetFullPath(file);
+        var folder = Path.GetFileName(Path.GetDirectoryName(full));
+        return folder is "sites" or "assets" ? folder + "/" + Path.GetFileName(full) : Path.GetFileName(full);
     }
 
     private static string WriteDirectory(RuleSetSnapshot snapshot, string directory, string? focus, string? site, string? asset, TextWriter w)

@@ -136,18 +136,9 @@ public sealed class LocalEvaluator : ICaseEvaluator
         return new CaseResult(proposalCase, ExitCodes.OfVerdict(response.Verdict)) { Response = response, ResponseJson = body, EvaluatedBy = "local" };
     }
 
-    private string? DigestFor(EvaluationRequest request)
-    {
-        try
-        {
-            return _rules.Resolve(request.Site?.Id, request.Asset).Digest;
-        }
-        catch (ArgumentOutOfRangeException)
-        {
-            // The pipeline names the site/asset conflict as a field error.
-            return null;
-        }
-    }
+    // A refused resolution (a near miss of a layer id, an asset with another site) has no digest: the pipeline names it
+    // as a field error.
+    private string? DigestFor(EvaluationRequest request) => _rules.ResolveRequest(request.Site?.Id, request.Asset).Set?.Digest;
 
     /// <inheritdoc />
     public async ValueTask DisposeAsync()

@@ -45,7 +45,7 @@ internal static partial class YamlDocumentReader
 {
     private const int MaxDepth = 32;
 
-    [GeneratedRegex(@"^[-+]?(\.[0-9]+|[0-9]+(\.[0-9]*)?)([eE][-+]?[0-9]+)?$", RegexOptions.CultureInvariant)]
+    [GeneratedRegex(@"^[-+]?(\.[0-9]+|[0-9]+(\.[0-9]*)?)([eE][-+]?[0-9]+)?\z", RegexOptions.CultureInvariant)]
     private static partial Regex NumberPattern();
 
     public static DocNode Read(string text)

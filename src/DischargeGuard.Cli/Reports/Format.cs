@@ -16,6 +16,10 @@ internal static class Format
 
     public static string Verdict(string verdict) => verdict.ToUpperInvariant();
 
+    // The answer's own sentence; an answer from a service that predates it gets the layer list in the same words.
+    public static string Applied(RuleSetDto ruleSet) =>
+        ruleSet.Applied ?? "layers applied: " + string.Join(" ← ", ruleSet.Layers.Select(l => l.Name));
+
     public static string Subject(string? asset, string? site) =>
         (asset ?? "(no asset)") + (site is null ? string.Empty : " at " + site);
 }

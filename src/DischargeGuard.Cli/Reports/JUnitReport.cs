@@ -94,11 +94,13 @@ public static class JUnitReport
             return [new JUnitCase(caseClass, "evaluation", "error", ExitCodes.Describe(r.ExitCode).Replace(' ', '-'), $"Not evaluated: {ExitCodes.Describe(r.ExitCode)} (exit {r.ExitCode}).", detail, string.Empty)];
         }
 
-        var list = new List<JUnitCase>();
+        // Which layers applied is a test case of its own, so a viewer shows it beside the findings it decided.
+        var applied = Format.Applied(response.RuleSet);
+        var list = new List<JUnitCase> { new(caseClass, "rule layers", null, string.Empty, string.Empty, string.Empty, $"{applied}\nrules {response.RuleSet.Digest}") };
         foreach (var s in response.Stages)
         {
             var stageClass = $"{caseClass}.stage{s.Index + 1}";
-            var ids = $"evaluation {response.Id}; rules {response.RuleSet.Digest}";
+            var ids = $"evaluation {response.Id}; rules {response.RuleSet.Digest}; {applied}";
             foreach (var f in s.Findings)
             {
                 var numbers = Numbers(f);

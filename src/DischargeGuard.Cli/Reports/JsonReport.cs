@@ -70,6 +70,13 @@ public static class JsonReport
             w.WriteEndArray();
         }
 
+        if (r.Response is { } response)
+        {
+            // Also carried inside the response as ruleSet.applied; repeated here so a reader of the gate's report need
+            // not know the answer's shape to see which layers applied.
+            w.WriteString("rulesApplied", Format.Applied(response.RuleSet));
+        }
+
         if (r.ResponseJson is { } body)
         {
             w.WritePropertyName("response");

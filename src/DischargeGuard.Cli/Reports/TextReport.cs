@@ -70,7 +70,8 @@ public static class TextReport
 
         w.WriteLine($"  Case '{c.Name}' — {Format.Subject(r.Asset, r.Site)} — verdict {Format.Verdict(r.Verdict)}");
         w.WriteLine($"    evaluation {r.Id} at {r.EvaluatedAt:u}, engine {r.EngineVersion}, method {r.Method}");
-        w.WriteLine($"    rules {r.RuleSet.Digest} ({string.Join(" ← ", r.RuleSet.Layers.Select(l => l.Name))})");
+        w.WriteLine($"    rules {r.RuleSet.Digest}");
+        w.WriteLine($"    {Format.Applied(r.RuleSet)}");
         foreach (var m in result.Messages)
         {
             w.WriteLine("    note: " + m);

@@ -50,4 +50,5 @@ public static class EvaluationJson
 [JsonSerializable(typeof(EvaluationRequest))]
 [JsonSerializable(typeof(EvaluationResponse))]
 [JsonSerializable(typeof(QuantityDto))]
+[JsonSerializable(typeof(LimitsInForceDto))]
 public sealed partial class EvaluationJsonContext : JsonSerializerContext;

@@ -45,10 +45,43 @@ public sealed record EvaluationResponse
     public required IReadOnlyList<string> Cautions { get; init; }
 }
 
-/// <summary>Digest of the merged rule set and its layers.</summary>
+/// <summary>Digest of the merged rule set and its layers, and plainly which layers applied.</summary>
 /// <param name="Digest">SHA-256 (hex) over the normalised merged content.</param>
 /// <param name="Layers">Layers in merge order.</param>
-public sealed record RuleSetDto(string Digest, IReadOnlyList<LayerDto> Layers);
+public sealed record RuleSetDto(string Digest, IReadOnlyList<LayerDto> Layers)
+{
+    /// <summary>
+    /// The layers applied in a plain sentence: "layers applied: default ← site:marlow-fen ← asset:C-204B", followed for
+    /// a site id or asset tag with no layer by "; no layer for asset C-204A: default and site rules only (nearest layer
+    /// asset:C-204B not applied: a different asset)". Absent only in answers recorded before it existed.
+    /// </summary>
+    public string? Applied { get; init; }
+
+    /// <summary>The request's site id or asset tag that selected no layer, each with the nearest layer not applied.</summary>
+    public IReadOnlyList<UnmatchedLayerDto>? Unmatched { get; init; }
+
+    /// <summary>The answer's rule set from a request's layer resolution.</summary>
+    /// <param name="resolution">A resolution that was not refused.</param>
+    /// <returns>The DTO.</returns>
+    public static RuleSetDto Of(Rules.Provider.LayerResolution resolution)
+    {
+        ArgumentNullException.ThrowIfNull(resolution);
+        var set = resolution.Set ?? throw new ArgumentException("The resolution was refused.", nameof(resolution));
+        return new RuleSetDto(set.Digest, set.Layers.Select(l => new LayerDto(l.Name, l.Digest)).ToArray())
+        {
+            Applied = resolution.Applied,
+            Unmatched = resolution.Unmatched.Count == 0 ? null
+                : resolution.Unmatched.Select(u => new UnmatchedLayerDto(u.Field == Rules.Provider.LayerIdField.Site ? "site.id" : "asset", u.Id, u.NearestLayer, u.Message)).ToArray(),
+        };
+    }
+}
+
+/// <summary>A site id or asset tag of the request that selected no layer.</summary>
+/// <param name="Field">The request path: <c>site.id</c> or <c>asset</c>.</param>
+/// <param name="Id">The id as given.</param>
+/// <param name="NearestLayer">The nearest layer (one or two characters away), which was not applied; null when none is that close.</param>
+/// <param name="Message">"no layer for asset C-204A: default and site rules only (…)".</param>
+public sealed record UnmatchedLayerDto(string Field, string Id, string? NearestLayer, string Message);
 
 /// <summary>A rule layer.</summary>
 /// <param name="Name">Layer name (default, site:&lt;id&gt;, asset:&lt;tag&gt;).</param>

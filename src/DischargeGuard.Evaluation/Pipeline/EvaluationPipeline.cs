@@ -68,7 +68,8 @@ public sealed class EvaluationPipeline
     {
         var stagesIn = request.Stages ?? throw Invalid("stages", "Give at least one stage.");
         var output = OutputUnitSystem.Named(request.OutputUnits);
-        var effective = Resolve(snapshot, request.Site?.Id, request.Asset);
+        var layers = Resolve(snapshot, request.Site?.Id, request.Asset);
+        var effective = layers.Set!;
         var barometer = Barometer(request.Site);
         var feed = Gas(request, barometer);
 
@@ -213,7 +214,7 @@ public sealed class EvaluationPipeline
             EngineVersion = EngineVersion,
             Asset = request.Asset,
             Site = request.Site?.Id,
-            RuleSet = new RuleSetDto(effective.Digest, effective.Layers.Select(l => new LayerDto(l.Name, l.Digest)).ToArray()),
+            RuleSet = RuleSetDto.Of(layers),
             Gas = new GasDto(
                 output.MolarMass(feed.MolarMass),
                 feed.Components.ToDictionary(c => c.Species.Id, c => Math.Round(c.MoleFraction, 8), StringComparer.Ordinal),
@@ -269,16 +270,13 @@ public sealed class EvaluationPipeline
         _ => service,
     };
 
-    private static EffectiveRuleSet Resolve(RuleSetSnapshot snapshot, string? siteId, string? asset)
+    // A near miss of a layer id ("c-204b" for C-204B) is refused rather than silently evaluated without that layer.
+    private static LayerResolution Resolve(RuleSetSnapshot snapshot, string? siteId, string? asset)
     {
-        try
-        {
-            return snapshot.Resolve(siteId, asset);
-        }
-        catch (ArgumentOutOfRangeException ex)
-        {
-            throw Invalid("site.id", ex.Message.Split(" (Parameter", StringSplitOptions.None)[0]);
-        }
+        var resolution = snapshot.ResolveRequest(siteId, asset);
+        return resolution.Refusal is { } refused
+            ? throw Invalid(refused.Field == LayerIdField.Site ? "site.id" : "asset", refused.Message)
+            : resolution;
     }
 
     private Pressure? Barometer(SiteInput? site)

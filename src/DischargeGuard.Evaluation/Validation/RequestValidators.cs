@@ -40,7 +40,8 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
         RuleFor(x => x.Asset)
             .NotEmpty().WithMessage("Give the asset tag of the machine (e.g. \"K-101A\").")
             .MaximumLength(100)
-            .Matches("^[A-Za-z0-9][A-Za-z0-9._\\-/ ]*$").WithMessage("An asset tag uses letters, digits, space and . _ - / only.");
+            .Matches(@"^[A-Za-z0-9](?:[A-Za-z0-9._\-/ ]*[A-Za-z0-9])?\z")
+            .WithMessage("An asset tag uses letters, digits, space and . _ - / only, and begins and ends with a letter or digit (no trailing space, dot or line break).");
         RuleFor(x => x.Site!).SetValidator(new SiteInputValidator(vocabulary)).When(x => x.Site is not null);
         RuleFor(x => x.Service)
             .Must(v => v is null || ContractValues.Services.Contains(v))
@@ -125,12 +126,27 @@ public sealed class SiteInputValidator : AbstractValidator<SiteInput>
         RuleFor(x => x.Id)
             .NotEmpty().WithMessage("Give the site id (it selects the site's rule layer).")
             .MaximumLength(64)
-            .Matches("^[a-z0-9][a-z0-9\\-]*$").WithMessage("A site id uses lower-case letters, digits and hyphens (e.g. \"kestrel-ridge\").");
+            .Matches(@"^[a-z0-9](?:[a-z0-9\-]*[a-z0-9])?\z")
+            .WithMessage(s => "A site id uses lower-case letters, digits and hyphens, and begins and ends with a letter or digit (e.g. \"kestrel-ridge\")"
+                + (SpelledAsSiteId(s.Id) is { } meant && meant != s.Id ? $"; did you mean {meant}?" : "."));
         RuleFor(x => x).Must(s => s.Elevation is null || s.BarometricPressure is null)
             .WithName("barometricPressure").WithMessage("Give the barometric pressure or the elevation, not both.");
         RuleFor(x => x.Elevation).Quantity(units, QuantityKind.Length).When(x => x.Elevation is not null);
         RuleFor(x => x.BarometricPressure).Quantity(units, QuantityKind.Pressure, allowedBases: [PressureBasis.NotStated, PressureBasis.Absolute],
             basisMessage: "A barometric pressure is absolute by nature; write it in a plain unit (kPa, hPa, mbar, bar, psi).").When(x => x.BarometricPressure is not null);
+    }
+
+    // "Marlow_Fen " is "marlow-fen" written with capitals, another separator or a trailing blank: name the id it spells.
+    private static string? SpelledAsSiteId(string? id)
+    {
+        if (id is null)
+        {
+            return null;
+        }
+
+        var words = id.Split(['-', '_', ' ', '.', '/', '\t', '\r', '\n'], StringSplitOptions.RemoveEmptyEntries);
+        var meant = string.Join('-', words).ToLowerInvariant();
+        return meant.Length > 0 && meant.All(c => char.IsAsciiLetterLower(c) || char.IsAsciiDigit(c) || c == '-') ? meant : null;
     }
 }
 

@@ -46,6 +46,12 @@ public static class CanonicalForm
                 w.WriteString("rule", o.RuleId);
                 w.WriteBoolean("disabled", o.Disabled);
                 w.WriteString("reason", o.Reason);
+                if (o.Basis is not null)
+                {
+                    // Written only when given, so the digests of layers without one are unchanged.
+                    w.WriteString("basis", o.Basis);
+                }
+
                 WriteSignOff(w, o.SignOff);
                 w.WritePropertyName("limit");
                 WriteNode(w, o.Raw?.Get("limit"));

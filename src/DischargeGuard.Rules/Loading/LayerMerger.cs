@@ -50,7 +50,12 @@ public static class LayerMerger
                     continue;
                 }
 
-                rules.Add(r with { LimitLayer = layer.Name });
+                var dimension = r.Quantities[0].Dimension();
+                rules.Add(r with
+                {
+                    LimitLayer = layer.Name,
+                    Chain = [new RuleChange(layer.Name, layer.File, "defined the rule", LimitText.Of(r), LimitText.BandOf(r.WarningBand, dimension), r.Basis, null, r.SignOff)],
+                });
             }
 
             foreach (var o in layer.Overrides)
@@ -135,7 +140,10 @@ public static class LayerMerger
             }
 
             rules.RemoveAt(index);
-            disabled.Add(new DisabledRule(o.RuleId, layer.Name, o.Reason));
+            disabled.Add(new DisabledRule(o.RuleId, layer.Name, o.Reason)
+            {
+                Chain = [.. rule.Chain, new RuleChange(layer.Name, layer.File, "disabled the rule", "none (disabled)", "none", o.Basis, o.Reason, o.SignOff)],
+            });
             return;
         }
 
@@ -157,6 +165,9 @@ public static class LayerMerger
         }
 
         var updated = rule;
+        var changes = new List<string>(2);
+        var oldLimitText = LimitText.Of(rule);
+        var newLimitText = LimitText.Of(newLimit, dimension, rule.RequiresSignedLimit);
         if (hasLimit && rule.RequiresSignedLimit && rule.Limit is null)
         {
             if (o.SignOff is null)
@@ -167,6 +178,7 @@ public static class LayerMerger
             }
 
             updated = updated with { Limit = newLimit, LimitLayer = layer.Name, SignOff = o.SignOff, LoosenedReason = null };
+            changes.Add($"set the signed limit {newLimitText}");
         }
         else if (hasLimit)
         {
@@ -186,6 +198,13 @@ public static class LayerMerger
                 LoosenedReason = cmp > 0 ? o.Reason : null,
                 SignOff = o.SignOff ?? (rule.RequiresSignedLimit ? null : rule.SignOff),
             };
+            changes.Add(cmp switch
+            {
+                < 0 => $"tightened the limit from {oldLimitText} to {newLimitText}",
+                0 => $"restated the limit {newLimitText}",
+                1 => $"loosened the limit from {oldLimitText} to {newLimitText}",
+                _ => $"replaced the limit {oldLimitText} with {newLimitText} (not comparable, so taken as a loosening)",
+            });
             if (rule.RequiresSignedLimit && o.SignOff is null)
             {
                 Err(errors, RuleFileErrorKind.LayeringViolation, layer, o.Location, "overrides.approvedBy", $"'{o.RuleId}' is a special-service rule; a changed limit needs a new sign-off (approvedBy, approvedOn).");
@@ -206,8 +225,23 @@ public static class LayerMerger
             {
                 updated = updated with { LoosenedReason = o.Reason, LimitLayer = layer.Name };
             }
+
+            var (from, to) = (LimitText.BandOf(rule.WarningBand, dimension), LimitText.BandOf(newBand, dimension));
+            changes.Add(newBand > rule.WarningBand ? $"widened the warning band from {from} to {to}"
+                : newBand < rule.WarningBand ? $"narrowed the warning band from {from} to {to}"
+                : $"restated the warning band {to}");
         }
 
+        // The basis shown with the rule is the basis of the limit in force: once a layer changes the limit or band, the
+        // lower layer's basis (which names its own numbers) would contradict it, so it moves to the chain and the layer's
+        // own basis (or reason, or sign-off) takes its place.
+        var basis = o.Basis ?? o.Reason
+            ?? (o.SignOff is { } so ? $"limit signed off by {so.ApprovedBy} on {so.ApprovedOn:yyyy-MM-dd}{(so.Reference is null ? string.Empty : " (" + so.Reference + ")")}" : null);
+        updated = updated with
+        {
+            Basis = layer.Name + ": " + (basis ?? "the layer states no basis for this change; the bases of the layers below are in the rule's chain"),
+            Chain = [.. rule.Chain, new RuleChange(layer.Name, layer.File, string.Join("; ", changes), LimitText.Of(updated), LimitText.BandOf(updated.WarningBand, dimension), o.Basis, o.Reason, o.SignOff)],
+        };
         rules[index] = updated;
     }
 

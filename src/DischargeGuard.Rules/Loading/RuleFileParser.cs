@@ -28,7 +28,7 @@ public static class RuleFileParser
     private static readonly string[] SetPointKeys = ["alarm", "trip", "minimumStep"];
     private static readonly string[] StepKeys = ["fraction", "atMost"];
     private static readonly string[] TrendKeys = ["evaluations", "steadyPressureWithin"];
-    private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "approvedBy", "approvedOn", "reference"];
+    private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "basis", "approvedBy", "approvedOn", "reference"];
 
     /// <summary>The only format version this loader reads.</summary>
     public const int SchemaVersion = 1;
@@ -101,6 +101,25 @@ public static class RuleFileParser
             kind = kindText switch { "site" => LayerKind.Site, "asset" => LayerKind.Asset, _ => LayerKind.Default };
             id = ctx.Text(l, "id", "layer.id", required: true) ?? "default";
             site = ctx.Text(l, "site", "layer.site");
+            foreach (var (key, value) in new[] { ("id", (string?)id), ("site", site) })
+            {
+                if (value is not null && l.Get(key) is { } node)
+                {
+                    ctx.IdLocations["layer/" + key] = ctx.Loc(node);
+                    if (!IsValidId(value))
+                    {
+                        ctx.Add(RuleFileErrorKind.BadValue, node, "layer." + key,
+                            $"'{value}' is not a layer id: 1 to 64 letters, digits, '-', '_' or '.', beginning and ending with a letter or digit (no trailing space, dot or line break).");
+                    }
+                    else if ((key == "site" || kind == LayerKind.Site) && !value.All(c => char.IsAsciiLetterLower(c) || char.IsAsciiDigit(c) || c == '-'))
+                    {
+                        // Requests name sites in this form only, so a site layer spelt otherwise could never be selected.
+                        ctx.Add(RuleFileErrorKind.BadValue, node, "layer." + key,
+                            $"'{value}' is not a site id: lower-case letters, digits and hyphens (e.g. \"kestrel-ridge\"), as requests name sites.");
+                    }
+                }
+            }
+
             title = ctx.Text(l, "title", "layer.title");
             ctx.Text(l, "description", "layer.description");
             ctx.Text(l, "owner", "layer.owner");
@@ -169,7 +188,7 @@ public static class RuleFileParser
 
         if (!IsValidId(id))
         {
-            ctx.Add(RuleFileErrorKind.BadValue, m.Get("id")!, path + ".id", $"Id '{id}' must be letters, digits, '-', '_' or '.', starting with a letter or digit.");
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("id")!, path + ".id", $"Id '{id}' must be letters, digits, '-', '_' or '.', beginning and ending with a letter or digit.");
         }
 
         if (ids.TryGetValue(id, out var first))
@@ -185,8 +204,7 @@ public static class RuleFileParser
         return id;
     }
 
-    internal static bool IsValidId(string id) =>
-        id.Length > 0 && id.Length <= 64 && char.IsAsciiLetterOrDigit(id[0]) && id.All(c => char.IsAsciiLetterOrDigit(c) || c is '-' or '_' or '.');
+    internal static bool IsValidId(string id) => Provider.LayerIds.IsWellFormed(id);
 
     private static ServiceClass? ParseService(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
     {
@@ -673,6 +691,13 @@ public static class RuleFileParser
         var ruleId = ctx.Text(m, "rule", path + ".rule", required: true);
         var disabled = ctx.Bool(m, "disabled", path + ".disabled") ?? false;
         var reason = ctx.Text(m, "reason", path + ".reason");
+        var basis = ctx.Text(m, "basis", path + ".basis");
+        if (basis is not null && string.IsNullOrWhiteSpace(basis))
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("basis")!, path + ".basis", "A basis is not blank.");
+            basis = null;
+        }
+
         var approvedBy = ctx.Text(m, "approvedBy", path + ".approvedBy");
         var approvedOnText = ctx.Text(m, "approvedOn", path + ".approvedOn");
         var reference = ctx.Text(m, "reference", path + ".reference");
@@ -711,6 +736,7 @@ public static class RuleFileParser
             RuleId = ruleId,
             Disabled = disabled,
             Reason = reason,
+            Basis = basis,
             SignOff = approvedBy is not null && approvedOn is not null ? new SignOff(approvedBy, approvedOn.Value, reference) : null,
             Location = ctx.Loc(mapNode),
             Raw = m,

@@ -258,7 +258,23 @@ public sealed record RuleDefinition
     public SignOff? SignOff { get; init; }
     /// <summary>Where it was defined.</summary>
     public SourceLocation? Location { get; init; }
+    /// <summary>
+    /// Every layer that touched the rule, lowest first: the one that defined it (with its own basis), then each override
+    /// with what it changed. Provenance only: the merged digest covers the effective values, not this list.
+    /// </summary>
+    public IReadOnlyList<RuleChange> Chain { get; init; } = [];
 }
+
+/// <summary>What one layer did to a rule.</summary>
+/// <param name="Layer">"default", "site:&lt;id&gt;" or "asset:&lt;tag&gt;".</param>
+/// <param name="File">The layer's file, relative to the rules directory.</param>
+/// <param name="Change">What it changed, in a plain sentence ("tightened the limit from 177 °C to 170 °C").</param>
+/// <param name="Limit">The limit after this layer (text with units, see <see cref="LimitText"/>).</param>
+/// <param name="WarningBand">The warning band after this layer (text with units).</param>
+/// <param name="Basis">The basis this layer gave: a defining layer's rule basis, an override's <c>basis</c>; null when it gave none.</param>
+/// <param name="Reason">The reason it gave (required to loosen or disable).</param>
+/// <param name="SignOff">Its sign-off, when it gave one.</param>
+public sealed record RuleChange(string Layer, string File, string Change, string Limit, string WarningBand, string? Basis, string? Reason, SignOff? SignOff);
 
 /// <summary>A change a site or asset layer makes to a rule defined below it.</summary>
 public sealed record RuleOverride
@@ -273,6 +289,8 @@ public sealed record RuleOverride
     public bool Disabled { get; init; }
     /// <summary>Why: required to loosen or disable.</summary>
     public string? Reason { get; init; }
+    /// <summary>Where the new limit comes from (a maker's data sheet, a purchase specification); optional, shown as the rule's basis.</summary>
+    public string? Basis { get; init; }
     /// <summary>Sign-off, required when setting a limit on a special-service rule.</summary>
     public SignOff? SignOff { get; init; }
     /// <summary>Where the override was written.</summary>
@@ -286,7 +304,11 @@ public sealed record RuleOverride
 /// <param name="RuleId">The rule.</param>
 /// <param name="Layer">The layer that disabled it.</param>
 /// <param name="Reason">Why.</param>
-public sealed record DisabledRule(string RuleId, string Layer, string Reason);
+public sealed record DisabledRule(string RuleId, string Layer, string Reason)
+{
+    /// <summary>Every layer that touched the rule, lowest first, ending with the one that disabled it.</summary>
+    public IReadOnlyList<RuleChange> Chain { get; init; } = [];
+}
 
 /// <summary>One parsed rule file.</summary>
 public sealed record RuleLayer

@@ -105,39 +105,8 @@ public sealed class FileRuleSetProvider : IRuleSetProvider, IDisposable
     public static RuleSetSnapshot LoadDirectory(string directory, DateTimeOffset loadedAt)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(directory);
-        var layers = new List<RuleLayer>();
-        var errors = new List<RuleFileError>();
-        foreach (var file in ReadConsistently(directory))
-        {
-            if (file.Error is { } unreadable)
-            {
-                errors.Add(unreadable);
-                continue;
-            }
-
-            try
-            {
-                var layer = RuleFileParser.Parse(file.Name, Decode(file.Bytes!), file.Kind);
-                var expectedId = Path.GetFileNameWithoutExtension(file.Name);
-                if (file.Kind != LayerKind.Default && layer.Id != expectedId)
-                {
-                    errors.Add(new RuleFileError(RuleFileErrorKind.BadValue, file.Name, 0, 0, "layer.id", $"The layer id '{layer.Id}' differs from the file name '{expectedId}'."));
-                }
-
-                layers.Add(layer);
-            }
-            catch (RuleFileException ex)
-            {
-                errors.AddRange(ex.Errors);
-            }
-        }
-
-        if (errors.Count > 0)
-        {
-            throw new RuleFileException(errors);
-        }
-
-        return RuleSetSnapshot.Create(layers, loadedAt);
+        // The same routine as the service's candidate check and the gate's rules check: one verdict for one set of files.
+        return RuleSetValidation.Build(ReadConsistently(directory).Select(f => (f.Name, f.Bytes is null ? null : Decode(f.Bytes), f.Error)), loadedAt);
     }
 
     /// <summary>One rule file as read: its modification time and bytes, or why it could not be read.</summary>

@@ -74,6 +74,30 @@ public sealed class RuleSetSnapshot
 
         var sites = Index(LayerKind.Site);
         var assets = Index(LayerKind.Asset);
+
+        // Two layers whose ids differ only in case or separators could not be told apart by a request that near-misses
+        // one of them, and an asset layer naming a near miss of a site layer would silently merge over the default alone.
+        foreach (var group in new[] { sites, assets })
+        {
+            foreach (var l in group.Values.OrderBy(l => l.File, StringComparer.Ordinal))
+            {
+                if (LayerIds.NearMissOf(l.Id, group.Keys) is { } other && string.CompareOrdinal(other, l.Id) < 0)
+                {
+                    errors.Add(At(RuleFileErrorKind.DuplicateId, l, "layer/id", "layer.id",
+                        $"Layer id '{l.Id}' differs from '{other}' ({group[other].File}) only in case or separators; one layer per machine or site, under one spelling."));
+                }
+            }
+        }
+
+        foreach (var a in assets.Values.Where(a => a.Site is not null && !sites.ContainsKey(a.Site)))
+        {
+            if (LayerIds.NearMissOf(a.Site!, sites.Keys) is { } site)
+            {
+                errors.Add(At(RuleFileErrorKind.UnknownReference, a, "layer/site", "layer.site",
+                    $"No site layer is named '{a.Site}', but site layer '{site}' differs from it only in case or separators: did you mean {site}?"));
+            }
+        }
+
         // An asset may name a site that has no file of its own: it then merges over the default alone.
         if (errors.Count > 0)
         {
@@ -99,6 +123,12 @@ public sealed class RuleSetSnapshot
         return snapshot;
     }
 
+    private static RuleFileError At(RuleFileErrorKind kind, RuleLayer layer, string location, string key, string message)
+    {
+        layer.IdLocations.TryGetValue(location, out var at);
+        return new RuleFileError(kind, layer.File, at?.Line ?? 1, at?.Column ?? 1, key, message);
+    }
+
     private static void Collect(List<RuleFileError> errors, Action action)
     {
         try
@@ -109,6 +139,75 @@ public sealed class RuleSetSnapshot
         {
             errors.AddRange(ex.Errors);
         }
+    }
+
+    /// <summary>
+    /// Resolves a request's site id and asset tag as <see cref="Resolve"/> does, but refuses an id that differs from a
+    /// layer's id only in case or separators (a near miss: "did you mean C-204B") and an asset named with another site,
+    /// and says plainly which layers applied and which ids selected none (with the nearest layer that was not applied).
+    /// Every caller that evaluates a request (the service, its batch, the gate CLI) goes through this.
+    /// </summary>
+    /// <param name="siteId">Site id, or null.</param>
+    /// <param name="assetId">Asset tag, or null.</param>
+    /// <returns>The resolution or its refusal; never throws for any ids.</returns>
+    public LayerResolution ResolveRequest(string? siteId, string? assetId)
+    {
+        if (siteId is not null && !Sites.ContainsKey(siteId) && LayerIds.NearMissOf(siteId, Sites.Keys) is { } site)
+        {
+            return new LayerResolution { Refusal = NearMiss(LayerIdField.Site, siteId, site) };
+        }
+
+        if (assetId is not null && !Assets.ContainsKey(assetId) && LayerIds.NearMissOf(assetId, Assets.Keys) is { } asset)
+        {
+            return new LayerResolution { Refusal = NearMiss(LayerIdField.Asset, assetId, asset) };
+        }
+
+        if (assetId is not null && Assets.TryGetValue(assetId, out var assetLayer) && assetLayer.Site is not null && siteId is not null && assetLayer.Site != siteId)
+        {
+            return new LayerResolution
+            {
+                Refusal = new LayerIdRefusal(LayerIdField.Site, siteId, assetLayer.Site,
+                    $"Asset '{assetId}' belongs to site '{assetLayer.Site}', not '{siteId}' (its layer names its site); give site '{assetLayer.Site}' or check the asset tag."),
+            };
+        }
+
+        var set = Resolve(siteId, assetId);
+        var unmatched = new List<UnmatchedLayerId>(2);
+        var hasSite = set.Layers.Any(l => l.Name.StartsWith("site:", StringComparison.Ordinal));
+        var hasAsset = set.Layers.Any(l => l.Name.StartsWith("asset:", StringComparison.Ordinal));
+        if (siteId is not null && !Sites.ContainsKey(siteId))
+        {
+            unmatched.Add(Unmatched(LayerIdField.Site, siteId, LayerIds.NearestOf(siteId, Sites.Keys), hasAsset ? "default and asset rules only" : "default rules only"));
+        }
+
+        if (assetId is not null && !Assets.ContainsKey(assetId))
+        {
+            unmatched.Add(Unmatched(LayerIdField.Asset, assetId, LayerIds.NearestOf(assetId, Assets.Keys), hasSite ? "default and site rules only" : "default rules only"));
+        }
+
+        var applied = "layers applied: " + string.Join(" ← ", set.Layers.Select(l => l.Name));
+        if (unmatched.Count > 0)
+        {
+            applied += "; " + string.Join("; ", unmatched.Select(u => u.Message));
+        }
+
+        return new LayerResolution { Set = set, Unmatched = unmatched, Applied = applied };
+    }
+
+    private static LayerIdRefusal NearMiss(LayerIdField field, string id, string layerId)
+    {
+        var what = field == LayerIdField.Site ? "site" : "asset";
+        return new LayerIdRefusal(field, id, layerId,
+            $"No {what} layer is named '{id}', but {what} layer '{layerId}' differs from it only in case or separators: did you mean {layerId}? "
+            + $"A near miss would silently drop that layer's limits, so it is refused; give the id exactly as its layer names it.");
+    }
+
+    private static UnmatchedLayerId Unmatched(LayerIdField field, string id, string? nearest, string rulesOnly)
+    {
+        var what = field == LayerIdField.Site ? "site" : "asset";
+        var nearestName = nearest is null ? null : what + ":" + nearest;
+        var message = $"no layer for {what} {id}: {rulesOnly}" + (nearestName is null ? string.Empty : $" (nearest layer {nearestName} not applied: a different {what})");
+        return new UnmatchedLayerId(field, id, nearestName, message);
     }
 
     /// <summary>

@@ -80,7 +80,7 @@ internal sealed partial class AuthOptionsValidator : IValidateOptions<AuthOption
             var where = $"Auth:Keys:{i} ('{key.Id}')";
             if (!IdPattern().IsMatch(key.Id))
             {
-                failures.Add($"{where}: id must be 1-64 letters, digits, '.', '_' or '-', starting with a letter or digit.");
+                failures.Add($"{where}: id must be 1-64 letters, digits, '.', '_' or '-', beginning and ending with a letter or digit.");
             }
             else if (!ids.Add(key.Id))
             {
@@ -110,9 +110,9 @@ internal sealed partial class AuthOptionsValidator : IValidateOptions<AuthOption
         return failures.Count == 0 ? ValidateOptionsResult.Success : ValidateOptionsResult.Fail(failures);
     }
 
-    [GeneratedRegex("^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")]
+    [GeneratedRegex(@"^[A-Za-z0-9](?:[A-Za-z0-9._-]{0,62}[A-Za-z0-9])?\z", RegexOptions.CultureInvariant)]
     internal static partial Regex IdPattern();
 
-    [GeneratedRegex("^[0-9A-Fa-f]{64}$")]
+    [GeneratedRegex(@"^[0-9A-Fa-f]{64}\z", RegexOptions.CultureInvariant)]
     private static partial Regex HashPattern();
 }

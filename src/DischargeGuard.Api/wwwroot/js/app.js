@@ -2,6 +2,7 @@
 
 import { call, describeProblem, forgetKey, saveKey, savedKey } from "./api.js";
 import { addStage, buildRequest, clearFieldErrors, parseComposition, removeLastStage, setCatalogues, showFieldErrors } from "./form.js";
+import { renderLimits } from "./limits.js";
 import { renderEvaluation, renderNoVerdict } from "./render.js";
 
 const $ = (selector) => document.querySelector(selector);
@@ -241,9 +242,21 @@ async function loadCatalogues() {
     return;
   }
 
+  const status = $("#limits-status");
+  const limits = $("#limits-body");
   if (outcome.kind === "ok") {
     setCatalogues(outcome.body.catalogues || {});
+    status.textContent = `Limits in force for ${asset || "any asset"}${site ? ` at ${site}` : ""}:`;
+    renderLimits(outcome.body, limits);
+    return;
   }
+
+  // A near miss of a layer id ("c-204b" for C-204B) is refused with "did you mean"; say it where the limits would be.
+  limits.replaceChildren();
+  const errors = outcome.kind === "problem" && outcome.body && outcome.body.errors ? Object.values(outcome.body.errors).flat() : [];
+  status.textContent = errors.length
+    ? `Limits not shown: ${errors.join(" ")}`
+    : `Limits not available: ${outcome.kind === "unreachable" ? outcome.reason : describeProblem(outcome)}`;
 }
 
 let historyRequest = 0;

@@ -310,11 +310,24 @@ export function renderEvaluation(body, container) {
     container.append(stageSection(stage, stages.length));
   }
 
+  container.append(rulesApplied(body.ruleSet || {}));
   container.append(h("h3", {}, "Record"));
   container.append(h("p", {}, h("strong", {}, "Evaluation id: "), h("span", { class: "evaluation-id", "data-id": body.id }, body.id)));
   container.append(h("p", {}, `Evaluated ${body.evaluatedAt} for ${body.asset || "no asset"}${body.site ? ` at ${body.site}` : ""}; `
     + `rule set ${String(body.ruleSet && body.ruleSet.digest).slice(0, 12)}… (${(body.ruleSet.layers || []).map((l) => l.name).join(", ")}); `
     + `method ${body.method}.`));
+}
+
+/** Which rule layers decided this answer, plainly, with any site or asset that has no layer of its own. */
+function rulesApplied(ruleSet) {
+  const layers = (ruleSet.layers || []).map((l) => l.name);
+  const section = h("section", { class: "rules-applied", "aria-labelledby": "rules-applied-heading" },
+    h("h3", { id: "rules-applied-heading" }, "Rules applied"),
+    h("p", { class: "layers-applied", "data-layers": layers.join(" ") }, `Layers: ${layers.join(" ← ")}.`));
+  for (const u of ruleSet.unmatched || []) {
+    section.append(h("p", { class: "layer-unmatched", role: "note", "data-field": u.field }, `${u.message.charAt(0).toUpperCase()}${u.message.slice(1)}.`));
+  }
+  return section;
 }
 
 /** Fills the result body with a plain "no verdict" and its reason. */
