@@ -227,6 +227,12 @@ internal static partial class BatchApi
                     return (null, BodyProblem(reader.GetString() ?? string.Empty, "Unknown field: a batch body has only 'evaluations'."));
                 }
 
+                if (sawItems)
+                {
+                    // Two arrays would both be evaluated (or, read last-wins elsewhere, one silently dropped).
+                    return (null, BodyProblem("evaluations", "Duplicate member 'evaluations': give one array. Nothing was evaluated or stored."));
+                }
+
                 if (!reader.Read() || reader.TokenType != JsonTokenType.StartArray)
                 {
                     return (null, BodyProblem("evaluations", "'evaluations' is an array of evaluation requests."));
