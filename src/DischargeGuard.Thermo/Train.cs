@@ -184,6 +184,12 @@ public static class TrainSolver
             // Water above saturation at the stage's suction (after its cooler, or a wet feed) drops out first.
             Condensate? condensate = null;
             var before = gas;
+            if (gas.WaterMoleFraction >= 1 && t1 >= WaterSaturation.MinimumKelvin && t1 <= WaterSaturation.CriticalKelvin && WaterSaturation.SaturationPressurePascals(t1) < p1)
+            {
+                // All water, below its saturation: nothing would be left to compress (the drop-out needs a dry part).
+                throw ThermoErrors.OutOfRange(Member(i, "SuctionTemperature"), t1, "The gas is all water vapour and at this suction it lies below its saturation temperature: it would condense entirely.");
+            }
+
             gas = DropOutWater(gas, t1, p1, out var massFraction);
             if (!ReferenceEquals(before, gas))
             {

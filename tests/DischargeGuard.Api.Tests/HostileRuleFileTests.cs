@@ -79,7 +79,7 @@ public sealed class HostileRuleFileTests(FloodServiceFactory factory) : IClassFi
             {
                 var broken = Mutate(good, m);
                 await File.WriteAllBytesAsync(path, broken);
-                using var response = await client.PostAsync(new Uri("/v1/rules/reload", UriKind.Relative), null);
+                using var response = await client.PostWithoutBodyAsync("/v1/rules/reload");
                 var status = (int)response.StatusCode;
                 Assert.True(status is 200 or 422, $"{m} → {status}: {await response.Content.ReadAsStringAsync()}");
 
@@ -97,7 +97,7 @@ public sealed class HostileRuleFileTests(FloodServiceFactory factory) : IClassFi
         finally
         {
             await File.WriteAllBytesAsync(path, good);
-            using var restored = await client.PostAsync(new Uri("/v1/rules/reload", UriKind.Relative), null);
+            using var restored = await client.PostWithoutBodyAsync("/v1/rules/reload");
             Assert.Equal(HttpStatusCode.OK, restored.StatusCode);
         }
 

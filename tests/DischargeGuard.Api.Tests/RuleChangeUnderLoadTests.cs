@@ -155,7 +155,7 @@ public sealed class RuleChangeUnderLoadTests(ITestOutputHelper output)
                         while (reloaded < 150 && unexpected.IsEmpty)
             {
                 Assert.True(clock.Elapsed < ChangeTimeout, $"only {reloaded} reloads succeeded in {ChangeTimeout.TotalSeconds} s ({refused} refused)");
-                using var response = await client.PostAsync(new Uri("/v1/rules/reload", UriKind.Relative), content: null);
+                using var response = await client.PostWithoutBodyAsync("/v1/rules/reload");
                 if (response.StatusCode == HttpStatusCode.OK)
                 {
                     reloaded++;

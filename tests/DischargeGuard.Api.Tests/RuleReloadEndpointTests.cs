@@ -1,4 +1,5 @@
 using System.Net;
+using System.Text.Json;
 using DischargeGuard.Api.Infrastructure.Security;
 using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.Options;
@@ -43,6 +44,44 @@ public sealed class RuleReloadEndpointTests
         using var technician = factory.ClientWith(factory.KeyFor(Roles.Technician));
         using var rules = await technician.GetAsync(new Uri("/v1/rules", UriKind.Relative));
         Assert.Equal(goodDigest, (await Json.ReadAsync(rules)).At("digest").GetString());
+    }
+
+    [Fact]
+    public async Task Readiness_AfterARefusedReload_ShowsTheErrorsToAnAdminKeyOnly()
+    {
+        await using var factory = new KeyedServiceFactory();
+        using var admin = factory.ClientWith(factory.KeyFor(Roles.Admin));
+        await File.WriteAllTextAsync(
+            Path.Combine(factory.RulesDirectory, "sites", "kestrel-ridge.yaml"),
+            BrokenSite.Replace("limt: 130 °C", "limt-quarry-lane-7: 130 °C", StringComparison.Ordinal));
+        using (var broken = await admin.PostAsync(new Uri("/v1/rules/reload", UriKind.Relative), content: null))
+        {
+            Assert.Equal(HttpStatusCode.UnprocessableEntity, broken.StatusCode);
+        }
+
+        var ready = new Uri("/health/ready", UriKind.Relative);
+        foreach (var key in new[] { null, "not-a-key", factory.KeyFor(Roles.Technician), factory.KeyFor(Roles.Planner), factory.KeyFor(Roles.Gate) })
+        {
+            using var client = factory.ClientWith(key);
+            using var response = await client.GetAsync(ready);
+            var text = await response.Content.ReadAsStringAsync();
+
+            // The status, and that the rules are degraded; nothing of the file: no key, no value, no name, no digest.
+            Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+            var body = JsonDocument.Parse(text).RootElement;
+            Assert.Equal("Degraded", body.At("status").GetString());
+            Assert.Equal("Degraded", body.At("checks.rules.status").GetString());
+            Assert.False(body.At("checks.rules").Has("data"), text);
+            Assert.DoesNotContain("quarry", text, StringComparison.Ordinal);
+            Assert.DoesNotContain("kestrel-ridge", text, StringComparison.Ordinal);
+            Assert.DoesNotContain("130", text, StringComparison.Ordinal);
+        }
+
+        using var asAdmin = await admin.GetAsync(ready);
+        var detail = await Json.ReadAsync(asAdmin);
+        var error = Assert.Single(detail.At("checks.rules.data.lastReloadErrors").EnumerateArray()).GetString();
+        Assert.Contains("sites/kestrel-ridge.yaml", error, StringComparison.Ordinal);
+        Assert.Contains("limt-quarry-lane-7", error, StringComparison.Ordinal);
     }
 
     [Theory]

@@ -54,6 +54,21 @@ internal static class Json
     public static bool Has(this JsonElement element, string name) => element.ValueKind == JsonValueKind.Object && element.TryGetProperty(name, out _);
 }
 
+/// <summary>Requests a service without keys takes only with the intent header (AnonymousBrowserGuard).</summary>
+internal static class Intent
+{
+    public const string Header = "X-DischargeGuard-Intent";
+
+    /// <summary>POSTs no body to <paramref name="path"/>, saying it is meant (a reload, a replay).</summary>
+    public static async Task<HttpResponseMessage> PostWithoutBodyAsync(this HttpClient client, string path)
+    {
+        ArgumentNullException.ThrowIfNull(client);
+        using var request = new HttpRequestMessage(HttpMethod.Post, new Uri(path, UriKind.RelativeOrAbsolute));
+        request.Headers.Add(Header, "1");
+        return await client.SendAsync(request);
+    }
+}
+
 /// <summary>Assertions that say what was expected, what came and by how much they differ.</summary>
 internal static class AssertEx
 {

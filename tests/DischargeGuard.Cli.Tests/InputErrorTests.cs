@@ -156,4 +156,37 @@ public class InputErrorTests
         Assert.Contains("dup.yaml:11:5: cases[1].name: The case name 'design' is also used by cases[0]", run.Stderr, StringComparison.Ordinal);
         Assert.Single(AuditFile.Records(temp.File("audit.db")));
     }
+
+    // 40 000 nested '[' (80 KB with the closing ones): read by recursion, this depth overflows the stack, which kills
+    // the process instead of failing the file.
+    private const int Deep = 40_000;
+
+    [Theory]
+    [InlineData("deep.yaml", "asset: C-204B\ngas: ")]
+    [InlineData("deep.json", "{\"asset\": \"C-204B\", \"gas\": ")]
+    public async Task DeeplyNestedProposal_Exits64NamingFileLineAndColumn(string name, string prefix)
+    {
+        using var temp = new TempFolder();
+        var json = name.EndsWith(".json", StringComparison.Ordinal);
+        var run = await CheckAsync(temp, name, prefix + new string('[', Deep) + new string(']', Deep) + (json ? "}" : "\n"));
+        Assert.True(run.ExitCode == 64, run.ToString());
+        Assert.Matches(name.Replace(".", @"\.", StringComparison.Ordinal) + (json ? ":1:" : ":2:") + @"\d+: ", run.Stderr);
+        Assert.Matches("(?i)deeper|depth", run.Stderr);
+        Assert.Empty(AuditFile.Records(temp.File("audit.db")));
+    }
+
+    [Fact]
+    public async Task DeeplyNestedRuleFile_RulesCheckExits64NamingFileLineAndColumn()
+    {
+        using var temp = new TempFolder();
+        var rules = temp.File("rules");
+        Repo.CopyDirectory(Repo.Rules, rules);
+        File.WriteAllText(Path.Combine(rules, "sites", "marlow-fen.yaml"), new string('[', Deep) + new string(']', Deep) + "\n");
+
+        var run = await Gate.RunAsync("rules", "check", rules);
+
+        Assert.True(run.ExitCode == 64, run.ToString());
+        Assert.Contains("sites/marlow-fen.yaml:1:33: ", run.Stderr, StringComparison.Ordinal);
+        Assert.Contains("nests deeper than 32", run.Stderr, StringComparison.Ordinal);
+    }
 }

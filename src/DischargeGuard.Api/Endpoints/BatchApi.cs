@@ -227,6 +227,12 @@ internal static partial class BatchApi
                     return (null, BodyProblem(reader.GetString() ?? string.Empty, "Unknown field: a batch body has only 'evaluations'."));
                 }
 
+                if (sawItems)
+                {
+                    // Two arrays would both be evaluated (or, read last-wins elsewhere, one silently dropped).
+                    return (null, BodyProblem("evaluations", "Duplicate member 'evaluations': give one array. Nothing was evaluated or stored."));
+                }
+
                 if (!reader.Read() || reader.TokenType != JsonTokenType.StartArray)
                 {
                     return (null, BodyProblem("evaluations", "'evaluations' is an array of evaluation requests."));
@@ -405,11 +411,18 @@ internal static partial class BatchApi
                 return;
             }
 
-            var (request, refusal) = c.Runner.Read(items[i].Json);
-            chunk.Requests[i] = request;
-            if (refusal is not null)
+            try
             {
-                chunk.Results[i] = refusal;
+                var (request, refusal) = c.Runner.Read(items[i].Json);
+                chunk.Requests[i] = request;
+                if (refusal is not null)
+                {
+                    chunk.Results[i] = refusal;
+                }
+            }
+            catch (Exception e) when (e is not OperationCanceledException)
+            {
+                chunk.Results[i] = ItemFailed(c, items[i].Index, e);
             }
         });
         timing.EvaluateMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
@@ -454,7 +467,16 @@ internal static partial class BatchApi
         {
             if (chunk.Requests[i] is { } request)
             {
-                chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i]);
+                // Evaluating touches no store, so whatever it throws is this item's failure alone (the appends, and
+                // their failures, come after).
+                try
+                {
+                    chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i]);
+                }
+                catch (Exception e) when (e is not OperationCanceledException)
+                {
+                    chunk.Results[i] = ItemFailed(c, chunk.Items[i].Index, e);
+                }
             }
         });
         timing.EvaluateMs += Stopwatch.GetElapsedTime(started).TotalMilliseconds;
@@ -466,6 +488,15 @@ internal static partial class BatchApi
                 chunk.Appends[i] = c.Audit.AppendAsync(record, c.Http.RequestAborted).AsTask();
             }
         }
+    }
+
+    // An item whose reading or evaluation failed unexpectedly: its own 500 problem (nothing recorded), logged like an
+    // unhandled error of a single request (type and message, the stack only at Debug); the other items go on.
+    private static RunResult ItemFailed(BatchContext c, int index, Exception e)
+    {
+        LogItemFailed(c.Logger, index, e.GetType().Name, e.Message);
+        LogItemFailedDetail(c.Logger, e, index);
+        return RunResult.Refused(ItemProblems.Internal());
     }
 
     // Each item is answered only once its record is committed; one the store refused is that item's 503.
@@ -628,6 +659,12 @@ internal static partial class BatchApi
 
     [LoggerMessage(EventId = 22, Level = LogLevel.Information, Message = "Batch item {Index}: evaluation {EvaluationId} of {Asset}: {Verdict}, rules {RuleDigest}")]
     private static partial void LogItem(ILogger logger, int index, Guid evaluationId, string asset, string verdict, string ruleDigest);
+
+    [LoggerMessage(EventId = 23, Level = LogLevel.Error, Message = "Batch item {Index} not evaluated: unhandled {ExceptionType}: {Reason}")]
+    private static partial void LogItemFailed(ILogger logger, int index, string exceptionType, string reason);
+
+    [LoggerMessage(EventId = 24, Level = LogLevel.Debug, Message = "Batch item {Index} not evaluated, in full")]
+    private static partial void LogItemFailedDetail(ILogger logger, Exception exception, int index);
 
     [LoggerMessage(EventId = 21, Level = LogLevel.Error, Message = "Batch not answered: the audit store refused the first {Items} items")]
     private static partial void LogBatchUnavailable(ILogger logger, int items);

@@ -1,4 +1,5 @@
 using System.Text.Json;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Rules.Provider;
 using Microsoft.AspNetCore.Diagnostics.HealthChecks;
@@ -30,20 +31,34 @@ public static class HealthApi
     private static Task WriteAsync(HttpContext http, HealthReport report)
     {
         http.Response.ContentType = "application/json; charset=utf-8";
+
+        // Probes send no key, and the detail (a refused rule file's errors quote its keys and values) is not theirs to
+        // read: without an admin key each check says only its status and a fixed sentence. With no keys configured the
+        // service is loopback-only and every endpoint is open, so the detail is too.
+        var detail = ShowsDetail(http);
         var doc = new Dictionary<string, object?>
         {
             ["status"] = report.Status.ToString(),
             ["checks"] = report.Entries.ToDictionary(
                 e => e.Key,
-                e => (object?)new Dictionary<string, object?>
+                e =>
                 {
-                    ["status"] = e.Value.Status.ToString(),
-                    ["description"] = e.Value.Description,
-                    ["data"] = e.Value.Data.Count == 0 ? null : e.Value.Data,
+                    var check = new Dictionary<string, object?> { ["status"] = e.Value.Status.ToString(), ["description"] = e.Value.Description };
+                    if (detail && e.Value.Data.Count > 0)
+                    {
+                        check["data"] = e.Value.Data;
+                    }
+
+                    return (object?)check;
                 }),
         };
         return http.Response.WriteAsync(JsonSerializer.Serialize(doc, HealthJson), http.RequestAborted);
     }
+
+    /// <summary>Whether the caller may read the checks' data: an admin key, or no keys configured at all.</summary>
+    internal static bool ShowsDetail(HttpContext http) =>
+        http.RequestServices.GetRequiredService<ApiKeyRegistry>().IsOpen
+        || (http.User.Identity?.IsAuthenticated == true && http.User.IsInRole(Roles.Admin));
 
     private static readonly JsonSerializerOptions HealthJson = new() { PropertyNamingPolicy = JsonNamingPolicy.CamelCase, WriteIndented = false };
 }

@@ -75,6 +75,12 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
     internal static string CleanJsonMessage(JsonException json)
     {
         var m = json.Message;
+        if (m.StartsWith("Duplicate propert", StringComparison.Ordinal))
+        {
+            // The serializer's wording names .NET types (a converter's "Duplicate member …" is already the contract's).
+            return "Duplicate member: this member is named more than once in its object; name it once. Nothing was evaluated or stored.";
+        }
+
         if (m.Contains("could not be mapped", StringComparison.Ordinal) || m.Contains("unmapped", StringComparison.OrdinalIgnoreCase))
         {
             return "Unknown field: the contract has no field of this name here (check the spelling and the OpenAPI document).";

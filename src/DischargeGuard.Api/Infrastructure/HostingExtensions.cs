@@ -152,6 +152,8 @@ public static class HostingExtensions
         });
         app.UseExceptionHandler();
         app.UseStatusCodePages();
+        // Without keys: loopback host names only, and nothing state-changing a web page of another site could send.
+        app.UseAnonymousBrowserGuard();
         app.Use((context, next) =>
         {
             // The Kestrel limit does not apply under other servers; a declared length over the limit is refused

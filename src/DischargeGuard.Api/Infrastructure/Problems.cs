@@ -17,6 +17,8 @@ internal static class Problems
     public const string Forbidden = "forbidden";
     public const string RateLimited = "rate-limited";
     public const string RulesInvalid = "rules-invalid";
+    public const string CrossSiteRefused = "cross-site-refused";
+    public const string TooManyBatches = "too-many-batches";
 
     public static string TypeUri(string code) => "urn:dischargeguard:problem:" + code;
 

@@ -6,7 +6,8 @@ namespace DischargeGuard.Evaluation.Contract;
 
 /// <summary>
 /// The contract's JSON settings, shared by the web host, the gate CLI and the tests: camelCase, unknown properties refused
-/// (a misspelt field must not be silently ignored by a safety check), nulls omitted on output, source-generated.
+/// (a misspelt field must not be silently ignored by a safety check), duplicate members refused, nulls omitted on output,
+/// source-generated.
 /// </summary>
 public static class EvaluationJson
 {
@@ -25,6 +26,9 @@ public static class EvaluationJson
         options.AllowTrailingCommas = false;
         options.ReadCommentHandling = JsonCommentHandling.Disallow;
         options.MaxDepth = 32;
+        // A member named twice would be read last-wins while the record keeps both: the audited request could then read
+        // 2.6 barg where 1.0 barg was evaluated. Refused in objects and dictionaries alike (the quantity converter checks its own).
+        options.AllowDuplicateProperties = false;
         // Unit symbols (°, ³, Δ) are written as characters, not \u escapes, so answers read as written.
         options.Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping;
         options.TypeInfoResolverChain.Insert(0, EvaluationJsonContext.Default);
@@ -46,6 +50,7 @@ public static class EvaluationJson
     DefaultIgnoreCondition = JsonIgnoreCondition.WhenWritingNull,
     UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow,
     NumberHandling = JsonNumberHandling.Strict,
+    AllowDuplicateProperties = false,
     MaxDepth = 32)]
 [JsonSerializable(typeof(EvaluationRequest))]
 [JsonSerializable(typeof(EvaluationResponse))]

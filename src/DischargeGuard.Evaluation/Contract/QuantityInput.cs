@@ -48,6 +48,11 @@ public sealed class QuantityInputJsonConverter : JsonConverter<QuantityInput>
                     }
 
                     var name = reader.GetString();
+                    if ((name == "value" && value is not null) || (name == "unit" && unit is not null))
+                    {
+                        throw new JsonException($"Duplicate member '{name}': a quantity object names each of 'value' and 'unit' once.");
+                    }
+
                     reader.Read();
                     switch (name)
                     {

@@ -62,6 +62,13 @@ public sealed class EvaluationPipeline
         {
             return EvaluationOutcome.Refused(ex.Problem);
         }
+        catch (ThermoInputException ex)
+        {
+            // Every range error of the physics is the request's 422: the call sites above map theirs to the field the
+            // caller typed; one that escapes them still names its stage member, or the stages when it names none.
+            var member = ex.ParamName is { } p && (p.StartsWith("stages[", StringComparison.Ordinal) || p.StartsWith("gas.", StringComparison.Ordinal)) ? p : null;
+            return EvaluationOutcome.Refused(Unprocessable(MapThermoMember(member, request.Stages ?? []), ex.Reason).Problem);
+        }
     }
 
     private EvaluationResponse EvaluateOrThrow(EvaluationRequest request, RuleSetSnapshot snapshot, EvaluationContext context)
@@ -104,7 +111,7 @@ public sealed class EvaluationPipeline
         {
             var s = solved[i];
             var input = stagesIn[i];
-            var facts = FactsOf(s, input, i, solved.Length, declared, efficiencySources[i].Source == "rule-default");
+            var facts = FactsOf(s, input, i, solved.Length, declared, efficiencySources[i].Source == "rule-default", HumidityField(request.Gas));
             if (context.History is { } history && i < history.Count)
             {
                 facts = facts with { DeviationHistory = history[i] };
@@ -538,7 +545,7 @@ public sealed class EvaluationPipeline
         return (stage, verdict, ruled.ServiceClasses);
     }
 
-    private StageFacts FactsOf(TrainStageResult s, StageInput input, int index, int count, IReadOnlyList<string> declared, bool defaulted)
+    private StageFacts FactsOf(TrainStageResult s, StageInput input, int index, int count, IReadOnlyList<string> declared, bool defaulted, string humidityField)
     {
         var path = string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
         var r = s.Stage;
@@ -566,9 +573,30 @@ public sealed class EvaluationPipeline
             NormalOperatingDischarge = Optional(input.Operation?.NormalDischargeTemperature, path + ".operation.normalDischargeTemperature"),
             JacketCoolantInlet = Optional(input.Operation?.CoolantInletTemperature, path + ".operation.coolantInletTemperature"),
             UnloadedRunning = input.Operation?.UnloadedRunning,
-            DischargeWaterDewPoint = HumidGas.DewPoint(s.Gas, r.DischargePressure),
+            DischargeWaterDewPoint = DischargeDewPoint(s, index, humidityField),
         };
     }
+
+    // The water dew point at a stage's discharge. The water-saturation data cover 200–647.096 K: a gas carrying so little
+    // water that its dew point at the discharge pressure lies below 200 K (humid air drawn in at −73 °C, say) is outside
+    // them, and so is the check that uses it; that is the humidity field's 422, never a 500.
+    private static Temperature? DischargeDewPoint(TrainStageResult s, int index, string humidityField)
+    {
+        try
+        {
+            return HumidGas.DewPoint(s.Gas, s.Stage.DischargePressure);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable(
+                humidityField,
+                string.Create(CultureInfo.InvariantCulture, $"The water dew point at stage {index + 1}'s discharge is outside the water-saturation data ({WaterSaturation.MinimumKelvin}–{WaterSaturation.CriticalKelvin} K), so the condensation check cannot be made: ") + ex.Reason);
+        }
+    }
+
+    // The field that put water into the gas, for an error about the water.
+    private static string HumidityField(GasInput? gas) =>
+        gas?.RelativeHumidity is not null ? "gas.relativeHumidity" : gas?.DewPoint is not null ? "gas.dewPoint" : "gas.composition.H2O";
 
     private static StageDto StageOf(
         TrainStageResult s, RuleStageResult ruled, IReadOnlyList<FindingDto> findings, (string Source, string? Basis) efficiencySource,

@@ -30,6 +30,9 @@ public static class RuleFileParser
     private static readonly string[] TrendKeys = ["evaluations", "steadyPressureWithin"];
     private static readonly string[] OverrideKeys = ["rule", "limit", "warningBand", "disabled", "reason", "basis", "approvedBy", "approvedOn", "reference"];
 
+    /// <summary>The deepest nesting of mappings and sequences a rule file may have (the shipped files use 5).</summary>
+    public const int MaxNestingDepth = 32;
+
     /// <summary>The only format version this loader reads.</summary>
     public const int SchemaVersion = 1;
 
@@ -52,12 +55,47 @@ public static class RuleFileParser
         return layer with { Digest = CanonicalForm.Digest(CanonicalForm.OfLayer(layer)) };
     }
 
+    // The start of the first mapping or sequence deeper than MaxNestingDepth, from the parser's events (no tree is built);
+    // null when none is. A syntax error is thrown as the YAML reader throws it, for the caller's handlers.
+    private static Mark? TooDeep(string yaml)
+    {
+        var parser = new YamlDotNet.Core.Parser(new StringReader(yaml));
+        var depth = 0;
+        while (parser.MoveNext())
+        {
+            switch (parser.Current)
+            {
+                case YamlDotNet.Core.Events.MappingStart or YamlDotNet.Core.Events.SequenceStart:
+                    if (++depth > MaxNestingDepth)
+                    {
+                        return parser.Current.Start;
+                    }
+
+                    break;
+                case YamlDotNet.Core.Events.MappingEnd or YamlDotNet.Core.Events.SequenceEnd:
+                    depth--;
+                    break;
+            }
+        }
+
+        return null;
+    }
+
     private static RuleLayer? ParseCore(Context ctx, string yaml, LayerKind? expectedKind)
     {
         var stream = new YamlStream();
         var parser = new YamlDotNet.Core.Parser(new StringReader(yaml));
         try
         {
+            // The tree below is built by recursion, one frame per level: 40 000 nested '[' overflowed the stack, which
+            // no handler can catch. The event stream is read flat, so its depth is counted first.
+            if (TooDeep(yaml) is { } deep)
+            {
+                ctx.Errors.Add(new RuleFileError(RuleFileErrorKind.Syntax, ctx.File, deep.Line, deep.Column, "",
+                    string.Create(CultureInfo.InvariantCulture, $"The YAML nests deeper than {MaxNestingDepth} levels here; a rule file needs far fewer. Nothing of the file was read.")));
+                return null;
+            }
+
             stream.Load(parser);
         }
         catch (YamlException ex)

@@ -35,6 +35,9 @@ export async function call(method, path, body) {
 
   if (body !== undefined) {
     headers["Content-Type"] = "application/json";
+  } else if (method !== "GET" && method !== "HEAD") {
+    // A service without keys refuses a bodyless POST (a reload, a replay) unless it says it is meant.
+    headers["X-DischargeGuard-Intent"] = "1";
   }
 
   const controller = new AbortController();
