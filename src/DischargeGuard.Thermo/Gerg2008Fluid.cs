@@ -150,15 +150,22 @@ public sealed class Gerg2008Fluid
     }
 
     /// <summary>
-    /// Null when (T, p) is taken as gas; otherwise the reason it is not. Checks: (1) a gas root exists (the pressure is
+    /// Null when (T, p) is taken as gas; otherwise the reason it is not. Checks, below 1.25·T_r: (1) a gas root exists (the pressure is
     /// below the vapour spinodal of the isotherm at this composition); (2) below 1.25·T_r, a denser (liquid) root of
     /// lower Gibbs energy means the gas root is metastable: liquid or two-phase; (3) below T_r a gas root denser than
-    /// ρ_r is liquid-like; (4) water above its saturation partial pressure condenses. As for the Peng-Robinson model,
+    /// ρ_r is liquid-like; and at any temperature (4) water above its saturation partial pressure condenses. As for the Peng-Robinson model,
     /// a mixture's dew point between those is not detected (no flash).
     /// </summary>
     internal string? PhaseProblem(double tKelvin, double pPascals)
     {
         var eos = _eos;
+        if (tKelvin >= UnstableCheckReducedTemperature * eos.ReducingTemperatureKelvin)
+        {
+            // Well above the reducing temperature the isotherm has no loop: a gas root always exists (the density solver
+            // of every property call still reports one it cannot find) and only water can condense.
+            return WaterProblem(tKelvin, pPascals);
+        }
+
         var n1 = eos.PolynomialTermCount;
         var n2 = eos.GaussianTermCount;
         Span<double> polyTau = stackalloc double[n1];
@@ -188,13 +195,18 @@ public sealed class Gerg2008Fluid
             return string.Create(inv, $"At {tKelvin:0.##} K and {pPascals / 1000:0.###} kPa the only GERG-2008 root is liquid-like ({rhoGas / 1000:0.###} mol/L, denser than the reducing density {rhoR / 1000:0.###} mol/L, below the reducing temperature {tr:0.#} K): the real-gas stage needs gas.");
         }
 
+        return WaterProblem(tKelvin, pPascals);
+    }
+
+    private string? WaterProblem(double tKelvin, double pPascals)
+    {
         if (_waterFraction > 0 && tKelvin >= WaterSaturation.MinimumKelvin && tKelvin < WaterSaturation.CriticalKelvin)
         {
             var pw = _waterFraction * pPascals;
             var sat = WaterSaturation.SaturationPressurePascals(tKelvin);
             if (pw > sat)
             {
-                return string.Create(inv, $"At {tKelvin:0.##} K and {pPascals / 1000:0.###} kPa the water partial pressure {pw:0.#} Pa is above its saturation pressure {sat:0.#} Pa: water would condense.");
+                return string.Create(CultureInfo.InvariantCulture, $"At {tKelvin:0.##} K and {pPascals / 1000:0.###} kPa the water partial pressure {pw:0.#} Pa is above its saturation pressure {sat:0.#} Pa: water would condense.");
             }
         }
 

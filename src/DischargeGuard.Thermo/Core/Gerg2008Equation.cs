@@ -26,20 +26,29 @@ internal sealed class Gerg2008Equation
 
     private const int MaxPower = 10;
 
-    // Polynomial and exp(−δ^c) terms (c = 0: no exponential).
+    // Terms: coefficient, index of their τ exponent in _tDistinct, and their density group. Terms whose density factor is
+    // the same (polynomial/exp(−δ^c) terms with equal d and c; Gaussian terms with equal d, η, ε, β, γ) share a group, so a
+    // density evaluation costs one pass over the groups, whatever the number of terms: per temperature each group gets
+    // Σ n τ^t, Σ n τ^t·t and Σ n τ^t·t(t − 1).
     private readonly double[] _pn;
-    private readonly double[] _pt;
-    private readonly int[] _pd;
-    private readonly int[] _pc;
-
-    // Departure-function exponential terms n δ^d τ^t exp(−η(δ − ε)² − β(δ − γ)).
+    private readonly int[] _pTi;
+    private readonly int[] _pG;
     private readonly double[] _gn;
-    private readonly double[] _gt;
-    private readonly int[] _gd;
-    private readonly double[] _gEta;
-    private readonly double[] _gEps;
-    private readonly double[] _gBeta;
-    private readonly double[] _gGamma;
+    private readonly int[] _gTi;
+    private readonly int[] _gG;
+    private readonly double[] _tDistinct;
+
+    // Polynomial / exp(−δ^c) groups.
+    private readonly int[] _pgD;
+    private readonly int[] _pgC;
+
+    // Gaussian groups δ^d exp(−η(δ − ε)² − β(δ − γ)).
+    private readonly int[] _ggD;
+    private readonly double[] _ggEta;
+    private readonly double[] _ggEps;
+    private readonly double[] _ggBeta;
+    private readonly double[] _ggGamma;
+    private readonly double[] _ggZero;
 
     // Ideal-gas part, mixed: C + N2/T − N3 ln T + Σ hyperbolic terms (per component, weighted by x_i).
     private readonly double _idealConstant;
@@ -49,7 +58,6 @@ internal sealed class Gerg2008Equation
     private readonly double[] _hypTheta;
     private readonly bool[] _hypSinh;
     private readonly int _maxC;
-    private readonly double _secondVirialGauss;
 
     private Gerg2008Equation(
         double r,
@@ -69,17 +77,28 @@ internal sealed class Gerg2008Equation
         ReducingDensityMolesPerCubicMeter = rhoR;
         MolarMassKilogramsPerMole = molarMass;
         ReferenceDensityMolesPerCubicMeter = rho0;
+        var distinct = poly.Select(p => p.T).Concat(gauss.Select(x => x.T)).Distinct().ToArray();
+        _tDistinct = distinct;
+
+        var pGroups = poly.Select(p => (p.D, p.C)).Distinct().ToArray();
+        _pgD = [.. pGroups.Select(g => g.D)];
+        _pgC = [.. pGroups.Select(g => g.C)];
         _pn = [.. poly.Select(p => p.N)];
-        _pt = [.. poly.Select(p => p.T)];
-        _pd = [.. poly.Select(p => p.D)];
-        _pc = [.. poly.Select(p => p.C)];
+        _pTi = [.. poly.Select(p => Array.IndexOf(distinct, p.T))];
+        _pG = [.. poly.Select(p => Array.IndexOf(pGroups, (p.D, p.C)))];
+
+        var gGroups = gauss.Select(g => (g.D, g.Eta, g.Eps, g.Beta, g.Gamma)).Distinct().ToArray();
+        _ggD = [.. gGroups.Select(g => g.D)];
+        _ggEta = [.. gGroups.Select(g => g.Eta)];
+        _ggEps = [.. gGroups.Select(g => g.Eps)];
+        _ggBeta = [.. gGroups.Select(g => g.Beta)];
+        _ggGamma = [.. gGroups.Select(g => g.Gamma)];
+
+        // exp(−ηε² + βγ): the Gaussian factor at δ = 0, for the second-virial start of the density solver.
+        _ggZero = [.. gGroups.Select(g => Math.Exp((-g.Eta * g.Eps * g.Eps) + (g.Beta * g.Gamma)))];
         _gn = [.. gauss.Select(g => g.N)];
-        _gt = [.. gauss.Select(g => g.T)];
-        _gd = [.. gauss.Select(g => g.D)];
-        _gEta = [.. gauss.Select(g => g.Eta)];
-        _gEps = [.. gauss.Select(g => g.Eps)];
-        _gBeta = [.. gauss.Select(g => g.Beta)];
-        _gGamma = [.. gauss.Select(g => g.Gamma)];
+        _gTi = [.. gauss.Select(g => Array.IndexOf(distinct, g.T))];
+        _gG = [.. gauss.Select(g => Array.IndexOf(gGroups, (g.D, g.Eta, g.Eps, g.Beta, g.Gamma)))];
         _maxC = poly.Count == 0 ? 0 : poly.Max(p => p.C);
         _idealConstant = idealConstant;
         _idealN2 = idealN2;
@@ -87,19 +106,6 @@ internal sealed class Gerg2008Equation
         _hypN = [.. hyperbolic.Select(h => h.N)];
         _hypTheta = [.. hyperbolic.Select(h => h.Theta)];
         _hypSinh = [.. hyperbolic.Select(h => h.Sinh)];
-
-        // Limit of ∂α^r/∂δ at δ → 0 without its τ factors folded in: only the d = 1 terms contribute; the Gaussian ones
-        // carry exp(−ηε² + βγ). Used for the second-virial start of the density solver (multiplied per temperature).
-        double g = 0;
-        foreach (var t in gauss)
-        {
-            if (t.D == 1)
-            {
-                g += Math.Exp((-t.Eta * t.Eps * t.Eps) + (t.Beta * t.Gamma));
-            }
-        }
-
-        _secondVirialGauss = g;
     }
 
     /// <summary>R of the equation, J/(mol·K).</summary>
@@ -117,11 +123,11 @@ internal sealed class Gerg2008Equation
     /// <summary>p0/(R T0) of the ideal-gas reference state, mol/m³.</summary>
     public double ReferenceDensityMolesPerCubicMeter { get; }
 
-    /// <summary>Number of polynomial and exp(−δ^c) terms (the size of the first temperature-term span).</summary>
-    public int PolynomialTermCount => _pn.Length;
+    /// <summary>Length of the first temperature-term span: three sums per polynomial / exp(−δ^c) density group.</summary>
+    public int PolynomialTermCount => 3 * _pgD.Length;
 
-    /// <summary>Number of Gaussian-type departure terms (the size of the second temperature-term span).</summary>
-    public int GaussianTermCount => _gn.Length;
+    /// <summary>Length of the second temperature-term span: three sums per Gaussian density group.</summary>
+    public int GaussianTermCount => 3 * _ggD.Length;
 
     /// <summary>Builds the equation of a composition.</summary>
     /// <param name="data">The coefficients.</param>
@@ -255,28 +261,23 @@ internal sealed class Gerg2008Equation
     }
 
     /// <summary>
-    /// The temperature factors n_k τ^t_k of every term into the spans (lengths <see cref="PolynomialTermCount"/> and
-    /// <see cref="GaussianTermCount"/>); returns τ = T_r/T.
+    /// The temperature sums of every density group into the spans (lengths <see cref="PolynomialTermCount"/> and
+    /// <see cref="GaussianTermCount"/>; per group Σ n τ^t, Σ n τ^t·t, Σ n τ^t·t(t − 1)); returns τ = T_r/T.
     /// </summary>
     public double TemperatureTerms(double tKelvin, Span<double> polyTau, Span<double> gaussTau)
     {
         var tau = ReducingTemperatureKelvin / tKelvin;
         var lnTau = Math.Log(tau);
-        var pn = _pn;
-        var pt = _pt;
-        for (var k = 0; k < pn.Length; k++)
+        var distinct = _tDistinct;
+        Span<double> powers = stackalloc double[distinct.Length];
+        for (var k = 0; k < distinct.Length; k++)
         {
-            var t = pt[k];
-            polyTau[k] = t == 0 ? pn[k] : pn[k] * Math.Exp(t * lnTau);
+            var t = distinct[k];
+            powers[k] = t == 0 ? 1 : Math.Exp(t * lnTau);
         }
 
-        var gn = _gn;
-        var gt = _gt;
-        for (var k = 0; k < gn.Length; k++)
-        {
-            gaussTau[k] = gn[k] * Math.Exp(gt[k] * lnTau);
-        }
-
+        Accumulate(_pn, _pTi, _pG, distinct, powers, polyTau);
+        Accumulate(_gn, _gTi, _gG, distinct, powers, gaussTau);
         return tau;
     }
 
@@ -286,22 +287,19 @@ internal sealed class Gerg2008Equation
     public double ReducedSecondVirial(ReadOnlySpan<double> polyTau, ReadOnlySpan<double> gaussTau)
     {
         double b = 0;
-        for (var k = 0; k < _pn.Length; k++)
+        for (var g = 0; g < _pgD.Length; g++)
         {
-            if (_pd[k] == 1)
+            if (_pgD[g] == 1)
             {
-                b += polyTau[k];
+                b += polyTau[3 * g];
             }
         }
 
-        if (_secondVirialGauss != 0)
+        for (var g = 0; g < _ggD.Length; g++)
         {
-            for (var k = 0; k < _gn.Length; k++)
+            if (_ggD[g] == 1)
             {
-                if (_gd[k] == 1)
-                {
-                    b += gaussTau[k] * Math.Exp((-_gEta[k] * _gEps[k] * _gEps[k]) + (_gBeta[k] * _gGamma[k]));
-                }
+                b += gaussTau[3 * g] * _ggZero[g];
             }
         }
 
@@ -329,14 +327,14 @@ internal sealed class Gerg2008Equation
         }
 
         double a00 = 0, a01 = 0, a02 = 0, a03 = 0, a10 = 0, a11 = 0, a20 = 0;
-        var pd = _pd;
-        var pc = _pc;
-        var pt = _pt;
-        for (var k = 0; k < pd.Length; k++)
+        var pd = _pgD;
+        var pc = _pgC;
+        for (var g = 0; g < pd.Length; g++)
         {
-            var d = pd[k];
-            var c = pc[k];
-            var v = polyTau[k] * dp[d] * ec[c];
+            var d = pd[g];
+            var c = pc[g];
+            var f = dp[d] * ec[c];
+            var v = polyTau[3 * g] * f;
             double first, second;
             if (c == 0)
             {
@@ -345,56 +343,70 @@ internal sealed class Gerg2008Equation
             }
             else
             {
-                var g = c * dp[c];
-                first = d - g;
-                second = (first * (first - 1)) - (c * g);
+                var gc = c * dp[c];
+                first = d - gc;
+                second = (first * (first - 1)) - (c * gc);
             }
 
             a01 += v * first;
             a02 += v * second;
             if (full)
             {
-                var t = pt[k];
                 var third = c == 0
                     ? d * (d - 1) * (d - 2)
                     : (first * (first - 1) * (first - 2)) - (c * c * dp[c] * ((3 * first) - 3 + c));
+                var v1 = polyTau[(3 * g) + 1] * f;
                 a00 += v;
-                a10 += v * t;
-                a20 += v * t * (t - 1);
-                a11 += v * t * first;
+                a10 += v1;
+                a20 += polyTau[(3 * g) + 2] * f;
+                a11 += v1 * first;
                 a03 += v * third;
             }
         }
 
-        var gd = _gd;
-        for (var k = 0; k < gd.Length; k++)
+        var gd = _ggD;
+        for (var g = 0; g < gd.Length; g++)
         {
-            var d = gd[k];
-            var eta = _gEta[k];
-            var eps = _gEps[k];
-            var beta = _gBeta[k];
+            var d = gd[g];
+            var eta = _ggEta[g];
+            var eps = _ggEps[g];
+            var beta = _ggBeta[g];
             var dm = delta - eps;
-            var v = gaussTau[k] * dp[d] * Math.Exp((-eta * dm * dm) - (beta * (delta - _gGamma[k])));
+            var f = dp[d] * Math.Exp((-eta * dm * dm) - (beta * (delta - _ggGamma[g])));
+            var v = gaussTau[3 * g] * f;
 
             // With D = δ·d/dδ and b = D ln f: D f = b f, δ²f'' = (b² + Db − b) f, δ³f''' = (b³ + 3b·Db + D²b − 3b² − 3Db + 2b) f.
             var b = d - (2 * eta * delta * dm) - (beta * delta);
             var db = (-4 * eta * delta * delta) + (((2 * eta * eps) - beta) * delta);
-            var second = (b * b) + db - b;
             a01 += v * b;
-            a02 += v * second;
+            a02 += v * ((b * b) + db - b);
             if (full)
             {
                 var d2b = (-8 * eta * delta * delta) + (((2 * eta * eps) - beta) * delta);
-                var t = _gt[k];
+                var v1 = gaussTau[(3 * g) + 1] * f;
                 a00 += v;
-                a10 += v * t;
-                a20 += v * t * (t - 1);
-                a11 += v * t * b;
+                a10 += v1;
+                a20 += gaussTau[(3 * g) + 2] * f;
+                a11 += v1 * b;
                 a03 += v * ((b * b * b) + (3 * b * db) + d2b - (3 * b * b) - (3 * db) + (2 * b));
             }
         }
 
         return new ResidualHelmholtz(a00, a01, a02, a03, a10, a11, a20);
+    }
+
+    private static void Accumulate(double[] n, int[] ti, int[] group, double[] distinct, ReadOnlySpan<double> powers, Span<double> sums)
+    {
+        sums.Clear();
+        for (var k = 0; k < n.Length; k++)
+        {
+            var t = distinct[ti[k]];
+            var v = n[k] * powers[ti[k]];
+            var g = 3 * group[k];
+            sums[g] += v;
+            sums[g + 1] += v * t;
+            sums[g + 2] += v * t * (t - 1);
+        }
     }
 
     /// <summary>α° without its ln(ρ/ρ0) term, τα°_τ and τ²α°_ττ at <paramref name="tKelvin"/>.</summary>
