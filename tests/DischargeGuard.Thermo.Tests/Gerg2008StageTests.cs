@@ -26,14 +26,14 @@ public sealed class Gerg2008StageTests
     [InlineData("CH4", "REFPROP8-CH4", 293.15)]
     [InlineData("N2", "REFPROP7-N2", 273.15)]
     [InlineData("CO2", "REFPROP7-CO2", 316)]
-    public void IsentropicDischarge_PureFluid1To10MPa_AgreesWithReferenceEquationWithinHalfAKelvin(string species, string prefix, double t1)
+    public void IsentropicDischarge_PureFluid1To10MPa_AgreesWithReferenceEquationWithin02K(string species, string prefix, double t1)
     {
         // Source: the REFPROP rows named by the prefix (reference equations of state, as output by NIST REFPROP; Data/
         // realgas-checks.README.md). T2s of the reference equation: s(T1, 1 MPa) from the table, then the temperature at
         // 10 MPa with that entropy by cubic Hermite interpolation in ln T between the bracketing rows (ds/d ln T = cp).
-        // Tolerance 0.5 K: GERG-2008's pure-fluid equations are shorter fits than the reference equations, with
-        // deviations in gas-phase density and heat capacity of a few tenths of a per cent (Kunz & Wagner 2012, section 4;
-        // recalled, from memory — verify); our measured differences are printed on failure.
+        // Tolerance 0.2 K: GERG-2008's pure-fluid equations are shorter fits than these reference equations (for CH4, N2
+        // and CO2 they are the short forms of Kunz & Wagner 2012), so they need not agree to round-off; the measured
+        // differences are within 0.1 K (docs/real-gas.md, GERG-2008 section).
         var rows = RealGasReference.Rows.Where(r => r["case_id"].StartsWith(prefix + "-", StringComparison.Ordinal) && RealGasReference.IsPureGasRegion(r)).ToList();
         var suction = rows.Single(r => Math.Abs(r.D("T_K") - t1) < 1e-9 && r.D("p_kPa") == 1000);
         var s1 = suction.D("s_J_per_mol_K");
@@ -45,7 +45,7 @@ public sealed class Gerg2008StageTests
         var gas = Gerg2008Mixture.Create(GasCatalog.Default.CreateMixture([new(species, 1.0)], CompositionBasis.Mole));
         var stage = new StageConditions(Pressure.FromKilopascals(1000), Temperature.FromKelvins(t1), Pressure.FromKilopascals(10000), StageEfficiency.Isentropic(1.0));
         var result = RealGasStageSolver.Solve(gas, stage);
-        AssertEx.Within(expected, result.IsentropicDischargeTemperature.Kelvins, 0.5, string.Create(CultureInfo.InvariantCulture, $"{species} T2s, K"));
+        AssertEx.Within(expected, result.IsentropicDischargeTemperature.Kelvins, 0.2, string.Create(CultureInfo.InvariantCulture, $"{species} T2s, K"));
     }
 
     [Fact]
