@@ -447,8 +447,8 @@ internal sealed class Gerg2008Equation
     /// [0, ∞): a state with p above the target bounds the root from above, one below it from below, and a mechanically
     /// unstable state (∂p/∂ρ ≤ 0 or p ≤ 0) from above, since the gas branch rises monotonically from ρ = 0 to its
     /// spinodal. Steps leaving the bracket or changing ρ by more than half are replaced by bisection or clipped, so
-    /// Newton never jumps across the two-phase loop onto the liquid branch. Converged when the last step is within
-    /// <paramref name="relativeTolerance"/>·ρ; false (no gas root: the target lies above the vapour spinodal, or no
+    /// Newton never jumps across the two-phase loop onto the liquid branch. Converged when the last step, relative to ρ,
+    /// or its square is within <paramref name="relativeTolerance"/>; false (no gas root: the target lies above the vapour spinodal, or no
     /// convergence in <paramref name="maxIterations"/>) otherwise.
     /// </summary>
     public bool TrySolveGasDensity(double tKelvin, double pPascals, ReadOnlySpan<double> polyTau, ReadOnlySpan<double> gaussTau, double guessMolesPerCubicMeter, double relativeTolerance, int maxIterations, out double rhoMolesPerCubicMeter)
@@ -494,7 +494,10 @@ internal sealed class Gerg2008Equation
 
                 var step = f / dpdrho;
                 next = rho - step;
-                if (Math.Abs(step) <= relativeTolerance * rho)
+                // Newton's remaining error after a relative step r is of order r² (quadratic convergence), so a step whose
+                // square is within the tolerance already lands within it (as CompressionPath stops its temperature solves).
+                var r = step / rho;
+                if (Math.Abs(r) <= relativeTolerance || r * r <= relativeTolerance)
                 {
                     rhoMolesPerCubicMeter = Math.Clamp(next, lo, hi);
                     return true;
