@@ -3,7 +3,7 @@ using UnitsNet;
 namespace DischargeGuard.Thermo;
 
 /// <summary>
-/// The envelope questions of <see cref="EnvelopeSolver"/> for the Peng-Robinson real gas: the highest discharge pressure
+/// The envelope questions of <see cref="EnvelopeSolver"/> for a real-gas model (Peng-Robinson or GERG-2008): the highest discharge pressure
 /// and the highest suction temperature at which a chosen discharge temperature reaches a limit. The real-gas stage has no
 /// closed-form inverse, so each is an Illinois (regula falsi) search on the stage solve (in ln P for pressure, in T for
 /// suction temperature), bracketed first around the ideal-gas answer when the real gas is near it, and stopped at 1e-9 K
@@ -21,7 +21,22 @@ public static class RealGasEnvelopeSolver
     private const string ColdestExceedsNote = "Even at the lowest suction temperature the gas data cover (in the vapour region), the temperature exceeds the limit.";
 
     /// <summary>The highest absolute discharge pressure at which <paramref name="quantity"/> reaches <paramref name="limit"/>.</summary>
-    public static EnvelopeResult<Pressure> MaxDischargePressure(RealGasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
+    public static EnvelopeResult<Pressure> MaxDischargePressure(RealGasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
+        MaxDischargePressureCore(gas, conditions, quantity, limit);
+
+    /// <summary>As <see cref="MaxDischargePressure(RealGasMixture, in StageConditions, TemperatureQuantity, Temperature)"/>, with GERG-2008.</summary>
+    public static EnvelopeResult<Pressure> MaxDischargePressure(Gerg2008Mixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
+        MaxDischargePressureCore(gas, conditions, quantity, limit);
+
+    /// <summary>The highest suction temperature at which <paramref name="quantity"/> reaches <paramref name="limit"/>.</summary>
+    public static EnvelopeResult<Temperature> MaxSuctionTemperature(RealGasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
+        MaxSuctionTemperatureCore(gas, conditions, quantity, limit);
+
+    /// <summary>As <see cref="MaxSuctionTemperature(RealGasMixture, in StageConditions, TemperatureQuantity, Temperature)"/>, with GERG-2008.</summary>
+    public static EnvelopeResult<Temperature> MaxSuctionTemperature(Gerg2008Mixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
+        MaxSuctionTemperatureCore(gas, conditions, quantity, limit);
+
+    private static EnvelopeResult<Pressure> MaxDischargePressureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var p1 = conditions.SuctionPressure.Pascals;
@@ -50,7 +65,7 @@ public static class RealGasEnvelopeSolver
         double? tHi;
         var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
         if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
-            && guess.Pascals * 1.05 <= RealGasMixture.MaximumPressurePascals && guess.Pascals * 0.95 > lo
+            && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
             && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
             && At(guess.Pascals * 1.05) is { } tAbove && tAbove >= tLim)
         {
@@ -60,7 +75,7 @@ public static class RealGasEnvelopeSolver
         else
         {
             // The highest pressure the model answers at (its ceiling, or below it where the state leaves the vapour region).
-            hi = RealGasMixture.MaximumPressurePascals;
+            hi = gas.MaximumPressurePascals;
             tHi = At(hi);
             for (var k = 0; tHi is null && k < 40 && hi > lo * 1.01; k++)
             {
@@ -78,8 +93,7 @@ public static class RealGasEnvelopeSolver
         return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(p)), FoundNote);
     }
 
-    /// <summary>The highest suction temperature at which <paramref name="quantity"/> reaches <paramref name="limit"/>.</summary>
-    public static EnvelopeResult<Temperature> MaxSuctionTemperature(RealGasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
+    private static EnvelopeResult<Temperature> MaxSuctionTemperatureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var tLim = limit.Kelvins;
@@ -87,8 +101,8 @@ public static class RealGasEnvelopeSolver
         double? At(double t1) => TemperatureAt(gas, c with { SuctionTemperature = Temperature.FromKelvins(t1) }, quantity);
 
         // Above: the limit itself (a discharge temperature is above its suction temperature); below: the coldest vapour suction.
-        var hi = Math.Min(tLim, gas.IdealGas.MaximumKelvin);
-        var lo = Math.Max(gas.IdealGas.MinimumKelvin, 1.0);
+        var hi = Math.Min(tLim, gas.MaximumKelvin);
+        var lo = Math.Max(gas.MinimumKelvin, 1.0);
         if (conditions.SuctionTemperature.Kelvins >= tLim)
         {
             return new(EnvelopeStatus.AlreadyExceeded, null, SuctionAtLimitNote);
@@ -178,11 +192,11 @@ public static class RealGasEnvelopeSolver
     }
 
     // The stage's temperature, or null where the model gives none (liquid or two-phase, outside its range).
-    private static double? TemperatureAt(RealGasMixture gas, in StageConditions conditions, TemperatureQuantity quantity)
+    private static double? TemperatureAt(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity)
     {
         try
         {
-            return RealGasStageSolver.TrySolve(gas, conditions, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out var r)
+            return RealGasStageSolver.TrySolveCore(gas, conditions, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out var r)
                 ? r.TemperatureOf(quantity).Kelvins
                 : null;
         }

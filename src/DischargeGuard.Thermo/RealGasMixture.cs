@@ -11,7 +11,7 @@ namespace DischargeGuard.Thermo;
 /// P° = 1 bar, on the vapour (largest) root. The per-mixture constants (b_i, the √(a_i a_j)(1 − k_ij) matrix, κ_i) are
 /// computed once here. Immutable and thread-safe.
 /// </summary>
-public sealed class RealGasMixture
+public sealed class RealGasMixture : IRealGasModel
 {
     /// <summary>Highest pressure accepted, Pa (100 MPa: the top of the reference data this model was compared with).</summary>
     public const double MaximumPressurePascals = 100e6;
@@ -64,6 +64,22 @@ public sealed class RealGasMixture
     public Pressure PseudoCriticalPressure => Pressure.FromPascals(PseudoCriticalPressurePascals);
 
     internal PengRobinsonMixture Eos => _eos;
+
+    double IRealGasModel.MinimumKelvin => IdealGas.MinimumKelvin;
+
+    double IRealGasModel.MaximumKelvin => IdealGas.MaximumKelvin;
+
+    double IRealGasModel.MaximumPressurePascals => MaximumPressurePascals;
+
+    bool IRealGasModel.InRange(double tKelvin) => IdealGas.InRange(tKelvin);
+
+    void IRealGasModel.RequireTemperature(double tKelvin, string member) => IdealGas.RequireInRange(tKelvin, member);
+
+    void IRealGasModel.RequirePressure(double pPascals, string member) => RequirePressure(pPascals, member);
+
+    void IRealGasModel.RequireVapour(double tKelvin, double pPascals, string member) => RequireVapour(tKelvin, pPascals, member);
+
+    RealGasPoint IRealGasModel.Evaluate(double tKelvin, double pPascals) => Evaluate(tKelvin, pPascals);
 
     /// <summary>The real-gas mixture of <paramref name="gas"/> with the embedded data (<see cref="PengRobinsonData.Default"/>).</summary>
     /// <exception cref="InvalidCompositionException">A species has no critical constants in the data.</exception>

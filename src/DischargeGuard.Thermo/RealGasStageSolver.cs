@@ -3,7 +3,8 @@ using UnitsNet;
 namespace DischargeGuard.Thermo;
 
 /// <summary>
-/// Solves one compression stage with the Peng-Robinson real gas (<see cref="RealGasMixture"/>): T2s from
+/// Solves one compression stage with a real-gas model — Peng-Robinson (<see cref="RealGasMixture"/>) or GERG-2008
+/// (<see cref="Gerg2008Mixture"/>), through the same paths: T2s from
 /// s(T2s, P2) = s(T1, P1); with an isentropic efficiency T2 from h(T2, P2) = h1 + (h2s − h1)/ηs; with a polytropic
 /// efficiency T2 by integrating dh = v·dP/ηp along the path (classic fourth-order Runge–Kutta in ln P, fixed steps of at
 /// most <see cref="MaxLogPressureStep"/>, in ln T). The ideal-gas <see cref="StageSolver"/> answer is solved beside it. Suction,
@@ -27,9 +28,31 @@ public static class RealGasStageSolver
     /// data range, a liquid or two-phase suction or discharge state, or no solution inside the data range. The exception
     /// names the member of <see cref="StageConditions"/>.
     /// </exception>
-    public static RealGasStageResult Solve(RealGasMixture gas, in StageConditions conditions)
+    public static RealGasStageResult Solve(RealGasMixture gas, in StageConditions conditions) => SolveCore(gas, conditions);
+
+    /// <summary>Solves the stage with GERG-2008 and the default tolerance and iteration cap.</summary>
+    /// <exception cref="ArgumentOutOfRangeException">
+    /// (<see cref="ThermoInputException"/>) As <see cref="Solve(RealGasMixture, in StageConditions)"/>, with the GERG-2008
+    /// limits: 60–700 K (and the ideal-gas data range, for the ideal-gas answer beside it) and pressures up to 70 MPa.
+    /// </exception>
+    public static RealGasStageResult Solve(Gerg2008Mixture gas, in StageConditions conditions) => SolveCore(gas, conditions);
+
+    /// <summary>
+    /// Solves the stage with GERG-2008; returns false (never throws) when a solve does not converge inside the model's
+    /// range within <paramref name="maxIterations"/>. Inputs out of range and liquid or two-phase states still throw.
+    /// </summary>
+    /// <param name="gas">The GERG-2008 mixture.</param>
+    /// <param name="conditions">The stage.</param>
+    /// <param name="toleranceKelvin">Temperature tolerance of each Newton solve, K.</param>
+    /// <param name="maxIterations">Iteration cap of each Newton solve.</param>
+    /// <param name="result">The result; default when false.</param>
+    public static bool TrySolve(Gerg2008Mixture gas, in StageConditions conditions, double toleranceKelvin, int maxIterations, out RealGasStageResult result) =>
+        TrySolveCore(gas, conditions, toleranceKelvin, maxIterations, out result);
+
+    internal static RealGasStageResult SolveCore(IRealGasModel gas, in StageConditions conditions)
     {
-        if (!TrySolve(gas, conditions, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out var result))
+        ArgumentNullException.ThrowIfNull(gas);
+        if (!TrySolveCore(gas, conditions, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out var result))
         {
             throw CompressionPath.OutsideRange(gas.IdealGas, nameof(StageConditions.DischargePressure));
         }
@@ -40,14 +63,17 @@ public static class RealGasStageSolver
     /// <summary>
     /// Solves the stage; returns false (never throws) when a solve does not converge inside the data range within
     /// <paramref name="maxIterations"/>. Inputs out of range and liquid or two-phase states still throw, as in
-    /// <see cref="Solve"/>.
+    /// <see cref="Solve(RealGasMixture, in StageConditions)"/>.
     /// </summary>
     /// <param name="gas">The real-gas mixture.</param>
     /// <param name="conditions">The stage.</param>
     /// <param name="toleranceKelvin">Temperature tolerance of each Newton solve, K.</param>
     /// <param name="maxIterations">Iteration cap of each Newton solve.</param>
     /// <param name="result">The result; default when false.</param>
-    public static bool TrySolve(RealGasMixture gas, in StageConditions conditions, double toleranceKelvin, int maxIterations, out RealGasStageResult result)
+    public static bool TrySolve(RealGasMixture gas, in StageConditions conditions, double toleranceKelvin, int maxIterations, out RealGasStageResult result) =>
+        TrySolveCore(gas, conditions, toleranceKelvin, maxIterations, out result);
+
+    internal static bool TrySolveCore(IRealGasModel gas, in StageConditions conditions, double toleranceKelvin, int maxIterations, out RealGasStageResult result)
     {
         ArgumentNullException.ThrowIfNull(gas);
         result = default;
@@ -57,7 +83,9 @@ public static class RealGasStageSolver
         var t1 = conditions.SuctionTemperature.Kelvins;
         var efficiency = conditions.Efficiency;
         StageSolver.Validate(ideal, p1, p2, t1, efficiency);
-        RealGasMixture.RequirePressure(p2, nameof(StageConditions.DischargePressure));
+        gas.RequireTemperature(t1, nameof(StageConditions.SuctionTemperature));
+        gas.RequirePressure(p1, nameof(StageConditions.SuctionPressure));
+        gas.RequirePressure(p2, nameof(StageConditions.DischargePressure));
         gas.RequireVapour(t1, p1, nameof(StageConditions.SuctionPressure));
 
         var ratio = p2 / p1;
@@ -111,7 +139,7 @@ public static class RealGasStageSolver
                 t2Low = IntegratePolytropic(gas, t1, p1, p2, efficiency.High, steps);
             }
 
-            if (!(ideal.InRange(t2) && ideal.InRange(t2Low) && ideal.InRange(t2High)))
+            if (!(gas.InRange(t2) && gas.InRange(t2Low) && gas.InRange(t2High)))
             {
                 return false;
             }
@@ -164,12 +192,12 @@ public static class RealGasStageSolver
     /// Newton on s with the real-gas cp/T as derivative, kept inside a bracket that starts as the data range, bisection
     /// when a step leaves it; stopped as <see cref="CompressionPath.TrySolveTemperatureForEntropy"/>.
     /// </summary>
-    internal static bool TrySolveTemperatureForEntropy(RealGasMixture gas, double entropyOverR, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
+    internal static bool TrySolveTemperatureForEntropy(IRealGasModel gas, double entropyOverR, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
         TrySolveTemperature(gas, Target.Entropy, entropyOverR, pPascals, guessKelvin, toleranceKelvin, maxIterations, out tKelvin);
 
     /// <summary>Temperature at which the real-gas h/R at <paramref name="pPascals"/> equals <paramref name="enthalpyOverRKelvin"/>.</summary>
     /// <remarks>Newton on h with the real-gas cp, bracketed as <see cref="TrySolveTemperatureForEntropy"/>.</remarks>
-    internal static bool TrySolveTemperatureForEnthalpy(RealGasMixture gas, double enthalpyOverRKelvin, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
+    internal static bool TrySolveTemperatureForEnthalpy(IRealGasModel gas, double enthalpyOverRKelvin, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin) =>
         TrySolveTemperature(gas, Target.Enthalpy, enthalpyOverRKelvin, pPascals, guessKelvin, toleranceKelvin, maxIterations, out tKelvin);
 
     private enum Target
@@ -180,11 +208,10 @@ public static class RealGasStageSolver
 
     // The safeguarded Newton both inversions share: s/R (derivative cp/(R·T)) or h/R (derivative cp/R) against T at fixed P,
     // kept inside a bracket that starts as the data range, bisecting when a step leaves it.
-    private static bool TrySolveTemperature(RealGasMixture gas, Target target, double value, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
+    private static bool TrySolveTemperature(IRealGasModel gas, Target target, double value, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double tKelvin)
     {
-        var ideal = gas.IdealGas;
-        var lo = ideal.MinimumKelvin;
-        var hi = ideal.MaximumKelvin;
+        var lo = gas.MinimumKelvin;
+        var hi = gas.MaximumKelvin;
         var t = guessKelvin > lo && guessKelvin < hi ? guessKelvin : 0.5 * (lo + hi);
         for (var i = 0; i < maxIterations; i++)
         {
@@ -240,15 +267,14 @@ public static class RealGasStageSolver
     /// is accurate with few steps) with classic RK4 in <paramref name="steps"/> equal steps of ln P. Returns NaN when the
     /// path leaves the data range.
     /// </summary>
-    internal static double IntegratePolytropic(RealGasMixture gas, double t1Kelvin, double p1Pascals, double p2Pascals, double polytropicEfficiency, int steps)
+    internal static double IntegratePolytropic(IRealGasModel gas, double t1Kelvin, double p1Pascals, double p2Pascals, double polytropicEfficiency, int steps)
     {
-        var ideal = gas.IdealGas;
         var x = Math.Log(p1Pascals);
         var h = (Math.Log(p2Pascals) - x) / steps;
         var y = Math.Log(t1Kelvin);
         var factor = (1 / polytropicEfficiency) - 1;
-        var lo = Math.Log(ideal.MinimumKelvin);
-        var hi = Math.Log(ideal.MaximumKelvin);
+        var lo = Math.Log(gas.MinimumKelvin);
+        var hi = Math.Log(gas.MaximumKelvin);
         for (var k = 0; k < steps; k++)
         {
             var pMid = Math.Exp(x + (0.5 * h));
@@ -271,7 +297,7 @@ public static class RealGasStageSolver
     }
 
     // d(ln T)/d(ln P) at (e^lnT, P).
-    private static double LogSlope(RealGasMixture gas, double lnT, double pPascals, double factor)
+    private static double LogSlope(IRealGasModel gas, double lnT, double pPascals, double factor)
     {
         var r = ThermoConstants.MolarGasConstantJoulesPerMoleKelvin;
         var t = Math.Exp(lnT);
@@ -280,7 +306,7 @@ public static class RealGasStageSolver
         return ((point.Z * r * factor) + (pPascals * point.Residual.DvDtAtConstantP)) / cp;
     }
 
-    private static bool TrySolveFromIsentropic(RealGasMixture gas, double h1OverR, double h2sOverR, double eta, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double t2)
+    private static bool TrySolveFromIsentropic(IRealGasModel gas, double h1OverR, double h2sOverR, double eta, double pPascals, double guessKelvin, double toleranceKelvin, int maxIterations, out double t2)
     {
         var h2 = h1OverR + ((h2sOverR - h1OverR) / eta);
         return TrySolveTemperatureForEnthalpy(gas, h2, pPascals, guessKelvin, toleranceKelvin, maxIterations, out t2);
