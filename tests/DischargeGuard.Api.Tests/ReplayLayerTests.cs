@@ -41,12 +41,12 @@ public sealed class ReplayLayerTests(ServiceFactory factory) : IClassFixture<Ser
         await File.WriteAllTextAsync(asset, (await File.ReadAllTextAsync(asset)).Replace("limit: 170 °C", "limit: 125 °C", StringComparison.Ordinal));
 
         using var client = factory.CreateClient();
-        using (var reload = await client.PostAsync(new Uri("/v1/rules/reload", UriKind.Relative), null))
+        using (var reload = await client.PostWithoutBodyAsync("/v1/rules/reload"))
         {
             Assert.True(reload.StatusCode == HttpStatusCode.OK, await reload.Content.ReadAsStringAsync());
         }
 
-        using var replayed = await client.PostAsync(new Uri($"/v1/evaluations/{original.At("id").GetGuid()}/replay", UriKind.Relative), null);
+        using var replayed = await client.PostWithoutBodyAsync($"/v1/evaluations/{original.At("id").GetGuid()}/replay");
         var body = await Json.ReadAsync(replayed);
         Assert.True(replayed.StatusCode == HttpStatusCode.OK, body.ToString());
 
