@@ -370,7 +370,8 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
             order.Add(await page.Page.EvaluateAsync<string>("() => document.activeElement.id || document.activeElement.tagName"));
         }
 
-        Assert.Equal(["site-id", "site-basis-elevation", "site-elevation", "site-elevation-unit", "gas", "service", "stage-0-suction-pressure"], order.Take(7));
+        // The asset's "Limits in force" view follows the asset tag in reading order (it belongs to the machine group).
+        Assert.Equal(["limits-toggle", "site-id", "site-basis-elevation", "site-elevation", "site-elevation-unit", "gas", "service", "stage-0-suction-pressure"], order.Take(8));
         await page.At("#check").FocusAsync();
         await page.Page.Keyboard.PressAsync("Enter");
         await page.At("#result-body .verdict").WaitForAsync();

@@ -125,14 +125,12 @@ internal static class StagePhases
 
         try
         {
-            // Hydrocarbons by the stability test; water by its saturation at the discharge state.
-            var check = model.Check(temperature, pressure);
-            return check.HydrocarbonPhase switch
-            {
-                FluidPhase.TwoPhase => StagePhase.TwoPhase,
-                FluidPhase.Liquid => StagePhase.Liquid,
-                _ => HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity ? StagePhase.Saturated : StagePhase.Gas,
-            };
+            // Hydrocarbons by the stability test alone (no dew-point search: only the phase matters here); water by its
+            // saturation at the discharge state.
+            var test = model.TestStability(temperature, pressure);
+            return !test.Stable ? StagePhase.TwoPhase
+                : test.FeedPhase == FluidPhase.Liquid ? StagePhase.Liquid
+                : HumidGas.RelativeHumidity(gas, temperature, pressure) >= SaturatedHumidity ? StagePhase.Saturated : StagePhase.Gas;
         }
         catch (InvalidOperationException)
         {
