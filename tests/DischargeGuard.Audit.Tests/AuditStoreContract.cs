@@ -484,6 +484,25 @@ public abstract class AuditStoreContract : IAsyncLifetime
     }
 
     [SkippableFact]
+    public async Task Query_WhenNarrowedToSitesAndAssets_ReturnsOnlyRecordsInsideBothLists()
+    {
+        var (store, records) = await SeedQueryRecordsAsync();
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1), site: null), CancellationToken.None);
+
+        var bySite = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = ["osprey-flats", "marlow-fen"] }, CancellationToken.None));
+        var byBoth = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = [Sample.Site], AssetIn = ["K-102B"] }, CancellationToken.None));
+        var none = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = [] }, CancellationToken.None));
+
+        var expectedSite = NewestFirst(records.Where(r => r.SiteId == "osprey-flats")).Select(r => r.Id).ToList();
+        var expectedBoth = NewestFirst(records.Where(r => r.SiteId == Sample.Site && r.Asset == "K-102B")).Select(r => r.Id).ToList();
+        Assert.NotEmpty(expectedSite);
+        Assert.NotEmpty(expectedBoth);
+        Assert.Equal(expectedSite, bySite.Select(r => r.Id));
+        Assert.Equal(expectedBoth, byBoth.Select(r => r.Id));
+        Assert.Empty(none);
+    }
+
+    [SkippableFact]
     public async Task Query_WhenTimeWindowGiven_IncludesFromAndExcludesTo()
     {
         var (store, records) = await SeedQueryRecordsAsync();

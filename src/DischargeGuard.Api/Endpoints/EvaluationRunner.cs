@@ -1,6 +1,7 @@
 using DischargeGuard.Evaluation;
 using System.Text.Json;
 using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
@@ -48,8 +49,14 @@ internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<E
     }
 
     /// <summary>Evaluates a request that has been read and validated.</summary>
-    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null)
+    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null, KeyScope? scope = null)
     {
+        // A key bound to sites (and assets) evaluates only inside them: refused before anything is computed or stored.
+        if (scope is not null && !scope.MayPost(request.Asset, request.Site?.Id))
+        {
+            return RunResult.Refused(ItemProblems.OutOfScope(request.Asset, request.Site?.Id));
+        }
+
         var now = time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
         var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages });
@@ -99,6 +106,10 @@ internal static class ItemProblems
         return details;
     }
 
+    public static ProblemDetails OutOfScope(string? asset, string? site) =>
+        Of(StatusCodes.Status403Forbidden, Problems.Forbidden, "The API key is not bound to this site or asset.",
+            $"The key may evaluate only the sites (and assets) it is bound to in its configuration; this request names site '{site ?? "(none)"}' and asset '{asset}'. Nothing was evaluated or stored.");
+
     public static ProblemDetails AuditUnavailable() =>
         Of(StatusCodes.Status503ServiceUnavailable, Problems.AuditUnavailable, "The audit store is unavailable.",
             "This item was computed but could not be recorded, so no result is given. Retry it later; nothing was stored for it.");
@@ -146,7 +157,11 @@ internal sealed class HistoryReader(IAuditStore audit) : IDisposable
     /// when the request has no measurement a trend could use.
     /// </summary>
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
-    public async Task<AssetHistory?> LoadAsync(EvaluationRequest request, DateTimeOffset? before, CancellationToken cancellationToken)
+    /// <param name="request">The request being evaluated.</param>
+    /// <param name="before">Only records evaluated before this instant (a replay); null for all.</param>
+    /// <param name="scope">What the caller may read: a trend never draws on records the caller could not read itself.</param>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    public async Task<AssetHistory?> LoadAsync(EvaluationRequest request, DateTimeOffset? before, KeyScope scope, CancellationToken cancellationToken)
     {
         if (!AssetHistory.IsUseful(request))
         {
@@ -154,7 +169,7 @@ internal sealed class HistoryReader(IAuditStore audit) : IDisposable
         }
 
         var samples = new List<IReadOnlyList<StageSample>>(EvaluationHistory.MaxEvaluations);
-        var query = new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations };
+        var query = scope.Narrow(new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations });
         await foreach (var record in audit.QueryAsync(query, cancellationToken).ConfigureAwait(false))
         {
             samples.Add(SamplesOf(record));

@@ -35,14 +35,14 @@ public static partial class EvaluationsApi
         group.MapGet("/{id:guid}", GetEvaluation)
             .WithName("GetEvaluation")
             .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.")
-            .WithDescription("Planner and admin keys read any record; a technician key reads the records it made and those of assets it has evaluated (others answer 404).")
+            .WithDescription("A key bound to sites (and assets) reads only their records; an unbound planner or admin key reads any record; an unbound technician key reads only the records it made. Others answer 404.")
             .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
         group.MapGet("/", ListEvaluations)
             .WithName("ListEvaluations")
             .WithSummary("Recorded evaluations, newest first, with keyset paging (cursor); filters by asset, site, verdict and time.")
-            .WithDescription("Planner and admin keys list every record. A technician key lists the records it made; with `asset` set to an asset it has evaluated, "
-                + "the asset's whole history. `from` is inclusive, `to` exclusive (ISO 8601).")
+            .WithDescription("Only the records the key may read: those of its bound sites (and assets); every record for an unbound planner or admin key; "
+                + "its own records for an unbound technician key. `from` is inclusive, `to` exclusive (ISO 8601).")
             .RequireRoles(Policies.ReadEvaluation);
         group.MapGet("/{id:guid}/verify", VerifyEvaluation)
             .WithName("VerifyEvaluation")
@@ -67,6 +67,7 @@ public static partial class EvaluationsApi
         IOptions<ServiceOptions> options,
         HistoryReader histories,
         ServiceTelemetry telemetry,
+        ApiKeyRegistry keys,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
@@ -74,7 +75,7 @@ public static partial class EvaluationsApi
         AssetHistory? history;
         try
         {
-            history = await histories.LoadAsync(request, null, http.RequestAborted).ConfigureAwait(false);
+            history = await histories.LoadAsync(request, null, keys.ScopeOf(http.User), http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
@@ -88,7 +89,7 @@ public static partial class EvaluationsApi
         RunResult result;
         using (var span = ServiceTelemetry.Source.StartActivity("evaluate"))
         {
-            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history);
+            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history, scope: keys.ScopeOf(http.User));
             span?.SetTag("dischargeguard.evaluation.id", result.Record?.Id.ToString());
             span?.SetTag("dischargeguard.verdict", result.Response?.Verdict);
             span?.SetTag("dischargeguard.rules.digest", result.Response?.RuleSet.Digest);
@@ -142,8 +143,8 @@ public static partial class EvaluationsApi
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
 
-        // A record a technician may not read answers as missing, so ids cannot be probed.
-        return record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false)
+        // A record outside the key's scope answers as missing, so ids cannot be probed.
+        return record is null || !keys.ScopeOf(user).MayRead(record)
             ? Problems.Missing($"No evaluation with id {id} is recorded.")
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
     }
@@ -152,7 +153,7 @@ public static partial class EvaluationsApi
         Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
-        if (record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false))
+        if (record is null || !keys.ScopeOf(user).MayRead(record))
         {
             return Problems.Missing($"No evaluation with id {id} is recorded.");
         }
@@ -194,19 +195,9 @@ public static partial class EvaluationsApi
             return Problems.Validation(errors);
         }
 
-        // A technician lists the records it made, and the whole history of an asset it has evaluated itself.
-        string? caller = null;
-        if (!SeesEverything(user, keys))
-        {
-            caller = user.Identity?.Name ?? AuditRecord.AnonymousCaller;
-            if (asset is not null && await HasEvaluatedAsync(audit, caller, asset, cancellationToken).ConfigureAwait(false))
-            {
-                caller = null;
-            }
-        }
-
+        // What the key is bound to narrows every list; history is never earned by posting.
         var page = await audit.QueryPageAsync(
-            new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit, Caller = caller },
+            keys.ScopeOf(user).Narrow(new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit }),
             cancellationToken).ConfigureAwait(false);
         return TypedResults.Ok(new EvaluationList(
             page.Records.Select(r => new EvaluationSummary(r.Id, r.EvaluatedAt, r.Caller, r.Asset, r.SiteId, r.Verdict, r.RuleDigest, r.EngineVersion, r.ReplayOf)).ToArray(),
@@ -228,39 +219,6 @@ public static partial class EvaluationsApi
         }
 
         return errors;
-    }
-
-    internal static bool SeesEverything(ClaimsPrincipal user, ApiKeyRegistry keys) =>
-        keys.IsOpen || user.IsInRole(Roles.Planner) || user.IsInRole(Roles.Admin);
-
-    /// <summary>
-    /// Planner and admin keys read every record. A technician reads the records it made and every record of an asset it
-    /// has evaluated itself (the machine's history, made by whoever evaluated it).
-    /// </summary>
-    internal static async Task<bool> MayReadAsync(ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, AuditRecord record, CancellationToken cancellationToken)
-    {
-        if (SeesEverything(user, keys))
-        {
-            return true;
-        }
-
-        if (!user.IsInRole(Roles.Technician) || user.Identity?.Name is not { } name)
-        {
-            return false;
-        }
-
-        return string.Equals(record.Caller, name, StringComparison.Ordinal)
-            || await HasEvaluatedAsync(audit, name, record.Asset, cancellationToken).ConfigureAwait(false);
-    }
-
-    private static async Task<bool> HasEvaluatedAsync(IAuditStore audit, string caller, string asset, CancellationToken cancellationToken)
-    {
-        await foreach (var _ in audit.QueryAsync(new AuditQuery { Caller = caller, Asset = asset, Limit = 1 }, cancellationToken).ConfigureAwait(false))
-        {
-            return true;
-        }
-
-        return false;
     }
 
     internal static string CallerOf(HttpContext http) =>

@@ -37,6 +37,7 @@ internal static partial class ReplayApi
         IOptions<ServiceOptions> options,
         HistoryReader histories,
         ServiceTelemetry telemetry,
+        ApiKeyRegistry keys,
         ILoggerFactory loggers)
     {
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations.Replay");
@@ -45,7 +46,8 @@ internal static partial class ReplayApi
         try
         {
             original = await audit.GetAsync(id, http.RequestAborted).ConfigureAwait(false);
-            if (original is null)
+            var scope = keys.ScopeOf(http.User);
+            if (original is null || !scope.MayRead(original))
             {
                 return Problems.Missing($"No evaluation with id {id} is recorded.");
             }
@@ -56,8 +58,8 @@ internal static partial class ReplayApi
                 return ProblemOf(refusal, "The stored request is not accepted by the contract of this version; it cannot be replayed.");
             }
 
-            history = await histories.LoadAsync(request!, original.EvaluatedAt, http.RequestAborted).ConfigureAwait(false);
-            var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id);
+            history = await histories.LoadAsync(request!, original.EvaluatedAt, scope, http.RequestAborted).ConfigureAwait(false);
+            var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id, scope);
             if (result.Record is not { } record)
             {
                 telemetry.Answered(result, "replay");

@@ -740,6 +740,17 @@ public sealed class PostgresAuditStore : IAuditStore
             Equal("site_id", query.SiteId);
             Equal("verdict", query.Verdict);
             Equal("caller", query.Caller);
+            void In(string column, IReadOnlyList<string>? values)
+            {
+                if (values is not null)
+                {
+                    sql.Append(CultureInfo.InvariantCulture, $" AND {column} = ANY(@{column}_in)");
+                    parameters.Add(new NpgsqlParameter<string[]>(column + "_in", NpgsqlDbType.Array | NpgsqlDbType.Text) { TypedValue = [.. values] });
+                }
+            }
+
+            In("site_id", query.SiteIn);
+            In("asset", query.AssetIn);
             if (query.From is { } from)
             {
                 sql.Append(" AND (evaluated_at, evaluated_at_tick) >= (@from_at, @from_tick)");

@@ -846,6 +846,32 @@ public sealed class SqliteAuditStore : IAuditStore
             Equal("site_id", query.SiteId);
             Equal("verdict", query.Verdict);
             Equal("caller", query.Caller);
+            void In(string column, IReadOnlyList<string>? values)
+            {
+                if (values is null)
+                {
+                    return;
+                }
+
+                if (values.Count == 0)
+                {
+                    sql.Append(" AND 0 = 1");
+                    return;
+                }
+
+                sql.Append(CultureInfo.InvariantCulture, $" AND {column} IN (");
+                for (var i = 0; i < values.Count; i++)
+                {
+                    var name = string.Create(CultureInfo.InvariantCulture, $"${column}_in_{i}");
+                    sql.Append(i == 0 ? name : ", " + name);
+                    parameters.Add((name, values[i]));
+                }
+
+                sql.Append(')');
+            }
+
+            In("site_id", query.SiteIn);
+            In("asset", query.AssetIn);
             if (query.From is { } from)
             {
                 sql.Append(" AND evaluated_at >= $from");
