@@ -23,6 +23,8 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
         ("GET /v1/evaluations/export", [Roles.Planner]),
         ("POST /v1/evaluations/{id}/replay", [Roles.Planner]),
         ("POST /v1/admin/retention", [Roles.Admin]),
+        ("GET /v1/admin/audit/head", [Roles.Admin]),
+        ("GET /v1/admin/audit/verify", [Roles.Admin]),
         ("GET /v1/rules", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("GET /v1/gases", [Roles.Technician, Roles.Planner, Roles.Gate, Roles.Admin]),
         ("POST /v1/rules/check", [Roles.Admin]),

@@ -46,7 +46,7 @@ public static partial class EvaluationsApi
             .RequireRoles(Policies.ReadEvaluation);
         group.MapGet("/{id:guid}/verify", VerifyEvaluation)
             .WithName("VerifyEvaluation")
-            .WithSummary("Recompute the SHA-256 of a record's stored request and response and compare them with the hashes stored when it was written.")
+            .WithSummary("Recompute the SHA-256 of a record's stored request and response and its record hash (every column and the previous hash), and compare them with what was stored when it was written.")
             .RequireRoles(Policies.ReadEvaluation);
         group.MapBatch();
         group.MapExport();
@@ -161,9 +161,20 @@ public static partial class EvaluationsApi
         // Recompute from the stored bytes; the hashes stored beside them were taken when the record was written.
         var requestSha256 = AuditDigest.Sha256Hex(record.Request);
         var responseSha256 = AuditDigest.Sha256Hex(record.Response);
+        // The record hash covers every column and the previous record's hash, so a changed verdict or caller shows here too.
+        var recordSha256 = record.Sequence is { } sequence && record.PreviousHash is { } previous
+            ? AuditChain.RecordHash(sequence, previous, record)
+            : string.Empty;
         var intact = string.Equals(requestSha256, record.RequestSha256, StringComparison.Ordinal)
-            && string.Equals(responseSha256, record.ResponseSha256, StringComparison.Ordinal);
-        return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty));
+            && string.Equals(responseSha256, record.ResponseSha256, StringComparison.Ordinal)
+            && recordSha256.Length > 0 && string.Equals(recordSha256, record.RecordHash, StringComparison.Ordinal);
+        return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty)
+        {
+            Sequence = record.Sequence,
+            RecordSha256 = recordSha256,
+            StoredRecordSha256 = record.RecordHash ?? string.Empty,
+            PreviousSha256 = record.PreviousHash ?? string.Empty,
+        });
     }
 
     internal static async Task<Results<Ok<EvaluationList>, ValidationProblem>> ListEvaluations(
@@ -308,12 +319,25 @@ public sealed record StoredEvaluation(
 
 /// <summary>The answer of <c>GET /v1/evaluations/{id}/verify</c>.</summary>
 /// <param name="Id">The evaluation.</param>
-/// <param name="Intact">Whether both recomputed hashes equal the stored ones.</param>
+/// <param name="Intact">Whether the recomputed body hashes and record hash equal the stored ones.</param>
 /// <param name="RequestSha256">SHA-256 (hex) recomputed from the stored request bytes.</param>
 /// <param name="StoredRequestSha256">The request hash stored with the record.</param>
 /// <param name="ResponseSha256">SHA-256 (hex) recomputed from the stored response bytes.</param>
 /// <param name="StoredResponseSha256">The response hash stored with the record.</param>
-public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256);
+public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256)
+{
+    /// <summary>The record's place in the hash chain.</summary>
+    public long? Sequence { get; init; }
+
+    /// <summary>The record hash recomputed from every column and the stored previous hash (docs/audit.md).</summary>
+    public string RecordSha256 { get; init; } = string.Empty;
+
+    /// <summary>The record hash stored when the record was written.</summary>
+    public string StoredRecordSha256 { get; init; } = string.Empty;
+
+    /// <summary>The previous record's hash as stored with this one; the whole chain is checked by <c>GET /v1/admin/audit/verify</c>.</summary>
+    public string PreviousSha256 { get; init; } = string.Empty;
+}
 
 /// <summary>A page of recorded evaluations, newest first.</summary>
 /// <param name="Evaluations">The records on this page (without their bodies: read one with <c>GET /v1/evaluations/{id}</c>).</param>

@@ -70,6 +70,13 @@ internal sealed class AuditStoreHealthCheck(IAuditStore audit) : IHealthCheck
     public async Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default)
     {
         var health = await audit.CheckHealthAsync(cancellationToken).ConfigureAwait(false);
+        if (health.MissingGuards.Count > 0)
+        {
+            return HealthCheckResult.Unhealthy(
+                "The audit store's guards are missing or altered: " + string.Join(", ", health.MissingGuards) + ". Its records can no longer be trusted to be append-only; restore the guards (or the store) and verify the chain.",
+                data: new Dictionary<string, object> { ["missingGuards"] = health.MissingGuards.ToArray() });
+        }
+
         return health.IsHealthy
             ? HealthCheckResult.Healthy("Audit store writable.")
             : HealthCheckResult.Unhealthy("The audit store cannot take writes; evaluations are refused with 503 until it recovers.");
