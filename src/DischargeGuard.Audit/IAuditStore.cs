@@ -77,6 +77,15 @@ public interface IAuditStore : IAsyncDisposable
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
     Task<AuditChainVerification> VerifyChainAsync(CancellationToken cancellationToken);
 
+    /// <summary>
+    /// How much room the store has: for SQLite the free space of the audit file's volume and the file's size; for
+    /// PostgreSQL the database's size (the server's free disk is not visible to a client).
+    /// </summary>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    /// <returns>The figures.</returns>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken);
+
     /// <summary>Checks that the store can be read and written. Never throws for a store failure; reports it.</summary>
     /// <param name="cancellationToken">Cancels the check.</param>
     /// <returns>What the check found.</returns>

@@ -772,6 +772,18 @@ public abstract class AuditStoreContract : IAsyncLifetime
     }
 
     [SkippableFact]
+    public async Task GetStorage_WhenRecordsAreStored_ReportsTheStoresSizeAndAnyVisibleFreeSpace()
+    {
+        var store = await OpenStoreAsync();
+        await store.AppendAsync(Sample.Record(responsePadding: 100_000), CancellationToken.None);
+
+        var storage = await store.GetStorageAsync(CancellationToken.None);
+
+        Assert.True(storage.UsedBytes >= 100_000, $"used {storage.UsedBytes}");
+        Assert.True(storage.AvailableBytes is null or > 0, $"available {storage.AvailableBytes}");
+    }
+
+    [SkippableFact]
     public async Task CheckHealth_WhenStoreDisposed_ReportsNeitherReachableNorWritable()
     {
         var store = await OpenStoreAsync();

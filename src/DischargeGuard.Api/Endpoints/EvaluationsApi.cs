@@ -68,10 +68,12 @@ public static partial class EvaluationsApi
         HistoryReader histories,
         ServiceTelemetry telemetry,
         ApiKeyRegistry keys,
+        StorageGuard storage,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
+        await storage.CheckAsync(http.RequestAborted).ConfigureAwait(false);
         AssetHistory? history;
         try
         {
@@ -99,6 +101,7 @@ public static partial class EvaluationsApi
         if (result.Record is not { } record)
         {
             telemetry.Answered(result, Endpoint);
+            SetRetryAfter(http, result.Problem);
             return result.Problem is HttpValidationProblemDetails v
                 ? Problems.Validation(v.Errors, (string)v.Extensions["code"]!, v.Title!)
                 : TypedResults.Problem(result.Problem!);
@@ -111,6 +114,7 @@ public static partial class EvaluationsApi
         }
         catch (AuditStoreUnavailableException ex)
         {
+            runner.Unreserve(record);
             LogAuditFailed(logger, record.Id, record.Asset, ex.Message);
             telemetry.Refused(Problems.AuditUnavailable, Endpoint);
             return Unavailable(http, options);
@@ -127,6 +131,15 @@ public static partial class EvaluationsApi
         }
 
         return new Utf8JsonResult<EvaluationResponse>(record.Response);
+    }
+
+    /// <summary>Copies a refusal's <c>retryAfterSeconds</c> (a spent quota, a nearly full store) into <c>Retry-After</c>.</summary>
+    internal static void SetRetryAfter(HttpContext http, ProblemDetails? problem)
+    {
+        if (problem?.Extensions.TryGetValue("retryAfterSeconds", out var seconds) == true && seconds is int s)
+        {
+            http.Response.Headers.RetryAfter = s.ToString(System.Globalization.CultureInfo.InvariantCulture);
+        }
     }
 
     internal static ProblemHttpResult Unavailable(HttpContext http, IOptions<ServiceOptions> options)

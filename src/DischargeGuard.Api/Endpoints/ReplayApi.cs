@@ -24,6 +24,7 @@ internal static partial class ReplayApi
                 + "History for trend rules is read as it stood before the original evaluation. A stored request that the rules active now refuse answers 400 or 422 and records nothing.")
             .Produces<ReplayResult>(StatusCodes.Status200OK)
             .ProducesProblem(StatusCodes.Status404NotFound)
+            .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
             .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
             .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
             .RequireRoles(Policies.Plan);
@@ -63,12 +64,23 @@ internal static partial class ReplayApi
             if (result.Record is not { } record)
             {
                 telemetry.Answered(result, "replay");
-                return ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.");
+                EvaluationsApi.SetRetryAfter(http, result.Problem);
+                return result.Status is StatusCodes.Status400BadRequest or StatusCodes.Status422UnprocessableEntity
+                    ? ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.")
+                    : TypedResults.Problem(result.Problem!);
             }
 
-            using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
+            try
             {
-                await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+                using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
+                {
+                    await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+                }
+            }
+            catch (AuditStoreUnavailableException)
+            {
+                runner.Unreserve(record);
+                throw;
             }
 
             telemetry.Answered(result, "replay");

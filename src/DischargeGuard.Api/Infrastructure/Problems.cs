@@ -17,6 +17,9 @@ internal static class Problems
     public const string Forbidden = "forbidden";
     public const string RateLimited = "rate-limited";
     public const string RulesInvalid = "rules-invalid";
+    public const string QuotaExceeded = "storage-quota-exceeded";
+    public const string RecordTooLarge = "record-too-large";
+    public const string StorageLow = "audit-storage-low";
 
     public static string TypeUri(string code) => "urn:dischargeguard:problem:" + code;
 

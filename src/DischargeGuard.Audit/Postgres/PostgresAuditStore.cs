@@ -333,6 +333,26 @@ public sealed class PostgresAuditStore : IAuditStore
     }
 
     /// <inheritdoc />
+    public async Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                using var command = new NpgsqlCommand("SELECT pg_database_size(current_database());", connection);
+                var used = Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), CultureInfo.InvariantCulture);
+                return new AuditStorage(null, used);
+            }
+        }
+        catch (NpgsqlException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    /// <inheritdoc />
     public async Task<AuditChainHead> GetChainHeadAsync(CancellationToken cancellationToken)
     {
         ThrowIfDisposed();

@@ -292,6 +292,26 @@ public sealed class SqliteAuditStore : IAuditStore
     }
 
     /// <inheritdoc />
+    public Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            // The volume of the file's directory (a mounted volume, not the root file system, in a container).
+            var drive = new DriveInfo(Path.GetDirectoryName(DatabasePath)!);
+            var used = SizeOf(DatabasePath) + SizeOf(DatabasePath + "-wal");
+            return Task.FromResult(new AuditStorage(drive.AvailableFreeSpace, used));
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException)
+        {
+            RecordFailure(e.Message);
+            throw new AuditStoreUnavailableException($"The free space of the audit volume could not be read: {e.Message}", e);
+        }
+
+        static long SizeOf(string path) => File.Exists(path) ? new FileInfo(path).Length : 0;
+    }
+
+    /// <inheritdoc />
     public async Task<AuditChainHead> GetChainHeadAsync(CancellationToken cancellationToken)
     {
         ThrowIfDisposed();
