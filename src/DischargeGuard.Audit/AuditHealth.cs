@@ -13,6 +13,9 @@ public sealed record AuditHealth(
     DateTimeOffset? LastErrorAt,
     DateTimeOffset? LastCommitAt)
 {
-    /// <summary>Reachable and writable: the store can take evaluations.</summary>
-    public bool IsHealthy => Reachable && Writable;
+    /// <summary>The guard triggers, constraints and tables that are missing or altered (empty when all are in place).</summary>
+    public IReadOnlyList<string> MissingGuards { get; init; } = [];
+
+    /// <summary>Reachable, writable and guarded: the store can take evaluations.</summary>
+    public bool IsHealthy => Reachable && Writable && MissingGuards.Count == 0;
 }

@@ -30,6 +30,15 @@ public sealed record AuditQuery
     /// <summary>Only this caller (key id or <see cref="AuditRecord.AnonymousCaller"/>).</summary>
     public string? Caller { get; init; }
 
+    /// <summary>
+    /// Only records of one of these sites (exact match; a record without a site never matches). <see langword="null"/>
+    /// does not filter; an empty list matches nothing. Used to narrow a query to what an API key is bound to.
+    /// </summary>
+    public IReadOnlyList<string>? SiteIn { get; init; }
+
+    /// <summary>Only records of one of these asset tags; as for <see cref="SiteIn"/>.</summary>
+    public IReadOnlyList<string>? AssetIn { get; init; }
+
     /// <summary>Continue after this position: a token from <see cref="AuditCursor.ToString"/> or <see cref="AuditPage.NextCursor"/>.</summary>
     public string? Cursor { get; init; }
 

@@ -61,6 +61,15 @@ public sealed record AuditRecord
     /// <summary>The evaluation this one replays, when it is a replay. Not checked against the store.</summary>
     public Guid? ReplayOf { get; init; }
 
+    /// <summary>The record's place in the store's hash chain, from 1. Set by the store when it writes; ignored on append.</summary>
+    public long? Sequence { get; init; }
+
+    /// <summary>The <see cref="RecordHash"/> of the record before it (or the anchor). Set by the store; ignored on append.</summary>
+    public string? PreviousHash { get; init; }
+
+    /// <summary>Lower-case hex SHA-256 of the whole row and <see cref="PreviousHash"/> (<see cref="AuditChain.RecordHash"/>). Set by the store; ignored on append.</summary>
+    public string? RecordHash { get; init; }
+
     /// <summary>The <see cref="Caller"/> of a request that presented no API key.</summary>
     public const string AnonymousCaller = "anonymous";
 }

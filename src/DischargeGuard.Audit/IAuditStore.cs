@@ -61,6 +61,31 @@ public interface IAuditStore : IAsyncDisposable
     /// <exception cref="AuditStoreUnavailableException">Nothing was deleted: the store failed or is closed.</exception>
     Task<RetentionResult> ApplyRetentionAsync(RetentionGrant grant, CancellationToken cancellationToken);
 
+    /// <summary>The newest link of the hash chain (sequence, record id, hash).</summary>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    /// <returns>The head.</returns>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<AuditChainHead> GetChainHeadAsync(CancellationToken cancellationToken);
+
+    /// <summary>
+    /// Verifies the whole chain: the retention grants, then every record in sequence order from the newest grant's anchor
+    /// (its body hashes, its previous hash and its record hash), then the stored head. Streams the records; stops at the
+    /// first broken link.
+    /// </summary>
+    /// <param name="cancellationToken">Cancels the walk.</param>
+    /// <returns>What was found.</returns>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<AuditChainVerification> VerifyChainAsync(CancellationToken cancellationToken);
+
+    /// <summary>
+    /// How much room the store has: for SQLite the free space of the audit file's volume and the file's size; for
+    /// PostgreSQL the database's size (the server's free disk is not visible to a client).
+    /// </summary>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    /// <returns>The figures.</returns>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken);
+
     /// <summary>Checks that the store can be read and written. Never throws for a store failure; reports it.</summary>
     /// <param name="cancellationToken">Cancels the check.</param>
     /// <returns>What the check found.</returns>

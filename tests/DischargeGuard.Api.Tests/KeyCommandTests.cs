@@ -26,6 +26,30 @@ public sealed partial class KeyCommandTests
     }
 
     [Fact]
+    public void Run_WhenSitesAndAssetsAreGiven_TheEntryBindsTheKeyToThem()
+    {
+        using var output = new StringWriter();
+
+        var exit = KeyCommand.Run(["new-key", "--id", "tablet-12", "--site", "marlow-fen", "--asset", "C-204B,C-204A"], output);
+
+        Assert.Equal(0, exit);
+        using var entry = JsonDocument.Parse(Assert.Single(output.ToString().Split('\n', StringSplitOptions.TrimEntries), l => l.StartsWith('{')));
+        Assert.Equal(["marlow-fen"], entry.RootElement.GetProperty("sites").EnumerateArray().Select(r => r.GetString()));
+        Assert.Equal(["C-204B", "C-204A"], entry.RootElement.GetProperty("assets").EnumerateArray().Select(r => r.GetString()));
+    }
+
+    [Fact]
+    public void Run_WhenNoSiteIsGivenForATechnician_SaysTheKeyReadsOnlyItsOwnRecords()
+    {
+        using var output = new StringWriter();
+
+        KeyCommand.Run(["new-key", "--id", "tablet-13"], output);
+
+        Assert.Contains("reads only the records it makes itself", output.ToString(), StringComparison.Ordinal);
+        Assert.DoesNotContain("\"sites\"", output.ToString(), StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Run_WhenCalledTwice_PrintsDifferentKeys()
     {
         using var first = new StringWriter();
@@ -45,6 +69,7 @@ public sealed partial class KeyCommandTests
     [InlineData("--id", "tablet-07\n")]
     [InlineData("--id", "tablet-07 ")]
     [InlineData("--id", "tablet-07.")]
+    [InlineData("--asset", "C-204B")]
     public void Run_WhenAnArgumentIsInvalid_PrintsUsageAndExitsWithTwo(string option, string value)
     {
         using var output = new StringWriter();

@@ -22,6 +22,15 @@ public class KeyedServiceFactory : ServiceFactory
 
     public const string OtherTechnicianId = "tablet-09";
 
+    /// <summary>Keys bound to sites (and assets): id, role, sites, assets.</summary>
+    public static readonly IReadOnlyList<(string Id, string Role, string[] Sites, string[] Assets)> Bound =
+    [
+        ("tablet-kr", Roles.Technician, ["kestrel-ridge"], []),
+        ("tablet-mf-c204b", Roles.Technician, ["marlow-fen"], ["C-204B"]),
+        ("tablet-any", Roles.Technician, ["*"], []),
+        ("planner-mf", Roles.Planner, ["marlow-fen"], []),
+    ];
+
     public KeyedServiceFactory()
         : this(NewKeys(), new Dictionary<string, string?>
         {
@@ -58,12 +67,13 @@ public class KeyedServiceFactory : ServiceFactory
         return client;
     }
 
-    /// <summary>POSTs an evaluation of <paramref name="asset"/> with <paramref name="key"/>; returns the recorded id.</summary>
-    public async Task<Guid> EvaluateAsAsync(string key, string asset = "K-101A")
+    /// <summary>POSTs an evaluation of <paramref name="asset"/> (at <paramref name="site"/>) with <paramref name="key"/>; returns the recorded id.</summary>
+    public async Task<Guid> EvaluateAsAsync(string key, string asset = "K-101A", string site = "kestrel-ridge")
     {
         using var client = ClientWith(key);
         var request = Requests.PassingStage();
         request["asset"] = asset;
+        request["site"]!["id"] = site;
         using var content = new StringContent(request.ToJsonString(), Encoding.UTF8, "application/json");
         using var response = await client.PostAsync(new Uri("/v1/evaluations", UriKind.Relative), content);
         var body = await Json.ReadAsync(response);
@@ -76,7 +86,7 @@ public class KeyedServiceFactory : ServiceFactory
 
     private static Dictionary<string, string> NewKeys()
     {
-        var keys = IdOf.Values.Append(OtherTechnicianId).ToDictionary(id => id, _ => NewKey(), StringComparer.Ordinal);
+        var keys = IdOf.Values.Append(OtherTechnicianId).Concat(Bound.Select(b => b.Id)).ToDictionary(id => id, _ => NewKey(), StringComparer.Ordinal);
         return keys;
     }
 
@@ -85,6 +95,11 @@ public class KeyedServiceFactory : ServiceFactory
         var settings = new Dictionary<string, string?>(extra);
         var roleOf = IdOf.ToDictionary(p => p.Value, p => p.Key, StringComparer.Ordinal);
         roleOf[OtherTechnicianId] = Roles.Technician;
+        foreach (var bound in Bound)
+        {
+            roleOf[bound.Id] = bound.Role;
+        }
+
         var i = 0;
         foreach (var (id, key) in keys)
         {
@@ -92,6 +107,18 @@ public class KeyedServiceFactory : ServiceFactory
             settings[prefix + "id"] = id;
             settings[prefix + "sha256"] = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(key)));
             settings[prefix + "roles:0"] = roleOf[id];
+            if (Bound.FirstOrDefault(b => b.Id == id) is { Id: not null } b)
+            {
+                for (var s = 0; s < b.Sites.Length; s++)
+                {
+                    settings[prefix + string.Create(CultureInfo.InvariantCulture, $"sites:{s}")] = b.Sites[s];
+                }
+
+                for (var a = 0; a < b.Assets.Length; a++)
+                {
+                    settings[prefix + string.Create(CultureInfo.InvariantCulture, $"assets:{a}")] = b.Assets[a];
+                }
+            }
         }
 
         return settings;

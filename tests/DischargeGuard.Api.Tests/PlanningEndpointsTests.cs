@@ -191,25 +191,28 @@ public abstract class PlanningEndpointsContract(ServiceFactory fixture)
     // ---- Retention ----
 
     [SkippableFact]
-    public async Task Retention_WhenCutoffIsOldEnough_CountsOnADryRunThenDeletesOnlyOlderRecordsAndKeepsTheGrant()
+    public async Task Retention_WhenCutoffIsOldEnough_DeletesWhatTheDryRunCountedKeepsYoungerRecordsAndTheChainVerifies()
     {
+        // Retention removes the oldest run of the hash chain evaluated before the cut-off (docs/audit.md). This host is
+        // shared, so a back-dated record appended now sits behind younger ones and stays; the store's contract tests
+        // (ApplyRetention_WhenItRemovesTheOldestRecords_…) show old records at the chain's start being removed.
         var store = factory.Services.GetRequiredService<IAuditStore>();
-        var old = await AppendOldRecordAsync(store, DateTimeOffset.UtcNow.AddDays(-1200));
+        await AppendOldRecordAsync(store, DateTimeOffset.UtcNow.AddDays(-1200));
         var recent = await EvaluateAsync(WithAsset(Requests.Minimal(), "K-604A"));
         var cutoff = DateTimeOffset.UtcNow.AddDays(-1000).ToString("O", CultureInfo.InvariantCulture);
 
         var (dryResponse, dry) = await PostAsync("/v1/admin/retention", $$"""{"deleteBefore": "{{cutoff}}", "reason": "records policy RP-7: keep 2 years", "dryRun": true}""");
         Assert.Equal(HttpStatusCode.OK, dryResponse.StatusCode);
         Assert.True(dry.At("dryRun").GetBoolean());
-        Assert.Equal(1, dry.At("records").GetInt64());
-        Assert.NotNull(await store.GetAsync(old, CancellationToken.None));
 
         var (runResponse, run) = await PostAsync("/v1/admin/retention", $$"""{"deleteBefore": "{{cutoff}}", "reason": "records policy RP-7: keep 2 years"}""");
         Assert.Equal(HttpStatusCode.OK, runResponse.StatusCode);
-        Assert.Equal(1, run.At("records").GetInt64());
+        Assert.Equal(dry.At("records").GetInt64(), run.At("records").GetInt64());
         Assert.True(run.At("grantId").GetInt64() > 0);
-        Assert.Null(await store.GetAsync(old, CancellationToken.None));
         Assert.NotNull(await store.GetAsync(recent.At("id").GetGuid(), CancellationToken.None));
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(run.At("grantId").GetInt64(), verification.Anchor.GrantId);
     }
 
     [SkippableFact]

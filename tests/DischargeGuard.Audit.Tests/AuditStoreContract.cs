@@ -37,6 +37,12 @@ public abstract class AuditStoreContract : IAsyncLifetime
 
     protected abstract Task CleanUpDatabaseAsync();
 
+    /// <summary>Removes the update and delete guards on evaluations, as someone with file or owner access could.</summary>
+    protected abstract Task DropEvaluationGuardsAsync();
+
+    /// <summary>A blob literal of this database for <paramref name="hex"/>.</summary>
+    protected abstract string BlobLiteral(string hex);
+
     protected async Task<IAuditStore> OpenStoreAsync(int maxBatchSize = 256)
     {
         var store = await OpenStoreCoreAsync(maxBatchSize);
@@ -255,19 +261,38 @@ public abstract class AuditStoreContract : IAsyncLifetime
     }
 
     [SkippableFact]
-    public async Task RawSql_WhenRetentionGrantCoversOnlyOlderRows_DeletesThoseAndStillRefusesNewer()
+    public async Task RawSql_WhenARetentionGrantIsForged_IsRefusedOrDetected()
     {
         await SeedOlderAndNewerAsync();
 
-        // The documented route for a future retention operation: record a grant, then delete below it.
-        await ExecuteRawAsync("""
+        // The old route (a bare grant, then a delete below it) is refused: a grant must carry the chain's anchor.
+        var bare = await Assert.ThrowsAnyAsync<DbException>(() => ExecuteRawAsync("""
             INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason)
-            VALUES ('2026-05-01T00:00:00.0000000Z', '2026-04-01T00:00:00.0000000Z', 'admin-ops', 'retention test');
-            """);
+            VALUES ('2026-05-01T00:00:00.0000000Z', '2026-04-01T00:00:00.0000000Z', 'admin-ops', 'forged');
+            """));
+        Assert.Contains("retention grants are written only", bare.Message, StringComparison.Ordinal);
 
-        Assert.Equal(1, await ExecuteRawAsync("DELETE FROM evaluations WHERE asset = 'K-101A';"));
-        await Assert.ThrowsAnyAsync<DbException>(() => ExecuteRawAsync("DELETE FROM evaluations WHERE asset = 'K-102A';"));
-        Assert.Equal(1, await CountEvaluationsAsync());
+        // An anchor whose prefix holds a younger record is refused too.
+        var young = await Assert.ThrowsAnyAsync<DbException>(() => ExecuteRawAsync($"""
+            INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash)
+            VALUES ('2026-05-01T00:00:00.0000000Z', '2026-04-01T00:00:00.0000000Z', 'admin-ops', 'forged', 2,
+                    (SELECT record_hash FROM evaluations WHERE seq = 2), '{AuditChain.GenesisHash}', '{new string('a', 64)}');
+            """));
+        Assert.Contains("retention grants are written only", young.Message, StringComparison.Ordinal);
+        await Assert.ThrowsAnyAsync<DbException>(() => ExecuteRawAsync("DELETE FROM evaluations;"));
+        Assert.Equal(2, await CountEvaluationsAsync());
+
+        // A grant that copies a real anchor passes the trigger, but its hash is not the chained hash of its fields.
+        await ExecuteRawAsync($"""
+            INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash)
+            VALUES ('2026-05-01T00:00:00.0000000Z', '2026-04-01T00:00:00.0000000Z', 'admin-ops', 'forged', 1,
+                    (SELECT record_hash FROM evaluations WHERE seq = 1), '{AuditChain.GenesisHash}', '{new string('a', 64)}');
+            """);
+        Assert.Equal(1, await ExecuteRawAsync("DELETE FROM evaluations WHERE seq = 1;"));
+        var store = await OpenStoreAsync();
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+        Assert.False(verification.Intact);
+        Assert.Contains("Retention grant", verification.FirstBreak!.Reason, StringComparison.Ordinal);
     }
 
     [SkippableFact]
@@ -322,12 +347,141 @@ public abstract class AuditStoreContract : IAsyncLifetime
     [InlineData("DELETE FROM retention_grants;")]
     public async Task RawSql_WhenItChangesRetentionGrants_IsRefusedByTrigger(string sql)
     {
-        await OpenStoreAsync();
-        await ExecuteRawAsync("INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES ('2026-05-01T00:00:00.0000000Z', '2026-01-01T00:00:00.0000000Z', 'admin-ops', 'test');");
+        var store = await OpenStoreAsync();
+        await store.ApplyRetentionAsync(new RetentionGrant(Sample.Start.AddDays(-800), "admin-ops", "test", Sample.Start), CancellationToken.None);
 
         var e = await Assert.ThrowsAnyAsync<DbException>(() => ExecuteRawAsync(sql));
 
         Assert.Contains("retention grants are append-only", e.Message, StringComparison.Ordinal);
+    }
+
+    // ---- Hash chain ----
+
+    private async Task<(IAuditStore Store, AuditRecord[] Records)> SeedChainAsync(int count = 3)
+    {
+        var store = await OpenStoreAsync();
+        var records = Enumerable.Range(0, count).Select(i => Sample.Record(at: Sample.Start.AddMinutes(i), asset: $"K-20{i}A")).ToArray();
+        foreach (var record in records)
+        {
+            await store.AppendAsync(record, CancellationToken.None);
+        }
+
+        return (store, records);
+    }
+
+    [SkippableFact]
+    public async Task VerifyChain_WhenNothingWasTouched_IsIntactAndEndsAtTheHead()
+    {
+        var (store, records) = await SeedChainAsync();
+        await Task.WhenAll(Enumerable.Range(0, 40).Select(i => store.AppendAsync(Sample.Record(at: Sample.Start.AddSeconds(i)), CancellationToken.None).AsTask()));
+
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+        var head = await store.GetChainHeadAsync(CancellationToken.None);
+
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(43, verification.Records);
+        Assert.Equal(1, verification.FirstSequence);
+        Assert.Equal(43, head.Sequence);
+        Assert.Equal(head, verification.Head);
+        var first = await store.GetAsync(records[0].Id, CancellationToken.None);
+        Assert.Equal(1, first!.Sequence);
+        Assert.Equal(AuditChain.GenesisHash, first.PreviousHash);
+        Assert.Equal(AuditChain.RecordHash(1, AuditChain.GenesisHash, first), first.RecordHash);
+    }
+
+    [SkippableFact]
+    public async Task VerifyChain_WhenAVerdictOrCallerIsChangedBehindTheGuards_ReportsThatRecord()
+    {
+        var (store, records) = await SeedChainAsync();
+        await DropEvaluationGuardsAsync();
+
+        Assert.Equal(1, await ExecuteRawAsync("UPDATE evaluations SET verdict = 'fail', caller = 'someone-else' WHERE seq = 2;"));
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.False(verification.Intact);
+        Assert.Equal(2, verification.FirstBreak!.Sequence);
+        Assert.Equal(records[1].Id, verification.FirstBreak.RecordId);
+        Assert.Contains("column", verification.FirstBreak.Reason, StringComparison.Ordinal);
+        Assert.Equal(1, verification.Records);
+    }
+
+    [SkippableFact]
+    public async Task VerifyChain_WhenABodyIsReplacedAndItsHashRecomputed_TheChainBreaksThere()
+    {
+        var (store, _) = await SeedChainAsync();
+        await DropEvaluationGuardsAsync();
+
+        await ExecuteRawAsync($"UPDATE evaluations SET response = {BlobLiteral("7b7d")}, response_sha256 = '{AuditDigest.Sha256Hex("{}"u8)}' WHERE seq = 3;");
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.False(verification.Intact);
+        Assert.Equal(3, verification.FirstBreak!.Sequence);
+    }
+
+    [SkippableTheory]
+    [InlineData(2, 2)]
+    [InlineData(3, 3)]
+    public async Task VerifyChain_WhenARowIsDeletedBehindTheGuards_TheChainBreaks(long deleted, long breakAt)
+    {
+        var (store, _) = await SeedChainAsync();
+        await DropEvaluationGuardsAsync();
+
+        Assert.Equal(1, await ExecuteRawAsync($"DELETE FROM evaluations WHERE seq = {deleted};"));
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.False(verification.Intact);
+        Assert.Equal(breakAt, verification.FirstBreak!.Sequence);
+        Assert.Contains(deleted == 3 ? "head" : "missing", verification.FirstBreak.Reason, StringComparison.Ordinal);
+    }
+
+    [SkippableFact]
+    public async Task CheckHealth_WhenAGuardTriggerIsDropped_IsUnhealthyNamingItAndReopeningIsRefused()
+    {
+        var (store, _) = await SeedChainAsync(1);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+
+        await DropEvaluationGuardsAsync();
+        var health = await store.CheckHealthAsync(CancellationToken.None);
+
+        Assert.False(health.IsHealthy);
+        Assert.Contains(health.MissingGuards, g => g.Contains("evaluations_no_update", StringComparison.Ordinal));
+        var refused = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => OpenStoreCoreAsync(256));
+        Assert.Contains("evaluations_no_update", refused.Message, StringComparison.Ordinal);
+    }
+
+    [SkippableFact]
+    public async Task ApplyRetention_WhenItRemovesTheOldestRecords_TheRestVerifiesFromTheAnchorTheGrantStores()
+    {
+        var store = await OpenStoreAsync();
+        foreach (var days in new[] { -500, -450, -10, -5 })
+        {
+            await store.AppendAsync(Sample.Record(at: Sample.Start.AddDays(days)), CancellationToken.None);
+        }
+
+        var result = await store.ApplyRetentionAsync(new RetentionGrant(Sample.Start.AddDays(-365), "key-admin-01", "keep 1 year", Sample.Start), CancellationToken.None);
+        await store.AppendAsync(Sample.Record(at: Sample.Start), CancellationToken.None);
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.Equal(2, result.Deleted);
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(new AuditChainAnchor(2, verification.Anchor.Hash, result.GrantId), verification.Anchor);
+        Assert.Equal(3, verification.FirstSequence);
+        Assert.Equal(3, verification.Records);
+        Assert.Equal(2, await ScalarAsync("SELECT anchor_seq FROM retention_grants;"));
+    }
+
+    [SkippableFact]
+    public async Task Append_WhenTwoStoresWriteTheSameDatabaseAtOnce_TheChainDoesNotFork()
+    {
+        var first = await OpenStoreAsync();
+        var second = await OpenStoreAsync();
+
+        await Task.WhenAll(Enumerable.Range(0, 120).Select(i => Task.Run(() =>
+            (i % 2 == 0 ? first : second).AppendAsync(Sample.Record(at: Sample.Start.AddMilliseconds(i)), CancellationToken.None).AsTask())));
+        var verification = await first.VerifyChainAsync(CancellationToken.None);
+
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(120, verification.Records);
     }
 
     // ---- Group commit ----
@@ -484,6 +638,25 @@ public abstract class AuditStoreContract : IAsyncLifetime
     }
 
     [SkippableFact]
+    public async Task Query_WhenNarrowedToSitesAndAssets_ReturnsOnlyRecordsInsideBothLists()
+    {
+        var (store, records) = await SeedQueryRecordsAsync();
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1), site: null), CancellationToken.None);
+
+        var bySite = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = ["osprey-flats", "marlow-fen"] }, CancellationToken.None));
+        var byBoth = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = [Sample.Site], AssetIn = ["K-102B"] }, CancellationToken.None));
+        var none = await ToListAsync(store.QueryAsync(new AuditQuery { SiteIn = [] }, CancellationToken.None));
+
+        var expectedSite = NewestFirst(records.Where(r => r.SiteId == "osprey-flats")).Select(r => r.Id).ToList();
+        var expectedBoth = NewestFirst(records.Where(r => r.SiteId == Sample.Site && r.Asset == "K-102B")).Select(r => r.Id).ToList();
+        Assert.NotEmpty(expectedSite);
+        Assert.NotEmpty(expectedBoth);
+        Assert.Equal(expectedSite, bySite.Select(r => r.Id));
+        Assert.Equal(expectedBoth, byBoth.Select(r => r.Id));
+        Assert.Empty(none);
+    }
+
+    [SkippableFact]
     public async Task Query_WhenTimeWindowGiven_IncludesFromAndExcludesTo()
     {
         var (store, records) = await SeedQueryRecordsAsync();
@@ -596,6 +769,18 @@ public abstract class AuditStoreContract : IAsyncLifetime
         Assert.NotNull(health.LastCommitAt);
         Assert.Equal(1, await ScalarAsync("SELECT count(*) FROM health_probe;"));
         Assert.Equal(1, await CountEvaluationsAsync()); // the probe writes its own table, never evaluations
+    }
+
+    [SkippableFact]
+    public async Task GetStorage_WhenRecordsAreStored_ReportsTheStoresSizeAndAnyVisibleFreeSpace()
+    {
+        var store = await OpenStoreAsync();
+        await store.AppendAsync(Sample.Record(responsePadding: 100_000), CancellationToken.None);
+
+        var storage = await store.GetStorageAsync(CancellationToken.None);
+
+        Assert.True(storage.UsedBytes >= 100_000, $"used {storage.UsedBytes}");
+        Assert.True(storage.AvailableBytes is null or > 0, $"available {storage.AvailableBytes}");
     }
 
     [SkippableFact]

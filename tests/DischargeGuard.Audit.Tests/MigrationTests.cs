@@ -50,6 +50,58 @@ public sealed class MigrationTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task Open_WhenFileWasWrittenBeforeTheChain_SealsItsRowsInOrderAndKeepsTheirBytes()
+    {
+        // A file at version 6 (no chain) with rows written out of time order and a grant from before the chain.
+        var records = new[] { Sample.Record(at: Sample.Start.AddMinutes(5), asset: "K-101A"), Sample.Record(at: Sample.Start, asset: "K-102A"), Sample.Record(at: Sample.Start.AddMinutes(2), site: null) };
+        using (var raw = _folder.OpenRaw())
+        {
+            AuditSchema.Migrate(raw, targetVersion: 6);
+            foreach (var r in records)
+            {
+                using var insert = raw.CreateCommand();
+                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditStore.BaseColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL);";
+                insert.Parameters.AddWithValue("$id", r.Id.ToString());
+                insert.Parameters.AddWithValue("$at", AuditTime.Format(r.EvaluatedAt));
+                insert.Parameters.AddWithValue("$caller", r.Caller);
+                insert.Parameters.AddWithValue("$asset", r.Asset);
+                insert.Parameters.AddWithValue("$site", (object?)r.SiteId ?? DBNull.Value);
+                insert.Parameters.AddWithValue("$verdict", r.Verdict);
+                insert.Parameters.AddWithValue("$digest", r.RuleDigest);
+                insert.Parameters.AddWithValue("$engine", r.EngineVersion);
+                insert.Parameters.AddWithValue("$req", r.Request);
+                insert.Parameters.AddWithValue("$reqh", AuditDigest.Sha256Hex(r.Request));
+                insert.Parameters.AddWithValue("$res", r.Response);
+                insert.Parameters.AddWithValue("$resh", AuditDigest.Sha256Hex(r.Response));
+                insert.ExecuteNonQuery();
+            }
+
+            using var grant = raw.CreateCommand();
+            grant.CommandText = "INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES ('2026-03-01T00:00:00.1234567Z', '2024-01-01T00:00:00.0000000Z', 'ops-admin', 'before the chain');";
+            grant.ExecuteNonQuery();
+        }
+
+        var store = await _folder.OpenAsync();
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(3, verification.Records);
+        Assert.Equal(0, verification.Anchor.Sequence);
+        Assert.Equal(1, verification.Anchor.GrantId);
+        foreach (var (record, sequence) in records.OrderBy(r => r.EvaluatedAt).Select((r, i) => (r, i + 1L)))
+        {
+            var read = await store.GetAsync(record.Id, CancellationToken.None);
+            Assert.Equal(sequence, read!.Sequence);
+            Assert.Equal(record.Request, read.Request);
+            Assert.Equal(record.Response, read.Response);
+        }
+
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1)), CancellationToken.None);
+        Assert.True((await store.VerifyChainAsync(CancellationToken.None)).Intact);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+    }
+
+    [Fact]
     public async Task Open_WhenFileIsCurrent_AppliesNothingTwice()
     {
         await using (await SqliteAuditStore.OpenAsync(_folder.Options(), CancellationToken.None))

@@ -24,4 +24,9 @@ public sealed class SqliteAuditStoreContractTests : AuditStoreContract
         ((SqliteAuditStore)store).HoldWriterForTestingAsync(release);
 
     protected override Task CleanUpDatabaseAsync() => _folder.CleanUpAsync();
+
+    protected override async Task DropEvaluationGuardsAsync() =>
+        await ExecuteRawAsync("DROP TRIGGER evaluations_no_update; DROP TRIGGER evaluations_no_delete;");
+
+    protected override string BlobLiteral(string hex) => $"x'{hex}'";
 }

@@ -28,8 +28,54 @@ internal static partial class AdminApi
             .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
             .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
             .RequireRoles(Policies.Admin);
+        group.MapGet("/audit/head", GetChainHeadAsync)
+            .WithName("GetAuditChainHead")
+            .WithSummary("The newest link of the audit hash chain: sequence, record id and hash. Keep copies outside the database host.")
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
+            .RequireRoles(Policies.Admin);
+        group.MapGet("/audit/verify", VerifyChainAsync)
+            .WithName("VerifyAuditChain")
+            .WithSummary("Walk the whole audit hash chain (grants, every record in order, the head) and report the first broken link.")
+            .WithDescription("Records are streamed from the store, not held in memory. `intact` is false at the first record whose body hashes, previous hash "
+                + "or record hash do not match, at a gap in the sequence, or when the chain does not end at the stored head. Compare `head` with a copy kept elsewhere.")
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
+            .RequireRoles(Policies.Admin);
         return group;
     }
+
+    internal static async Task<Results<Ok<AuditChainHead>, ProblemHttpResult>> GetChainHeadAsync(HttpContext http, IAuditStore audit, IOptions<ServiceOptions> options)
+    {
+        try
+        {
+            return TypedResults.Ok(await audit.GetChainHeadAsync(http.RequestAborted).ConfigureAwait(false));
+        }
+        catch (AuditStoreUnavailableException)
+        {
+            return EvaluationsApi.Unavailable(http, options);
+        }
+    }
+
+    internal static async Task<Results<Ok<AuditChainVerification>, ProblemHttpResult>> VerifyChainAsync(
+        HttpContext http, IAuditStore audit, IOptions<ServiceOptions> options, ILogger<AuditChainVerification> logger)
+    {
+        try
+        {
+            var result = await audit.VerifyChainAsync(http.RequestAborted).ConfigureAwait(false);
+            if (!result.Intact)
+            {
+                LogChainBroken(logger, result.FirstBreak!.Sequence, result.FirstBreak.Reason);
+            }
+
+            return TypedResults.Ok(result);
+        }
+        catch (AuditStoreUnavailableException)
+        {
+            return EvaluationsApi.Unavailable(http, options);
+        }
+    }
+
+    [LoggerMessage(EventId = 41, Level = LogLevel.Error, Message = "Audit chain broken at sequence {Sequence}: {Reason}")]
+    private static partial void LogChainBroken(ILogger logger, long sequence, string reason);
 
     internal static async Task<Results<Ok<RetentionAnswer>, ValidationProblem, ProblemHttpResult>> ApplyRetentionAsync(
         [FromBody] RetentionRequest request,

@@ -62,6 +62,7 @@ internal static partial class BatchApi
         IOptions<Microsoft.AspNetCore.Http.Json.JsonOptions> json,
         HistoryReader histories,
         ServiceTelemetry telemetry,
+        ApiKeyRegistry keys,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
@@ -91,7 +92,7 @@ internal static partial class BatchApi
         }
 
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
-        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, histories, telemetry, loggers.CreateLogger(ItemLogCategory));
+        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, histories, telemetry, loggers.CreateLogger(ItemLogCategory), keys.ScopeOf(http.User));
         var counts = new int[6];
         var timing = new BatchTiming();
         ResultWriter? writer = null;
@@ -387,7 +388,8 @@ internal static partial class BatchApi
         JsonSerializerOptions ProblemOptions,
         HistoryReader Histories,
         ServiceTelemetry Telemetry,
-        ILogger Logger);
+        ILogger Logger,
+        KeyScope Scope);
 
     private sealed class BatchTiming
     {
@@ -447,7 +449,7 @@ internal static partial class BatchApi
             {
                 if (!byAsset.TryGetValue(key, out var history))
                 {
-                    history = await c.Histories.LoadAsync(request, null, c.Http.RequestAborted).ConfigureAwait(false);
+                    history = await c.Histories.LoadAsync(request, null, c.Scope, c.Http.RequestAborted).ConfigureAwait(false);
                     byAsset[key] = history;
                 }
 
@@ -471,7 +473,7 @@ internal static partial class BatchApi
                 // their failures, come after).
                 try
                 {
-                    chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i]);
+                    chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i], scope: c.Scope);
                 }
                 catch (Exception e) when (e is not OperationCanceledException)
                 {

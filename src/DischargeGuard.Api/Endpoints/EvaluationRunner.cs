@@ -1,6 +1,7 @@
 using DischargeGuard.Evaluation;
 using System.Text.Json;
 using DischargeGuard.Api.Infrastructure;
+using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
@@ -15,7 +16,14 @@ namespace DischargeGuard.Api.Endpoints;
 /// One evaluation from request bytes to an audit record and its answer, the same for a single post, a batch item and a
 /// replay: read, validate, evaluate, serialise. Appending the record is the caller's step (a batch appends many at once).
 /// </summary>
-internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<EvaluationRequest> validator, TimeProvider time)
+internal sealed class EvaluationRunner(
+    EvaluationPipeline pipeline,
+    IValidator<EvaluationRequest> validator,
+    TimeProvider time,
+    StorageQuota quota,
+    StorageGuard storage,
+    Microsoft.Extensions.Options.IOptions<QuotaOptions> quotas,
+    Microsoft.Extensions.Options.IOptions<ServiceOptions> service)
 {
     /// <summary>Reads and validates one request document (a batch item or a stored request).</summary>
     /// <param name="json">The request as received (UTF-8 JSON).</param>
@@ -48,8 +56,31 @@ internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<E
     }
 
     /// <summary>Evaluates a request that has been read and validated.</summary>
-    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null)
+    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null, KeyScope? scope = null)
     {
+        // A key bound to sites (and assets) evaluates only inside them: refused before anything is computed or stored.
+        if (scope is not null && !scope.MayPost(request.Asset, request.Site?.Id))
+        {
+            return RunResult.Refused(ItemProblems.OutOfScope(request.Asset, request.Site?.Id));
+        }
+
+        // Refused before evaluating when the store is nearly full or the key's quota is already spent.
+        var room = storage.Current;
+        if (time.GetUtcNow() - room.At > TimeSpan.FromSeconds(1))
+        {
+            _ = RefreshQuietlyAsync();
+        }
+
+        if (room.Level == StorageLevel.Full)
+        {
+            return RunResult.Refused(ItemProblems.StorageLow(room.Description, service.Value.RetryAfterSeconds));
+        }
+
+        if (!quota.TryReserve(caller, 0, out var spent, out var limit, out var untilTomorrow) || spent >= limit)
+        {
+            return RunResult.Refused(ItemProblems.QuotaExceeded(caller, spent, limit, untilTomorrow));
+        }
+
         var now = time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
         var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages });
@@ -62,7 +93,39 @@ internal sealed class EvaluationRunner(EvaluationPipeline pipeline, IValidator<E
 
         var response = outcome.Response!;
         var record = EvaluationRecords.Of(request, requestBytes, response, EvaluationRecords.ResponseBytes(response), caller, replayOf);
+
+        // What the record would store is known only now; nothing has been recorded yet.
+        var bytes = StoredBytes(record);
+        if (bytes > quotas.Value.MaxRecordBytes)
+        {
+            return RunResult.Refused(ItemProblems.RecordTooLarge(bytes, quotas.Value.MaxRecordBytes));
+        }
+
+        if (!quota.TryReserve(caller, bytes, out spent, out limit, out untilTomorrow))
+        {
+            return RunResult.Refused(ItemProblems.QuotaExceeded(caller, spent, limit, untilTomorrow));
+        }
+
         return new RunResult(StatusCodes.Status200OK, record, response, null);
+    }
+
+    /// <summary>The bytes a record stores against its caller's quota and the per-record cap: request plus response.</summary>
+    public static long StoredBytes(AuditRecord record) => (long)record.Request.Length + record.Response.Length;
+
+    /// <summary>Gives back the quota reserved for a record the store then refused.</summary>
+    public void Unreserve(AuditRecord record) => quota.Release(record.Caller, StoredBytes(record));
+
+    private async Task RefreshQuietlyAsync()
+    {
+        try
+        {
+            await storage.CheckAsync(CancellationToken.None).ConfigureAwait(false);
+        }
+#pragma warning disable CA1031 // A failed background refresh keeps the last reading; the next one tries again.
+        catch (Exception)
+#pragma warning restore CA1031
+        {
+        }
     }
 }
 
@@ -96,6 +159,32 @@ internal static class ItemProblems
     {
         var details = Of(StatusCodes.Status422UnprocessableEntity, problem.Code, problem.Title, "See 'errors': each entry names the request field and the allowed range.");
         details.Extensions["errors"] = problem.Errors;
+        return details;
+    }
+
+    public static ProblemDetails OutOfScope(string? asset, string? site) =>
+        Of(StatusCodes.Status403Forbidden, Problems.Forbidden, "The API key is not bound to this site or asset.",
+            $"The key may evaluate only the sites (and assets) it is bound to in its configuration; this request names site '{site ?? "(none)"}' and asset '{asset}'. Nothing was evaluated or stored.");
+
+    public static ProblemDetails QuotaExceeded(string caller, long used, long quota, int retryAfterSeconds)
+    {
+        var details = Of(StatusCodes.Status429TooManyRequests, Problems.QuotaExceeded, "The API key's storage quota for today is spent.",
+            string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"Key '{caller}' has stored {used} of its {quota} bytes for this UTC day, and this evaluation would exceed it; nothing was stored. The quota renews at 00:00 UTC (retry after {retryAfterSeconds} s), or ask the administrator for a larger one (Quotas:BytesPerDay or the key's bytesPerDay)."));
+        details.Extensions["retryAfterSeconds"] = retryAfterSeconds;
+        return details;
+    }
+
+    public static ProblemDetails RecordTooLarge(long bytes, long limit) =>
+        Of(StatusCodes.Status413PayloadTooLarge, Problems.RecordTooLarge, "The evaluation's record would be larger than one record may store.",
+            string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"Request and answer together are {bytes} bytes; one audit record may hold {limit} (Quotas:MaxRecordBytes). Nothing was stored. Ask without ?curve=true, or split the train or the batch."));
+
+    public static ProblemDetails StorageLow(string description, int retryAfterSeconds)
+    {
+        var details = Of(StatusCodes.Status503ServiceUnavailable, Problems.StorageLow, "The audit store is nearly full.",
+            $"Evaluations are refused before the audit store fills up ({description}); nothing was evaluated or stored. Retry later; operators: free or grow the volume, or run retention.");
+        details.Extensions["retryAfterSeconds"] = retryAfterSeconds;
         return details;
     }
 
@@ -146,7 +235,11 @@ internal sealed class HistoryReader(IAuditStore audit) : IDisposable
     /// when the request has no measurement a trend could use.
     /// </summary>
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
-    public async Task<AssetHistory?> LoadAsync(EvaluationRequest request, DateTimeOffset? before, CancellationToken cancellationToken)
+    /// <param name="request">The request being evaluated.</param>
+    /// <param name="before">Only records evaluated before this instant (a replay); null for all.</param>
+    /// <param name="scope">What the caller may read: a trend never draws on records the caller could not read itself.</param>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    public async Task<AssetHistory?> LoadAsync(EvaluationRequest request, DateTimeOffset? before, KeyScope scope, CancellationToken cancellationToken)
     {
         if (!AssetHistory.IsUseful(request))
         {
@@ -154,7 +247,7 @@ internal sealed class HistoryReader(IAuditStore audit) : IDisposable
         }
 
         var samples = new List<IReadOnlyList<StageSample>>(EvaluationHistory.MaxEvaluations);
-        var query = new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations };
+        var query = scope.Narrow(new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations });
         await foreach (var record in audit.QueryAsync(query, cancellationToken).ConfigureAwait(false))
         {
             samples.Add(SamplesOf(record));

@@ -35,18 +35,18 @@ public static partial class EvaluationsApi
         group.MapGet("/{id:guid}", GetEvaluation)
             .WithName("GetEvaluation")
             .WithSummary("The stored request and response of an evaluation; the response is byte-identical to what was sent.")
-            .WithDescription("Planner and admin keys read any record; a technician key reads the records it made and those of assets it has evaluated (others answer 404).")
+            .WithDescription("A key bound to sites (and assets) reads only their records; an unbound planner or admin key reads any record; an unbound technician key reads only the records it made. Others answer 404.")
             .RequireRoles(Policies.ReadEvaluation)
             .ProducesProblem(StatusCodes.Status404NotFound);
         group.MapGet("/", ListEvaluations)
             .WithName("ListEvaluations")
             .WithSummary("Recorded evaluations, newest first, with keyset paging (cursor); filters by asset, site, verdict and time.")
-            .WithDescription("Planner and admin keys list every record. A technician key lists the records it made; with `asset` set to an asset it has evaluated, "
-                + "the asset's whole history. `from` is inclusive, `to` exclusive (ISO 8601).")
+            .WithDescription("Only the records the key may read: those of its bound sites (and assets); every record for an unbound planner or admin key; "
+                + "its own records for an unbound technician key. `from` is inclusive, `to` exclusive (ISO 8601).")
             .RequireRoles(Policies.ReadEvaluation);
         group.MapGet("/{id:guid}/verify", VerifyEvaluation)
             .WithName("VerifyEvaluation")
-            .WithSummary("Recompute the SHA-256 of a record's stored request and response and compare them with the hashes stored when it was written.")
+            .WithSummary("Recompute the SHA-256 of a record's stored request and response and its record hash (every column and the previous hash), and compare them with what was stored when it was written.")
             .RequireRoles(Policies.ReadEvaluation);
         group.MapBatch();
         group.MapExport();
@@ -67,14 +67,17 @@ public static partial class EvaluationsApi
         IOptions<ServiceOptions> options,
         HistoryReader histories,
         ServiceTelemetry telemetry,
+        ApiKeyRegistry keys,
+        StorageGuard storage,
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
+        await storage.CheckAsync(http.RequestAborted).ConfigureAwait(false);
         AssetHistory? history;
         try
         {
-            history = await histories.LoadAsync(request, null, http.RequestAborted).ConfigureAwait(false);
+            history = await histories.LoadAsync(request, null, keys.ScopeOf(http.User), http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
@@ -88,7 +91,7 @@ public static partial class EvaluationsApi
         RunResult result;
         using (var span = ServiceTelemetry.Source.StartActivity("evaluate"))
         {
-            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history);
+            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history, scope: keys.ScopeOf(http.User));
             span?.SetTag("dischargeguard.evaluation.id", result.Record?.Id.ToString());
             span?.SetTag("dischargeguard.verdict", result.Response?.Verdict);
             span?.SetTag("dischargeguard.rules.digest", result.Response?.RuleSet.Digest);
@@ -98,6 +101,7 @@ public static partial class EvaluationsApi
         if (result.Record is not { } record)
         {
             telemetry.Answered(result, Endpoint);
+            SetRetryAfter(http, result.Problem);
             return result.Problem is HttpValidationProblemDetails v
                 ? Problems.Validation(v.Errors, (string)v.Extensions["code"]!, v.Title!)
                 : TypedResults.Problem(result.Problem!);
@@ -110,6 +114,7 @@ public static partial class EvaluationsApi
         }
         catch (AuditStoreUnavailableException ex)
         {
+            runner.Unreserve(record);
             LogAuditFailed(logger, record.Id, record.Asset, ex.Message);
             telemetry.Refused(Problems.AuditUnavailable, Endpoint);
             return Unavailable(http, options);
@@ -128,6 +133,15 @@ public static partial class EvaluationsApi
         return new Utf8JsonResult<EvaluationResponse>(record.Response);
     }
 
+    /// <summary>Copies a refusal's <c>retryAfterSeconds</c> (a spent quota, a nearly full store) into <c>Retry-After</c>.</summary>
+    internal static void SetRetryAfter(HttpContext http, ProblemDetails? problem)
+    {
+        if (problem?.Extensions.TryGetValue("retryAfterSeconds", out var seconds) == true && seconds is int s)
+        {
+            http.Response.Headers.RetryAfter = s.ToString(System.Globalization.CultureInfo.InvariantCulture);
+        }
+    }
+
     internal static ProblemHttpResult Unavailable(HttpContext http, IOptions<ServiceOptions> options)
     {
         http.Response.Headers.RetryAfter = options.Value.RetryAfterSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture);
@@ -142,8 +156,8 @@ public static partial class EvaluationsApi
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
 
-        // A record a technician may not read answers as missing, so ids cannot be probed.
-        return record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false)
+        // A record outside the key's scope answers as missing, so ids cannot be probed.
+        return record is null || !keys.ScopeOf(user).MayRead(record)
             ? Problems.Missing($"No evaluation with id {id} is recorded.")
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
     }
@@ -152,7 +166,7 @@ public static partial class EvaluationsApi
         Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)
     {
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
-        if (record is null || !await MayReadAsync(user, keys, audit, record, cancellationToken).ConfigureAwait(false))
+        if (record is null || !keys.ScopeOf(user).MayRead(record))
         {
             return Problems.Missing($"No evaluation with id {id} is recorded.");
         }
@@ -160,9 +174,20 @@ public static partial class EvaluationsApi
         // Recompute from the stored bytes; the hashes stored beside them were taken when the record was written.
         var requestSha256 = AuditDigest.Sha256Hex(record.Request);
         var responseSha256 = AuditDigest.Sha256Hex(record.Response);
+        // The record hash covers every column and the previous record's hash, so a changed verdict or caller shows here too.
+        var recordSha256 = record.Sequence is { } sequence && record.PreviousHash is { } previous
+            ? AuditChain.RecordHash(sequence, previous, record)
+            : string.Empty;
         var intact = string.Equals(requestSha256, record.RequestSha256, StringComparison.Ordinal)
-            && string.Equals(responseSha256, record.ResponseSha256, StringComparison.Ordinal);
-        return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty));
+            && string.Equals(responseSha256, record.ResponseSha256, StringComparison.Ordinal)
+            && recordSha256.Length > 0 && string.Equals(recordSha256, record.RecordHash, StringComparison.Ordinal);
+        return TypedResults.Ok(new VerificationResult(id, intact, requestSha256, record.RequestSha256 ?? string.Empty, responseSha256, record.ResponseSha256 ?? string.Empty)
+        {
+            Sequence = record.Sequence,
+            RecordSha256 = recordSha256,
+            StoredRecordSha256 = record.RecordHash ?? string.Empty,
+            PreviousSha256 = record.PreviousHash ?? string.Empty,
+        });
     }
 
     internal static async Task<Results<Ok<EvaluationList>, ValidationProblem>> ListEvaluations(
@@ -194,19 +219,9 @@ public static partial class EvaluationsApi
             return Problems.Validation(errors);
         }
 
-        // A technician lists the records it made, and the whole history of an asset it has evaluated itself.
-        string? caller = null;
-        if (!SeesEverything(user, keys))
-        {
-            caller = user.Identity?.Name ?? AuditRecord.AnonymousCaller;
-            if (asset is not null && await HasEvaluatedAsync(audit, caller, asset, cancellationToken).ConfigureAwait(false))
-            {
-                caller = null;
-            }
-        }
-
+        // What the key is bound to narrows every list; history is never earned by posting.
         var page = await audit.QueryPageAsync(
-            new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit, Caller = caller },
+            keys.ScopeOf(user).Narrow(new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to, Cursor = cursor, Limit = limit }),
             cancellationToken).ConfigureAwait(false);
         return TypedResults.Ok(new EvaluationList(
             page.Records.Select(r => new EvaluationSummary(r.Id, r.EvaluatedAt, r.Caller, r.Asset, r.SiteId, r.Verdict, r.RuleDigest, r.EngineVersion, r.ReplayOf)).ToArray(),
@@ -228,39 +243,6 @@ public static partial class EvaluationsApi
         }
 
         return errors;
-    }
-
-    internal static bool SeesEverything(ClaimsPrincipal user, ApiKeyRegistry keys) =>
-        keys.IsOpen || user.IsInRole(Roles.Planner) || user.IsInRole(Roles.Admin);
-
-    /// <summary>
-    /// Planner and admin keys read every record. A technician reads the records it made and every record of an asset it
-    /// has evaluated itself (the machine's history, made by whoever evaluated it).
-    /// </summary>
-    internal static async Task<bool> MayReadAsync(ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, AuditRecord record, CancellationToken cancellationToken)
-    {
-        if (SeesEverything(user, keys))
-        {
-            return true;
-        }
-
-        if (!user.IsInRole(Roles.Technician) || user.Identity?.Name is not { } name)
-        {
-            return false;
-        }
-
-        return string.Equals(record.Caller, name, StringComparison.Ordinal)
-            || await HasEvaluatedAsync(audit, name, record.Asset, cancellationToken).ConfigureAwait(false);
-    }
-
-    private static async Task<bool> HasEvaluatedAsync(IAuditStore audit, string caller, string asset, CancellationToken cancellationToken)
-    {
-        await foreach (var _ in audit.QueryAsync(new AuditQuery { Caller = caller, Asset = asset, Limit = 1 }, cancellationToken).ConfigureAwait(false))
-        {
-            return true;
-        }
-
-        return false;
     }
 
     internal static string CallerOf(HttpContext http) =>
@@ -350,12 +332,25 @@ public sealed record StoredEvaluation(
 
 /// <summary>The answer of <c>GET /v1/evaluations/{id}/verify</c>.</summary>
 /// <param name="Id">The evaluation.</param>
-/// <param name="Intact">Whether both recomputed hashes equal the stored ones.</param>
+/// <param name="Intact">Whether the recomputed body hashes and record hash equal the stored ones.</param>
 /// <param name="RequestSha256">SHA-256 (hex) recomputed from the stored request bytes.</param>
 /// <param name="StoredRequestSha256">The request hash stored with the record.</param>
 /// <param name="ResponseSha256">SHA-256 (hex) recomputed from the stored response bytes.</param>
 /// <param name="StoredResponseSha256">The response hash stored with the record.</param>
-public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256);
+public sealed record VerificationResult(Guid Id, bool Intact, string RequestSha256, string StoredRequestSha256, string ResponseSha256, string StoredResponseSha256)
+{
+    /// <summary>The record's place in the hash chain.</summary>
+    public long? Sequence { get; init; }
+
+    /// <summary>The record hash recomputed from every column and the stored previous hash (docs/audit.md).</summary>
+    public string RecordSha256 { get; init; } = string.Empty;
+
+    /// <summary>The record hash stored when the record was written.</summary>
+    public string StoredRecordSha256 { get; init; } = string.Empty;
+
+    /// <summary>The previous record's hash as stored with this one; the whole chain is checked by <c>GET /v1/admin/audit/verify</c>.</summary>
+    public string PreviousSha256 { get; init; } = string.Empty;
+}
 
 /// <summary>A page of recorded evaluations, newest first.</summary>
 /// <param name="Evaluations">The records on this page (without their bodies: read one with <c>GET /v1/evaluations/{id}</c>).</param>

@@ -45,6 +45,7 @@ internal static class ExportApi
         [FromQuery] DateTimeOffset? to,
         HttpContext http,
         IAuditStore audit,
+        ApiKeyRegistry keys,
         TimeProvider time)
     {
         var errors = EvaluationsApi.FilterErrors(verdict, from, to);
@@ -53,7 +54,8 @@ internal static class ExportApi
             return Problems.Validation(errors);
         }
 
-        var query = new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to };
+        // A planner key bound to sites exports only their records.
+        var query = keys.ScopeOf(http.User).Narrow(new AuditQuery { Asset = asset, SiteId = site, Verdict = verdict, From = from, To = to });
         var cancellationToken = http.RequestAborted;
 
         // Open the enumeration first: a store that cannot be read answers 503 before any row is sent.

@@ -79,14 +79,33 @@ internal sealed class RuleSetHealthCheck(IRuleSetProvider rules) : IHealthCheck
     }
 }
 
-/// <summary>Audit store reachable and writable.</summary>
-internal sealed class AuditStoreHealthCheck(IAuditStore audit) : IHealthCheck
+/// <summary>Audit store reachable, writable, guarded, and with room.</summary>
+internal sealed class AuditStoreHealthCheck(IAuditStore audit, DischargeGuard.Api.Infrastructure.StorageGuard storage) : IHealthCheck
 {
     public async Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default)
     {
         var health = await audit.CheckHealthAsync(cancellationToken).ConfigureAwait(false);
-        return health.IsHealthy
-            ? HealthCheckResult.Healthy("Audit store writable.")
-            : HealthCheckResult.Unhealthy("The audit store cannot take writes; evaluations are refused with 503 until it recovers.");
+        var room = await storage.CheckAsync(cancellationToken).ConfigureAwait(false);
+        if (health.MissingGuards.Count > 0)
+        {
+            return HealthCheckResult.Unhealthy(
+                "The audit store's guards are missing or altered: " + string.Join(", ", health.MissingGuards) + ". Its records can no longer be trusted to be append-only; restore the guards (or the store) and verify the chain.",
+                data: new Dictionary<string, object> { ["missingGuards"] = health.MissingGuards.ToArray() });
+        }
+
+        if (!health.IsHealthy)
+        {
+            return HealthCheckResult.Unhealthy("The audit store cannot take writes; evaluations are refused with 503 until it recovers.");
+        }
+
+        var data = new Dictionary<string, object> { ["storage"] = room.Description };
+        return room.Level switch
+        {
+            DischargeGuard.Api.Infrastructure.StorageLevel.Full => HealthCheckResult.Unhealthy(
+                "The audit store is nearly full (" + room.Description + "): evaluations are refused with 503 until room is made.", data: data),
+            DischargeGuard.Api.Infrastructure.StorageLevel.Low => HealthCheckResult.Degraded(
+                "The audit store is running out of room (" + room.Description + "); evaluations stop below the threshold.", data: data),
+            _ => HealthCheckResult.Healthy("Audit store writable.", data),
+        };
     }
 }

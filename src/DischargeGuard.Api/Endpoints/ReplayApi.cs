@@ -24,6 +24,7 @@ internal static partial class ReplayApi
                 + "History for trend rules is read as it stood before the original evaluation. A stored request that the rules active now refuse answers 400 or 422 and records nothing.")
             .Produces<ReplayResult>(StatusCodes.Status200OK)
             .ProducesProblem(StatusCodes.Status404NotFound)
+            .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
             .ProducesProblem(StatusCodes.Status422UnprocessableEntity)
             .ProducesProblem(StatusCodes.Status503ServiceUnavailable)
             .RequireRoles(Policies.Plan);
@@ -37,6 +38,7 @@ internal static partial class ReplayApi
         IOptions<ServiceOptions> options,
         HistoryReader histories,
         ServiceTelemetry telemetry,
+        ApiKeyRegistry keys,
         ILoggerFactory loggers)
     {
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations.Replay");
@@ -45,7 +47,8 @@ internal static partial class ReplayApi
         try
         {
             original = await audit.GetAsync(id, http.RequestAborted).ConfigureAwait(false);
-            if (original is null)
+            var scope = keys.ScopeOf(http.User);
+            if (original is null || !scope.MayRead(original))
             {
                 return Problems.Missing($"No evaluation with id {id} is recorded.");
             }
@@ -56,17 +59,28 @@ internal static partial class ReplayApi
                 return ProblemOf(refusal, "The stored request is not accepted by the contract of this version; it cannot be replayed.");
             }
 
-            history = await histories.LoadAsync(request!, original.EvaluatedAt, http.RequestAborted).ConfigureAwait(false);
-            var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id);
+            history = await histories.LoadAsync(request!, original.EvaluatedAt, scope, http.RequestAborted).ConfigureAwait(false);
+            var result = runner.Run(request!, original.Request, rules.Current, EvaluationsApi.CallerOf(http), curve: false, history, replayOf: original.Id, scope);
             if (result.Record is not { } record)
             {
                 telemetry.Answered(result, "replay");
-                return ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.");
+                EvaluationsApi.SetRetryAfter(http, result.Problem);
+                return result.Status is StatusCodes.Status400BadRequest or StatusCodes.Status422UnprocessableEntity
+                    ? ProblemOf(result, "The stored request is refused by the rules or data active now; nothing was recorded.")
+                    : TypedResults.Problem(result.Problem!);
             }
 
-            using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
+            try
             {
-                await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+                using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
+                {
+                    await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+                }
+            }
+            catch (AuditStoreUnavailableException)
+            {
+                runner.Unreserve(record);
+                throw;
             }
 
             telemetry.Answered(result, "replay");

@@ -103,6 +103,10 @@ public static class HostingExtensions
         builder.Services.AddSingleton<EvaluationPipeline>();
         builder.Services.AddSingleton<EvaluationRunner>();
         builder.Services.AddSingleton<HistoryReader>();
+        builder.Services.AddOptions<QuotaOptions>().BindConfiguration(QuotaOptions.SectionName).ValidateDataAnnotations()
+            .Validate(q => q.BytesPerDay.Values.All(v => v >= 0), "Quotas:BytesPerDay values must be 0 or more.").ValidateOnStart();
+        builder.Services.AddSingleton<StorageQuota>();
+        builder.Services.AddSingleton<StorageGuard>();
         builder.Services.AddSingleton<IValidator<EvaluationRequest>, EvaluationRequestValidator>();
         builder.Services.AddHostedService<StartupWarmup>();
 

@@ -19,6 +19,9 @@ internal static class Problems
     public const string RulesInvalid = "rules-invalid";
     public const string CrossSiteRefused = "cross-site-refused";
     public const string TooManyBatches = "too-many-batches";
+    public const string QuotaExceeded = "storage-quota-exceeded";
+    public const string RecordTooLarge = "record-too-large";
+    public const string StorageLow = "audit-storage-low";
 
     public static string TypeUri(string code) => "urn:dischargeguard:problem:" + code;
 

@@ -62,4 +62,45 @@ public sealed class AuditSettings
     /// <summary>Most records committed in one transaction.</summary>
     [Range(1, 10_000)]
     public int MaxBatchSize { get; set; } = 256;
+
+    /// <summary>
+    /// Free bytes the audit file's volume must keep (SQLite). Below it evaluations are refused with 503 and readiness is
+    /// Unhealthy; below twice it readiness is Degraded. 0 turns the check off.
+    /// </summary>
+    [Range(0, long.MaxValue)]
+    public long MinFreeBytes { get; set; } = 1024L * 1024 * 1024;
+
+    /// <summary>
+    /// PostgreSQL: the database size (<c>pg_database_size</c>) at which evaluations are refused with 503, as the free-space
+    /// threshold does for SQLite (the server's disk is not visible to the service). 0 (the default) turns it off.
+    /// </summary>
+    [Range(0, long.MaxValue)]
+    public long MaxDatabaseBytes { get; set; }
+}
+
+/// <summary>Storage quotas (section <c>Quotas</c>): bytes a key may store per UTC day, and the most one record may store.</summary>
+public sealed class QuotaOptions
+{
+    /// <summary>The configuration section.</summary>
+    public const string SectionName = "Quotas";
+
+    /// <summary>Bytes per UTC day by role (a key with several roles gets the largest); a key's own <c>bytesPerDay</c> overrides.</summary>
+    public Dictionary<string, long> BytesPerDay { get; } = new(StringComparer.Ordinal)
+    {
+        ["technician"] = 128L * 1024 * 1024,
+        ["gate"] = 512L * 1024 * 1024,
+        ["planner"] = 2048L * 1024 * 1024,
+        ["admin"] = 0,
+    };
+
+    /// <summary>
+    /// Bytes per UTC day without keys (loopback-only mode), all callers together; null (the default) sets no quota, since
+    /// only the host itself can call an anonymous service. The free-space threshold still applies.
+    /// </summary>
+    [Range(0, long.MaxValue)]
+    public long? AnonymousBytesPerDay { get; set; }
+
+    /// <summary>Most bytes (request plus response) one record may store; a larger answer is refused with 413 and not recorded.</summary>
+    [Range(1024, long.MaxValue)]
+    public long MaxRecordBytes { get; set; } = 1024L * 1024;
 }

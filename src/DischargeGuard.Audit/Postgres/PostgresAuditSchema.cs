@@ -80,6 +80,19 @@ internal static class PostgresAuditSchema
                 checked_at timestamptz NOT NULL
             );
             """),
+        new(4, "hash chain over whole rows, chained retention grants with their anchor, and the chain head; existing rows sealed in order", """
+            ALTER TABLE evaluations ADD COLUMN seq bigint, ADD COLUMN prev_hash text, ADD COLUMN record_hash text;
+            ALTER TABLE retention_grants ADD COLUMN anchor_seq bigint, ADD COLUMN anchor_hash text, ADD COLUMN prev_grant_hash text, ADD COLUMN grant_hash text;
+            CREATE TABLE audit_chain_head (
+                id        integer PRIMARY KEY CHECK (id = 1),
+                seq       bigint  NOT NULL,
+                record_id uuid,
+                hash      text    NOT NULL CHECK (hash ~ '^[0-9a-f]{64}$')
+            );
+            DROP TRIGGER evaluations_no_update_or_delete ON evaluations;
+            DROP TRIGGER retention_grants_no_change ON retention_grants;
+            """,
+            PostgresGuards.CreateSql),
     ];
 
     /// <summary>The version a database has after every step.</summary>
@@ -128,6 +141,12 @@ internal static class PostgresAuditSchema
                 }
 
                 await ExecuteAsync(connection, migration.Sql, cancellationToken).ConfigureAwait(false);
+                if (migration.AfterSeal is not null)
+                {
+                    await PostgresGuards.SealAsync(connection, cancellationToken).ConfigureAwait(false);
+                    await ExecuteAsync(connection, migration.AfterSeal, cancellationToken).ConfigureAwait(false);
+                }
+
                 using var insert = new NpgsqlCommand("INSERT INTO schema_migrations (version, description) VALUES (@v, @d);", connection);
                 insert.Parameters.AddWithValue("v", migration.Version);
                 insert.Parameters.AddWithValue("d", migration.Description);

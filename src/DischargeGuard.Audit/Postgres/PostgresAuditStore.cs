@@ -31,8 +31,11 @@ namespace DischargeGuard.Audit.Postgres;
 /// </remarks>
 public sealed class PostgresAuditStore : IAuditStore
 {
-    private const string Columns =
+    /// <summary>The columns every schema version has, in <see cref="ReadRecord"/> order.</summary>
+    internal const string BaseColumns =
         "id, evaluated_at, evaluated_at_tick, caller, asset, site_id, verdict, rule_digest, engine_version, request, request_sha256, response, response_sha256, replay_of";
+
+    private const string Columns = BaseColumns + ", seq, prev_hash, record_hash";
 
     private const string CopySql = "COPY evaluations (" + Columns + ") FROM STDIN (FORMAT BINARY)";
 
@@ -170,7 +173,7 @@ public sealed class PostgresAuditStore : IAuditStore
             await using (connection.ConfigureAwait(false))
             {
                 using var command = connection.CreateCommand();
-                command.CommandText = "SELECT count(*) FROM evaluations WHERE evaluated_at < @before;";
+                command.CommandText = "SELECT count(*) FROM evaluations WHERE seq < coalesce((SELECT min(seq) FROM evaluations WHERE evaluated_at >= @before), (SELECT max(seq) + 1 FROM evaluations), 0);";
                 command.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = before.ToUniversalTime() });
                 return Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), System.Globalization.CultureInfo.InvariantCulture);
             }
@@ -197,22 +200,63 @@ public sealed class PostgresAuditStore : IAuditStore
                 var transaction = await connection.BeginTransactionAsync().ConfigureAwait(false);
                 await using (transaction.ConfigureAwait(false))
                 {
+                    // Locks the head too, so retention runs of several replicas and their appends take turns.
+                    await LockHeadAsync(connection).ConfigureAwait(false);
+                    var grantedAt = AuditChain.ToMicroseconds(grant.GrantedAt);
+                    var deleteBefore = AuditChain.ToMicroseconds(grant.DeleteBefore);
+                    long lastAnchorSeq = 0;
+                    string lastAnchorHash = AuditChain.GenesisHash, lastGrantHash = AuditChain.GenesisHash;
+                    using (var last = new NpgsqlCommand("SELECT anchor_seq, anchor_hash, grant_hash FROM retention_grants ORDER BY id DESC LIMIT 1;", connection))
+                    {
+                        var reader = await last.ExecuteReaderAsync().ConfigureAwait(false);
+                        await using (reader.ConfigureAwait(false))
+                        {
+                            if (await reader.ReadAsync().ConfigureAwait(false))
+                            {
+                                (lastAnchorSeq, lastAnchorHash, lastGrantHash) = (reader.GetInt64(0), reader.GetString(1), reader.GetString(2));
+                            }
+                        }
+                    }
+
+                    long prefixEnd;
+                    using (var end = new NpgsqlCommand("SELECT coalesce((SELECT min(seq) FROM evaluations WHERE evaluated_at >= @before) - 1, (SELECT max(seq) FROM evaluations), 0);", connection))
+                    {
+                        end.Parameters.Add(new NpgsqlParameter("before", NpgsqlDbType.TimestampTz) { Value = deleteBefore });
+                        prefixEnd = Convert.ToInt64(await end.ExecuteScalarAsync().ConfigureAwait(false), CultureInfo.InvariantCulture);
+                    }
+
+                    var (anchorSeq, anchorHash) = (lastAnchorSeq, lastAnchorHash);
+                    if (prefixEnd > lastAnchorSeq)
+                    {
+                        using var anchor = new NpgsqlCommand("SELECT record_hash FROM evaluations WHERE seq = @seq;", connection);
+                        anchor.Parameters.AddWithValue("seq", prefixEnd);
+                        (anchorSeq, anchorHash) = (prefixEnd, (string)(await anchor.ExecuteScalarAsync().ConfigureAwait(false))!);
+                    }
+
+                    var grantHash = AuditChain.GrantHash(lastGrantHash, grantedAt, deleteBefore, grant.GrantedBy, grant.Reason, anchorSeq, anchorHash);
                     long grantId;
                     using (var insert = connection.CreateCommand())
                     {
-                        insert.CommandText = "INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES (@at, @before, @by, @reason) RETURNING id;";
-                        insert.Parameters.Add(new NpgsqlParameter("at", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.GrantedAt.ToUniversalTime() });
-                        insert.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.DeleteBefore.ToUniversalTime() });
+                        insert.CommandText = """
+                            INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash)
+                            VALUES (@at, @before, @by, @reason, @anchor_seq, @anchor_hash, @prev, @hash) RETURNING id;
+                            """;
+                        insert.Parameters.Add(new NpgsqlParameter("at", NpgsqlDbType.TimestampTz) { Value = grantedAt });
+                        insert.Parameters.Add(new NpgsqlParameter("before", NpgsqlDbType.TimestampTz) { Value = deleteBefore });
                         insert.Parameters.Add(new NpgsqlParameter("by", grant.GrantedBy));
                         insert.Parameters.Add(new NpgsqlParameter("reason", grant.Reason));
-                        grantId = Convert.ToInt64(await insert.ExecuteScalarAsync().ConfigureAwait(false), System.Globalization.CultureInfo.InvariantCulture);
+                        insert.Parameters.Add(new NpgsqlParameter("anchor_seq", anchorSeq));
+                        insert.Parameters.Add(new NpgsqlParameter("anchor_hash", anchorHash));
+                        insert.Parameters.Add(new NpgsqlParameter("prev", lastGrantHash));
+                        insert.Parameters.Add(new NpgsqlParameter("hash", grantHash));
+                        grantId = Convert.ToInt64(await insert.ExecuteScalarAsync().ConfigureAwait(false), CultureInfo.InvariantCulture);
                     }
 
                     long deleted;
                     using (var delete = connection.CreateCommand())
                     {
-                        delete.CommandText = "DELETE FROM evaluations WHERE evaluated_at < @before;";
-                        delete.Parameters.Add(new NpgsqlParameter("before", NpgsqlTypes.NpgsqlDbType.TimestampTz) { Value = grant.DeleteBefore.ToUniversalTime() });
+                        delete.CommandText = "DELETE FROM evaluations WHERE seq <= @anchor;";
+                        delete.Parameters.Add(new NpgsqlParameter("anchor", anchorSeq));
                         deleted = await delete.ExecuteNonQueryAsync().ConfigureAwait(false);
                     }
 
@@ -234,6 +278,7 @@ public sealed class PostgresAuditStore : IAuditStore
         }
 
         var reachable = false;
+        IReadOnlyList<string> missingGuards = [];
         try
         {
             var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
@@ -244,6 +289,14 @@ public sealed class PostgresAuditStore : IAuditStore
                 if (!reachable)
                 {
                     RecordFailure(string.Create(CultureInfo.InvariantCulture, $"The schema is at version {version}, expected {PostgresAuditSchema.LatestVersion}."));
+                }
+                else
+                {
+                    missingGuards = await PostgresGuards.MissingAsync(connection, cancellationToken).ConfigureAwait(false);
+                    if (missingGuards.Count > 0)
+                    {
+                        RecordFailure("The audit database's guards are missing or altered: " + string.Join(", ", missingGuards) + ".");
+                    }
                 }
             }
         }
@@ -275,7 +328,111 @@ public sealed class PostgresAuditStore : IAuditStore
 
         lock (_stateLock)
         {
-            return new AuditHealth(reachable, writable, _lastError, _lastErrorAt, _lastCommitAt);
+            return new AuditHealth(reachable, writable, _lastError, _lastErrorAt, _lastCommitAt) { MissingGuards = missingGuards };
+        }
+    }
+
+    /// <inheritdoc />
+    public async Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                using var command = new NpgsqlCommand("SELECT pg_database_size(current_database());", connection);
+                var used = Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), CultureInfo.InvariantCulture);
+                return new AuditStorage(null, used);
+            }
+        }
+        catch (NpgsqlException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    /// <inheritdoc />
+    public async Task<AuditChainHead> GetChainHeadAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                return await ReadChainHeadAsync(connection, cancellationToken).ConfigureAwait(false);
+            }
+        }
+        catch (NpgsqlException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    private static async Task<AuditChainHead> ReadChainHeadAsync(NpgsqlConnection connection, CancellationToken cancellationToken)
+    {
+        using var command = new NpgsqlCommand("SELECT seq, record_id, hash FROM audit_chain_head WHERE id = 1;", connection);
+        var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+        await using (reader.ConfigureAwait(false))
+        {
+            return await reader.ReadAsync(cancellationToken).ConfigureAwait(false)
+                ? new AuditChainHead(reader.GetInt64(0), reader.IsDBNull(1) ? null : reader.GetGuid(1), reader.GetString(2))
+                : new AuditChainHead(-1, null, "(no chain head row)");
+        }
+    }
+
+    /// <inheritdoc />
+    public async Task<AuditChainVerification> VerifyChainAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await _readerSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                // One repeatable-read snapshot: grants, rows and head agree while appends go on.
+                var transaction = await connection.BeginTransactionAsync(System.Data.IsolationLevel.RepeatableRead, cancellationToken).ConfigureAwait(false);
+                await using (transaction.ConfigureAwait(false))
+                {
+                    var grants = new List<StoredGrant>();
+                    using (var command = new NpgsqlCommand("SELECT id, granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash FROM retention_grants ORDER BY id;", connection))
+                    {
+                        var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+                        await using (reader.ConfigureAwait(false))
+                        {
+                            while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                            {
+                                grants.Add(new StoredGrant(reader.GetInt64(0), reader.GetFieldValue<DateTimeOffset>(1), reader.GetFieldValue<DateTimeOffset>(2), reader.GetString(3), reader.GetString(4),
+                                    reader.IsDBNull(5) ? -1 : reader.GetInt64(5), reader.IsDBNull(6) ? string.Empty : reader.GetString(6),
+                                    reader.IsDBNull(7) ? string.Empty : reader.GetString(7), reader.IsDBNull(8) ? string.Empty : reader.GetString(8)));
+                            }
+                        }
+                    }
+
+                    var head = await ReadChainHeadAsync(connection, cancellationToken).ConfigureAwait(false);
+                    var result = await AuditChain.VerifyAsync(grants, ReadChainAsync(connection, cancellationToken), head, cancellationToken).ConfigureAwait(false);
+                    await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                    return result;
+                }
+            }
+        }
+        catch (NpgsqlException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    private static async IAsyncEnumerable<AuditRecord> ReadChainAsync(NpgsqlConnection connection, [EnumeratorCancellation] CancellationToken cancellationToken)
+    {
+        using var command = new NpgsqlCommand("SELECT " + Columns + " FROM evaluations ORDER BY seq NULLS FIRST;", connection);
+        var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+        await using (reader.ConfigureAwait(false))
+        {
+            while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+            {
+                yield return ReadRecord(reader);
+            }
         }
     }
 
@@ -383,13 +540,18 @@ public sealed class PostgresAuditStore : IAuditStore
             var transaction = await connection.BeginTransactionAsync().ConfigureAwait(false);
             await using (transaction.ConfigureAwait(false))
             {
+                // The head row is locked for the transaction: writers of several replicas take turns, so the chain cannot fork.
+                var (sequence, previous) = await LockHeadAsync(connection).ConfigureAwait(false);
                 var importer = await connection.BeginBinaryImportAsync(CopySql).ConfigureAwait(false);
                 await using (importer.ConfigureAwait(false))
                 {
                     importer.Timeout = _options.CommandTimeout;
                     foreach (var item in batch)
                     {
-                        await WriteRowAsync(importer, item.Record!).ConfigureAwait(false);
+                        sequence++;
+                        var hash = AuditChain.RecordHash(sequence, previous, item.Record!);
+                        await WriteRowAsync(importer, item.Record!, sequence, previous, hash).ConfigureAwait(false);
+                        previous = hash;
                     }
 
                     await importer.CompleteAsync().ConfigureAwait(false);
@@ -436,7 +598,22 @@ public sealed class PostgresAuditStore : IAuditStore
         }
     }
 
-    private static async Task WriteRowAsync(NpgsqlBinaryImporter importer, AuditRecord record)
+    private static async Task<(long Sequence, string Hash)> LockHeadAsync(NpgsqlConnection connection)
+    {
+        using var command = new NpgsqlCommand("SELECT seq, hash FROM audit_chain_head WHERE id = 1 FOR UPDATE;", connection);
+        var reader = await command.ExecuteReaderAsync().ConfigureAwait(false);
+        await using (reader.ConfigureAwait(false))
+        {
+            if (!await reader.ReadAsync().ConfigureAwait(false))
+            {
+                throw new InvalidOperationException("The audit chain head is missing.");
+            }
+
+            return (reader.GetInt64(0), reader.GetString(1));
+        }
+    }
+
+    private static async Task WriteRowAsync(NpgsqlBinaryImporter importer, AuditRecord record, long sequence, string previousHash, string recordHash)
     {
         var (at, tick) = SplitTicks(record.EvaluatedAt);
         await importer.StartRowAsync().ConfigureAwait(false);
@@ -469,6 +646,10 @@ public sealed class PostgresAuditStore : IAuditStore
         {
             await importer.WriteNullAsync().ConfigureAwait(false);
         }
+
+        await importer.WriteAsync(sequence, NpgsqlDbType.Bigint).ConfigureAwait(false);
+        await importer.WriteAsync(previousHash, NpgsqlDbType.Text).ConfigureAwait(false);
+        await importer.WriteAsync(recordHash, NpgsqlDbType.Text).ConfigureAwait(false);
     }
 
     /// <summary>The microsecond instant PostgreSQL stores and the 100 ns tick (0 to 9) it cannot.</summary>
@@ -523,6 +704,13 @@ public sealed class PostgresAuditStore : IAuditStore
             if (migrate)
             {
                 await PostgresAuditSchema.MigrateAsync(connection, PostgresAuditSchema.LatestVersion, cancellationToken).ConfigureAwait(false);
+
+                // A database whose guards were dropped, disabled or altered is refused rather than run "healthy".
+                var missing = await PostgresGuards.MissingAsync(connection, cancellationToken).ConfigureAwait(false);
+                if (missing.Count > 0)
+                {
+                    throw new InvalidOperationException("The audit database's guards are missing or altered: " + string.Join(", ", missing) + ". Restore them (or the database) before starting.");
+                }
             }
 
             _writer = connection;
@@ -629,7 +817,7 @@ public sealed class PostgresAuditStore : IAuditStore
         }
     }
 
-    private static AuditRecord ReadRecord(NpgsqlDataReader reader) => new()
+    internal static AuditRecord ReadRecord(NpgsqlDataReader reader) => new()
     {
         Id = reader.GetGuid(0),
         EvaluatedAt = reader.GetFieldValue<DateTimeOffset>(1).AddTicks(reader.GetInt16(2)),
@@ -644,6 +832,9 @@ public sealed class PostgresAuditStore : IAuditStore
         Response = reader.GetFieldValue<byte[]>(11),
         ResponseSha256 = reader.GetString(12),
         ReplayOf = reader.IsDBNull(13) ? null : reader.GetGuid(13),
+        Sequence = reader.FieldCount > 14 && !reader.IsDBNull(14) ? reader.GetInt64(14) : null,
+        PreviousHash = reader.FieldCount > 15 && !reader.IsDBNull(15) ? reader.GetString(15) : null,
+        RecordHash = reader.FieldCount > 16 && !reader.IsDBNull(16) ? reader.GetString(16) : null,
     };
 
     private void ThrowIfDisposed()
@@ -740,6 +931,17 @@ public sealed class PostgresAuditStore : IAuditStore
             Equal("site_id", query.SiteId);
             Equal("verdict", query.Verdict);
             Equal("caller", query.Caller);
+            void In(string column, IReadOnlyList<string>? values)
+            {
+                if (values is not null)
+                {
+                    sql.Append(CultureInfo.InvariantCulture, $" AND {column} = ANY(@{column}_in)");
+                    parameters.Add(new NpgsqlParameter<string[]>(column + "_in", NpgsqlDbType.Array | NpgsqlDbType.Text) { TypedValue = [.. values] });
+                }
+            }
+
+            In("site_id", query.SiteIn);
+            In("asset", query.AssetIn);
             if (query.From is { } from)
             {
                 sql.Append(" AND (evaluated_at, evaluated_at_tick) >= (@from_at, @from_tick)");

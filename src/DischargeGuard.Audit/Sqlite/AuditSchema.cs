@@ -7,7 +7,11 @@ namespace DischargeGuard.Audit.Sqlite;
 /// <param name="Version">Its number, one more than the step before.</param>
 /// <param name="Description">What it does, kept in the table for whoever opens the file.</param>
 /// <param name="Sql">The statements.</param>
-internal sealed record AuditMigration(int Version, string Description, string Sql);
+/// <param name="AfterSeal">
+/// When set, the step seals the hash chain: <paramref name="Sql"/> runs, then the store's code computes the chain over the
+/// existing rows in order, then these statements run, all in the step's one transaction.
+/// </param>
+internal sealed record AuditMigration(int Version, string Description, string Sql, string? AfterSeal = null);
 
 /// <summary>The versioned schema of the SQLite audit store and the code that brings a file up to date.</summary>
 /// <remarks>
@@ -88,6 +92,27 @@ internal static class AuditSchema
                 pad BLOB NOT NULL
             ) STRICT;
             """),
+        new(7, "hash chain over whole rows, chained retention grants with their anchor, and the chain head; existing rows sealed in order", """
+            ALTER TABLE evaluations ADD COLUMN seq INTEGER;
+            ALTER TABLE evaluations ADD COLUMN prev_hash TEXT;
+            ALTER TABLE evaluations ADD COLUMN record_hash TEXT;
+            ALTER TABLE retention_grants ADD COLUMN anchor_seq INTEGER;
+            ALTER TABLE retention_grants ADD COLUMN anchor_hash TEXT;
+            ALTER TABLE retention_grants ADD COLUMN prev_grant_hash TEXT;
+            ALTER TABLE retention_grants ADD COLUMN grant_hash TEXT;
+            CREATE TABLE audit_chain_head (
+                id        INTEGER PRIMARY KEY CHECK (id = 1),
+                seq       INTEGER NOT NULL,
+                record_id TEXT,
+                hash      TEXT NOT NULL CHECK (length(hash) = 64)
+            ) STRICT;
+            DROP TRIGGER evaluations_no_update;
+            DROP TRIGGER evaluations_no_delete;
+            DROP TRIGGER evaluations_no_replace;
+            DROP TRIGGER retention_grants_no_update;
+            DROP TRIGGER retention_grants_no_delete;
+            """,
+            "CREATE UNIQUE INDEX ix_evaluations_seq ON evaluations (seq);\n" + string.Join(";\n", SqliteGuards.Triggers.Select(t => t.Sql)) + ";"),
     ];
 
     /// <summary>The version a file has after every step.</summary>
@@ -136,6 +161,12 @@ internal static class AuditSchema
                 }
 
                 Execute(connection, migration.Sql);
+                if (migration.AfterSeal is not null)
+                {
+                    SqliteChainSeal.Seal(connection);
+                    Execute(connection, migration.AfterSeal);
+                }
+
                 using (var insert = connection.CreateCommand())
                 {
                     insert.CommandText = "INSERT INTO schema_migrations (version, applied_at, description) VALUES ($v, $at, $d);";

@@ -26,11 +26,14 @@ namespace DischargeGuard.Audit.Sqlite;
 /// </remarks>
 public sealed class SqliteAuditStore : IAuditStore
 {
-    private const string Columns =
+    /// <summary>The columns every schema version since 4 has, in <see cref="ReadRecord"/> order.</summary>
+    internal const string BaseColumns =
         "id, evaluated_at, caller, asset, site_id, verdict, rule_digest, engine_version, request, request_sha256, response, response_sha256, replay_of";
 
+    internal const string Columns = BaseColumns + ", seq, prev_hash, record_hash";
+
     private const string InsertSql =
-        "INSERT INTO evaluations (" + Columns + ") VALUES ($id, $evaluated_at, $caller, $asset, $site_id, $verdict, $rule_digest, $engine_version, $request, $request_sha256, $response, $response_sha256, $replay_of);";
+        "INSERT INTO evaluations (" + Columns + ") VALUES ($id, $evaluated_at, $caller, $asset, $site_id, $verdict, $rule_digest, $engine_version, $request, $request_sha256, $response, $response_sha256, $replay_of, $seq, $prev_hash, $record_hash);";
 
     private const int MaxTextLength = 256;
 
@@ -190,7 +193,7 @@ public sealed class SqliteAuditStore : IAuditStore
             await using (connection.ConfigureAwait(false))
             {
                 using var command = connection.CreateCommand();
-                command.CommandText = "SELECT count(*) FROM evaluations WHERE evaluated_at < $before;";
+                command.CommandText = CountPrefixSql;
                 command.Parameters.AddWithValue("$before", AuditTime.Format(before));
                 return Convert.ToInt64(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false), CultureInfo.InvariantCulture);
             }
@@ -215,22 +218,53 @@ public sealed class SqliteAuditStore : IAuditStore
             {
                 var connection = EnsureWriter(migrate: false);
                 AuditSchema.Execute(connection, "BEGIN IMMEDIATE;");
+                var grantedAt = AuditChain.ToMicroseconds(grant.GrantedAt);
+                var deleteBefore = AuditChain.ToMicroseconds(grant.DeleteBefore);
+
+                // Retention removes the longest run at the start of the chain evaluated before the cut-off, so the rest
+                // stays verifiable from the last removed record (the anchor the grant stores).
+                var (lastAnchorSeq, lastAnchorHash, lastGrantHash) = LastGrant(connection);
+                long prefixEnd;
+                using (var count = connection.CreateCommand())
+                {
+                    count.CommandText = "SELECT coalesce((SELECT min(seq) FROM evaluations WHERE evaluated_at >= $before) - 1, (SELECT max(seq) FROM evaluations), 0);";
+                    count.Parameters.AddWithValue("$before", AuditTime.Format(deleteBefore));
+                    prefixEnd = Convert.ToInt64(count.ExecuteScalar(), CultureInfo.InvariantCulture);
+                }
+
+                var (anchorSeq, anchorHash) = (lastAnchorSeq, lastAnchorHash);
+                if (prefixEnd > lastAnchorSeq)
+                {
+                    using var anchor = connection.CreateCommand();
+                    anchor.CommandText = "SELECT record_hash FROM evaluations WHERE seq = $seq;";
+                    anchor.Parameters.AddWithValue("$seq", prefixEnd);
+                    (anchorSeq, anchorHash) = (prefixEnd, (string)anchor.ExecuteScalar()!);
+                }
+
+                var grantHash = AuditChain.GrantHash(lastGrantHash, grantedAt, deleteBefore, grant.GrantedBy, grant.Reason, anchorSeq, anchorHash);
                 long grantId;
                 using (var insert = connection.CreateCommand())
                 {
-                    insert.CommandText = "INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES ($at, $before, $by, $reason) RETURNING id;";
-                    insert.Parameters.AddWithValue("$at", AuditTime.Format(grant.GrantedAt));
-                    insert.Parameters.AddWithValue("$before", AuditTime.Format(grant.DeleteBefore));
+                    insert.CommandText = """
+                        INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash)
+                        VALUES ($at, $before, $by, $reason, $anchor_seq, $anchor_hash, $prev, $hash) RETURNING id;
+                        """;
+                    insert.Parameters.AddWithValue("$at", AuditTime.Format(grantedAt));
+                    insert.Parameters.AddWithValue("$before", AuditTime.Format(deleteBefore));
                     insert.Parameters.AddWithValue("$by", grant.GrantedBy);
                     insert.Parameters.AddWithValue("$reason", grant.Reason);
+                    insert.Parameters.AddWithValue("$anchor_seq", anchorSeq);
+                    insert.Parameters.AddWithValue("$anchor_hash", anchorHash);
+                    insert.Parameters.AddWithValue("$prev", lastGrantHash);
+                    insert.Parameters.AddWithValue("$hash", grantHash);
                     grantId = Convert.ToInt64(insert.ExecuteScalar(), CultureInfo.InvariantCulture);
                 }
 
                 long deleted;
                 using (var delete = connection.CreateCommand())
                 {
-                    delete.CommandText = "DELETE FROM evaluations WHERE evaluated_at < $before;";
-                    delete.Parameters.AddWithValue("$before", AuditTime.Format(grant.DeleteBefore));
+                    delete.CommandText = "DELETE FROM evaluations WHERE seq <= $anchor;";
+                    delete.Parameters.AddWithValue("$anchor", anchorSeq);
                     deleted = delete.ExecuteNonQuery();
                 }
 
@@ -243,6 +277,118 @@ public sealed class SqliteAuditStore : IAuditStore
         return result!;
     }
 
+    // Records a retention run with this cut-off would delete: the chain's first run evaluated before it.
+    private const string CountPrefixSql =
+        "SELECT count(*) FROM evaluations WHERE seq < coalesce((SELECT min(seq) FROM evaluations WHERE evaluated_at >= $before), (SELECT max(seq) + 1 FROM evaluations), 0);";
+
+    private static (long AnchorSeq, string AnchorHash, string GrantHash) LastGrant(SqliteConnection connection)
+    {
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT anchor_seq, anchor_hash, grant_hash FROM retention_grants ORDER BY id DESC LIMIT 1;";
+        using var reader = command.ExecuteReader();
+        return reader.Read()
+            ? (reader.GetInt64(0), reader.GetString(1), reader.GetString(2))
+            : (0, AuditChain.GenesisHash, AuditChain.GenesisHash);
+    }
+
+    /// <inheritdoc />
+    public Task<AuditStorage> GetStorageAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            // The volume of the file's directory (a mounted volume, not the root file system, in a container).
+            var drive = new DriveInfo(Path.GetDirectoryName(DatabasePath)!);
+            var used = SizeOf(DatabasePath) + SizeOf(DatabasePath + "-wal");
+            return Task.FromResult(new AuditStorage(drive.AvailableFreeSpace, used));
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException or ArgumentException)
+        {
+            RecordFailure(e.Message);
+            throw new AuditStoreUnavailableException($"The free space of the audit volume could not be read: {e.Message}", e);
+        }
+
+        static long SizeOf(string path) => File.Exists(path) ? new FileInfo(path).Length : 0;
+    }
+
+    /// <inheritdoc />
+    public async Task<AuditChainHead> GetChainHeadAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            var connection = await OpenReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                return ReadChainHead(connection);
+            }
+        }
+        catch (SqliteException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    private static AuditChainHead ReadChainHead(SqliteConnection connection)
+    {
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT seq, record_id, hash FROM audit_chain_head WHERE id = 1;";
+        using var reader = command.ExecuteReader();
+        return reader.Read()
+            ? new AuditChainHead(reader.GetInt64(0), reader.IsDBNull(1) ? null : Guid.ParseExact(reader.GetString(1), "D"), reader.GetString(2))
+            : new AuditChainHead(-1, null, "(no chain head row)");
+    }
+
+    /// <inheritdoc />
+    public async Task<AuditChainVerification> VerifyChainAsync(CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        try
+        {
+            // One read transaction, so the grants, the rows and the head are one consistent snapshot while appends go on.
+            var connection = await OpenReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                AuditSchema.Execute(connection, "BEGIN;");
+                var grants = new List<StoredGrant>();
+                using (var command = connection.CreateCommand())
+                {
+                    command.CommandText = "SELECT id, granted_at, delete_before, granted_by, reason, anchor_seq, anchor_hash, prev_grant_hash, grant_hash FROM retention_grants ORDER BY id;";
+                    using var reader = command.ExecuteReader();
+                    while (reader.Read())
+                    {
+                        grants.Add(new StoredGrant(reader.GetInt64(0), AuditTime.Parse(reader.GetString(1)), AuditTime.Parse(reader.GetString(2)), reader.GetString(3), reader.GetString(4),
+                            reader.IsDBNull(5) ? -1 : reader.GetInt64(5), reader.IsDBNull(6) ? string.Empty : reader.GetString(6),
+                            reader.IsDBNull(7) ? string.Empty : reader.GetString(7), reader.IsDBNull(8) ? string.Empty : reader.GetString(8)));
+                    }
+                }
+
+                var head = ReadChainHead(connection);
+                var result = await AuditChain.VerifyAsync(grants, ReadChainAsync(connection, cancellationToken), head, cancellationToken).ConfigureAwait(false);
+                AuditSchema.Execute(connection, "COMMIT;");
+                return result;
+            }
+        }
+        catch (SqliteException e)
+        {
+            throw ReadFailed(e);
+        }
+    }
+
+    private static async IAsyncEnumerable<AuditRecord> ReadChainAsync(SqliteConnection connection, [EnumeratorCancellation] CancellationToken cancellationToken)
+    {
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT " + Columns + " FROM evaluations ORDER BY seq;";
+        var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+        await using (reader.ConfigureAwait(false))
+        {
+            while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+            {
+                yield return ReadRecord(reader);
+            }
+        }
+    }
+
     /// <inheritdoc />
     public async Task<AuditHealth> CheckHealthAsync(CancellationToken cancellationToken)
     {
@@ -252,6 +398,7 @@ public sealed class SqliteAuditStore : IAuditStore
         }
 
         var reachable = false;
+        IReadOnlyList<string> missingGuards = [];
         try
         {
             var connection = await OpenReaderAsync(cancellationToken).ConfigureAwait(false);
@@ -262,6 +409,14 @@ public sealed class SqliteAuditStore : IAuditStore
                 if (!reachable)
                 {
                     RecordFailure(string.Create(CultureInfo.InvariantCulture, $"The schema is at version {version}, expected {AuditSchema.LatestVersion}."));
+                }
+                else
+                {
+                    missingGuards = SqliteGuards.Missing(connection);
+                    if (missingGuards.Count > 0)
+                    {
+                        RecordFailure("The audit database's guards are missing or altered: " + string.Join(", ", missingGuards) + ".");
+                    }
                 }
             }
         }
@@ -292,7 +447,7 @@ public sealed class SqliteAuditStore : IAuditStore
 
         lock (_stateLock)
         {
-            return new AuditHealth(reachable, writable, _lastError, _lastErrorAt, _lastCommitAt);
+            return new AuditHealth(reachable, writable, _lastError, _lastErrorAt, _lastCommitAt) { MissingGuards = missingGuards };
         }
     }
 
@@ -428,10 +583,16 @@ public sealed class SqliteAuditStore : IAuditStore
             var connection = EnsureWriter(migrate: false);
             var insert = _insert!;
             AuditSchema.Execute(connection, "BEGIN IMMEDIATE;");
+
+            // The head is read under the write lock, so the chain cannot fork; the trigger checks each link against it.
+            var (sequence, previous) = ReadHead(connection);
             foreach (var item in batch)
             {
-                Bind(insert, item.Record!);
+                sequence++;
+                var hash = AuditChain.RecordHash(sequence, previous, item.Record!);
+                Bind(insert, item.Record!, sequence, previous, hash);
                 insert.ExecuteNonQuery();
+                previous = hash;
             }
 
             AuditSchema.Execute(connection, "COMMIT;");
@@ -555,15 +716,24 @@ public sealed class SqliteAuditStore : IAuditStore
             if (migrate)
             {
                 AuditSchema.Migrate(connection, AuditSchema.LatestVersion);
+
+                // A file whose guards were dropped or altered is refused: the service would otherwise run "healthy" on it.
+                var missing = SqliteGuards.Missing(connection);
+                if (missing.Count > 0)
+                {
+                    throw new InvalidOperationException("The audit database's guards are missing or altered: " + string.Join(", ", missing) + ". Restore the file from a backup, or recreate the guards, before starting.");
+                }
             }
 
             ApplyMaxPageCount(connection);
             var insert = connection.CreateCommand();
             insert.CommandText = InsertSql;
-            foreach (var name in (string[])["$id", "$evaluated_at", "$caller", "$asset", "$site_id", "$verdict", "$rule_digest", "$engine_version", "$request_sha256", "$response_sha256", "$replay_of"])
+            foreach (var name in (string[])["$id", "$evaluated_at", "$caller", "$asset", "$site_id", "$verdict", "$rule_digest", "$engine_version", "$request_sha256", "$response_sha256", "$replay_of", "$prev_hash", "$record_hash"])
             {
                 insert.Parameters.Add(name, SqliteType.Text);
             }
+
+            insert.Parameters.Add("$seq", SqliteType.Integer);
 
             insert.Parameters.Add("$request", SqliteType.Blob);
             insert.Parameters.Add("$response", SqliteType.Blob);
@@ -593,9 +763,25 @@ public sealed class SqliteAuditStore : IAuditStore
         _writer = null;
     }
 
-    private static void Bind(SqliteCommand insert, AuditRecord record)
+    private static (long Sequence, string Hash) ReadHead(SqliteConnection connection)
+    {
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT seq, hash FROM audit_chain_head WHERE id = 1;";
+        using var reader = command.ExecuteReader();
+        if (!reader.Read())
+        {
+            throw new InvalidOperationException("The audit chain head is missing.");
+        }
+
+        return (reader.GetInt64(0), reader.GetString(1));
+    }
+
+    private static void Bind(SqliteCommand insert, AuditRecord record, long sequence, string previousHash, string recordHash)
     {
         var p = insert.Parameters;
+        p["$seq"].Value = sequence;
+        p["$prev_hash"].Value = previousHash;
+        p["$record_hash"].Value = recordHash;
         p["$id"].Value = FormatId(record.Id);
         p["$evaluated_at"].Value = AuditTime.Format(record.EvaluatedAt);
         p["$caller"].Value = record.Caller;
@@ -682,7 +868,7 @@ public sealed class SqliteAuditStore : IAuditStore
         }
     }
 
-    private static AuditRecord ReadRecord(SqliteDataReader reader) => new()
+    internal static AuditRecord ReadRecord(SqliteDataReader reader) => new()
     {
         Id = Guid.ParseExact(reader.GetString(0), "D"),
         EvaluatedAt = AuditTime.Parse(reader.GetString(1)),
@@ -697,6 +883,9 @@ public sealed class SqliteAuditStore : IAuditStore
         Response = reader.GetFieldValue<byte[]>(10),
         ResponseSha256 = reader.GetString(11),
         ReplayOf = reader.IsDBNull(12) ? null : Guid.ParseExact(reader.GetString(12), "D"),
+        Sequence = reader.FieldCount > 13 && !reader.IsDBNull(13) ? reader.GetInt64(13) : null,
+        PreviousHash = reader.FieldCount > 14 && !reader.IsDBNull(14) ? reader.GetString(14) : null,
+        RecordHash = reader.FieldCount > 15 && !reader.IsDBNull(15) ? reader.GetString(15) : null,
     };
 
     internal static string FormatId(Guid id) => id.ToString("D", CultureInfo.InvariantCulture);
@@ -754,6 +943,9 @@ public sealed class SqliteAuditStore : IAuditStore
             Response = response,
             RequestSha256 = requestSha256,
             ResponseSha256 = responseSha256,
+            Sequence = null,
+            PreviousHash = null,
+            RecordHash = null,
         };
 
         static void RequireText(string? value, string name)
@@ -846,6 +1038,32 @@ public sealed class SqliteAuditStore : IAuditStore
             Equal("site_id", query.SiteId);
             Equal("verdict", query.Verdict);
             Equal("caller", query.Caller);
+            void In(string column, IReadOnlyList<string>? values)
+            {
+                if (values is null)
+                {
+                    return;
+                }
+
+                if (values.Count == 0)
+                {
+                    sql.Append(" AND 0 = 1");
+                    return;
+                }
+
+                sql.Append(CultureInfo.InvariantCulture, $" AND {column} IN (");
+                for (var i = 0; i < values.Count; i++)
+                {
+                    var name = string.Create(CultureInfo.InvariantCulture, $"${column}_in_{i}");
+                    sql.Append(i == 0 ? name : ", " + name);
+                    parameters.Add((name, values[i]));
+                }
+
+                sql.Append(')');
+            }
+
+            In("site_id", query.SiteIn);
+            In("asset", query.AssetIn);
             if (query.From is { } from)
             {
                 sql.Append(" AND evaluated_at >= $from");

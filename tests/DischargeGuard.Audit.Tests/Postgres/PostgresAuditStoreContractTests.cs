@@ -32,6 +32,12 @@ public sealed class PostgresAuditStoreContractTests(PostgresFixture fixture) : A
         ((PostgresAuditStore)store).HoldWriterForTestingAsync(release);
 
     protected override Task CleanUpDatabaseAsync() => Task.CompletedTask; // the cluster is deleted with the fixture
+
+    // The table owner can drop its triggers; the service's role should own nothing (docs/audit.md).
+    protected override async Task DropEvaluationGuardsAsync() =>
+        await ExecuteRawAsync("DROP TRIGGER evaluations_no_update_or_delete ON evaluations;");
+
+    protected override string BlobLiteral(string hex) => $"'\\x{hex}'::bytea";
 }
 
 /// <summary>Connections of the test's own, outside any store.</summary>

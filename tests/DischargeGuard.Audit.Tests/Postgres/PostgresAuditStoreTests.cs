@@ -45,6 +45,67 @@ public sealed class PostgresAuditStoreTests(PostgresFixture fixture) : IAsyncLif
     }
 
     [SkippableFact]
+    public async Task Open_WhenDatabaseWasWrittenBeforeTheChain_SealsItsRowsInOrderAndKeepsTheirBytes()
+    {
+        var records = new[] { Sample.Record(at: Sample.Start.AddMinutes(5).AddTicks(3), asset: "K-101A"), Sample.Record(at: Sample.Start, asset: "K-102A"), Sample.Record(at: Sample.Start.AddMinutes(2), site: null) };
+        await using (var raw = await PostgresRaw.OpenAsync(_connectionString))
+        {
+            await PostgresAuditSchema.MigrateAsync(raw, 3, CancellationToken.None);
+            foreach (var r in records)
+            {
+                var (at, tick) = PostgresAuditStore.SplitTicks(r.EvaluatedAt);
+                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditStore.BaseColumns + ") VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL);", raw);
+                insert.Parameters.AddWithValue("id", r.Id);
+                insert.Parameters.AddWithValue("at", at);
+                insert.Parameters.AddWithValue("tick", tick);
+                insert.Parameters.AddWithValue("caller", r.Caller);
+                insert.Parameters.AddWithValue("asset", r.Asset);
+                insert.Parameters.Add(new NpgsqlParameter("site", NpgsqlTypes.NpgsqlDbType.Text) { Value = (object?)r.SiteId ?? DBNull.Value });
+                insert.Parameters.AddWithValue("verdict", r.Verdict);
+                insert.Parameters.AddWithValue("digest", r.RuleDigest);
+                insert.Parameters.AddWithValue("engine", r.EngineVersion);
+                insert.Parameters.AddWithValue("req", r.Request);
+                insert.Parameters.AddWithValue("reqh", AuditDigest.Sha256Hex(r.Request));
+                insert.Parameters.AddWithValue("res", r.Response);
+                insert.Parameters.AddWithValue("resh", AuditDigest.Sha256Hex(r.Response));
+                await insert.ExecuteNonQueryAsync();
+            }
+
+            await using var grant = new NpgsqlCommand("INSERT INTO retention_grants (granted_at, delete_before, granted_by, reason) VALUES ('2026-03-01T00:00:00.123456Z', '2024-01-01T00:00:00Z', 'ops-admin', 'before the chain');", raw);
+            await grant.ExecuteNonQueryAsync();
+        }
+
+        var store = await OpenAsync();
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(3, verification.Records);
+        Assert.Equal(1, verification.Anchor.GrantId);
+        foreach (var (record, sequence) in records.OrderBy(r => r.EvaluatedAt).Select((r, i) => (r, i + 1L)))
+        {
+            var read = await store.GetAsync(record.Id, CancellationToken.None);
+            Assert.Equal(sequence, read!.Sequence);
+            Assert.Equal(record.Request, read.Request);
+            Assert.Equal(record.Response, read.Response);
+        }
+
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1)), CancellationToken.None);
+        Assert.True((await store.VerifyChainAsync(CancellationToken.None)).Intact);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenAGuardFunctionIsReplacedWithANoOp_IsRefusedNamingIt()
+    {
+        await (await OpenAsync()).DisposeAsync();
+        await ExecuteAsync("CREATE OR REPLACE FUNCTION evaluations_append_only() RETURNS trigger LANGUAGE plpgsql AS $fn$ BEGIN RETURN OLD; END; $fn$;");
+
+        var e = await Assert.ThrowsAsync<AuditStoreUnavailableException>(() => OpenAsync());
+
+        Assert.Contains("function evaluations_append_only (altered)", e.Message, StringComparison.Ordinal);
+    }
+
+    [SkippableFact]
     public async Task Open_WhenDatabaseIsCurrent_AppliesNothing()
     {
         await (await OpenAsync()).DisposeAsync();

@@ -1,4 +1,5 @@
 using System.Collections.Frozen;
+using System.Security.Claims;
 using System.Security.Cryptography;
 using System.Text;
 using Microsoft.Extensions.Options;
@@ -19,6 +20,8 @@ public sealed class ApiKeyRegistry
     public const int MaxKeyLength = 256;
 
     private readonly FrozenDictionary<string, (ApiKeyEntry Entry, byte[] Digest)> _byHash;
+    private readonly FrozenDictionary<string, KeyScope> _scopeById;
+    private readonly FrozenDictionary<string, ApiKeyEntry> _byId;
 
     /// <summary>Builds the registry from validated options.</summary>
     public ApiKeyRegistry(IOptions<AuthOptions> options)
@@ -28,7 +31,27 @@ public sealed class ApiKeyRegistry
             k => k.Sha256.ToLowerInvariant(),
             k => (k, Convert.FromHexString(k.Sha256)),
             StringComparer.Ordinal);
+        _byId = options.Value.Keys.ToFrozenDictionary(k => k.Id, StringComparer.Ordinal);
+        _scopeById = options.Value.Keys.ToFrozenDictionary(k => k.Id, KeyScope.Of, StringComparer.Ordinal);
     }
+
+    /// <summary>
+    /// What the caller may read and post for: everything without keys; otherwise what its key is bound to (see
+    /// <see cref="KeyScope.Of"/>). An unknown identity reads nothing.
+    /// </summary>
+    public KeyScope ScopeOf(ClaimsPrincipal user)
+    {
+        ArgumentNullException.ThrowIfNull(user);
+        if (IsOpen)
+        {
+            return KeyScope.Unrestricted;
+        }
+
+        return user.Identity?.Name is { } id && _scopeById.TryGetValue(id, out var scope) ? scope : KeyScope.Nothing;
+    }
+
+    /// <summary>The configured entry of a key id, or null.</summary>
+    public ApiKeyEntry? ById(string id) => _byId.GetValueOrDefault(id);
 
     /// <summary>No keys configured: the service is anonymous (and bound to loopback).</summary>
     public bool IsOpen => _byHash.Count == 0;

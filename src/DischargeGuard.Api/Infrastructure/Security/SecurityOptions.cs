@@ -49,6 +49,19 @@ public sealed class ApiKeyEntry
 
     /// <summary>Roles, from <see cref="Security.Roles.All"/>.</summary>
     public IList<string> Roles { get; } = [];
+
+    /// <summary>
+    /// The sites the key is bound to (<see cref="KeyScope.AnySite"/> for every site). A bound key reads only records of
+    /// these sites and may post only for them. Empty: a technician or gate key reads only the records it made itself; a
+    /// planner or admin key reads every record.
+    /// </summary>
+    public IList<string> Sites { get; } = [];
+
+    /// <summary>Optionally, the asset tags the key is bound to within its <see cref="Sites"/> (empty: any asset there).</summary>
+    public IList<string> Assets { get; } = [];
+
+    /// <summary>Bytes this key may store in the audit per UTC day; null takes the default of its roles (section <c>Quotas</c>).</summary>
+    public long? BytesPerDay { get; set; }
 }
 
 /// <summary>Per-caller rate limit (section <c>RateLimits</c>): a token bucket per key id, or per remote address without a key.</summary>
@@ -104,6 +117,24 @@ internal sealed partial class AuthOptionsValidator : IValidateOptions<AuthOption
             foreach (var role in key.Roles.Where(r => !Roles.All.Contains(r, StringComparer.Ordinal)))
             {
                 failures.Add($"{where}: unknown role '{role}'; roles are {string.Join(", ", Roles.All)}.");
+            }
+
+            foreach (var (list, listName) in new[] { (key.Sites, "sites"), (key.Assets, "assets") })
+            {
+                if (list.Any(v => string.IsNullOrWhiteSpace(v) || v.Length > 256 || v.Trim() != v))
+                {
+                    failures.Add($"{where}: {listName} holds a blank, padded or over-long entry; give exact tags of 1-256 characters, or \"*\".");
+                }
+            }
+
+            if (key.Assets.Count > 0 && key.Sites.Count == 0)
+            {
+                failures.Add($"{where}: assets narrow the key's sites; give sites too (\"*\" for every site).");
+            }
+
+            if (key.BytesPerDay is < 0)
+            {
+                failures.Add($"{where}: bytesPerDay must be 0 or more.");
             }
         }
 
