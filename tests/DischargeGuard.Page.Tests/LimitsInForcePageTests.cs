@@ -41,6 +41,7 @@ public sealed class LimitsInForcePageTests(BrowserFixture browser)
         await using var page = await PageSession.OpenAsync(browser.Browser, host.BaseAddress);
         await page.LoadAsync();
         await page.FillHeaderAsync("c-204b", "marlow-fen", "4", "preset:methane");
+        await page.At("#limits summary").ClickAsync();
 
         var status = page.At("#limits-status");
         await page.At("#limits-status:has-text('did you mean C-204B')").WaitForAsync();
