@@ -103,7 +103,7 @@ public sealed class PhysicsRangeTests(FloodServiceFactory factory) : IClassFixtu
 
     private static readonly string[] Species = ["N2", "O2", "Ar", "CO2", "H2O", "CO", "H2", "He", "CH4", "C2H6", "C3H8", "n-C4H10", "NH3", "H2S", "SO2", "C2H4"];
 
-    private static readonly string[] Methods = ["auto", "ideal-gas", "real-gas"];
+    private static readonly string[] Methods = ["auto", "ideal-gas", "real-gas", "peng-robinson", "gerg-2008"];
 
     private static string Num(double value) => value.ToString("0.####", CultureInfo.InvariantCulture);
 

@@ -196,7 +196,7 @@ public sealed class RequestRefusalTests(ServiceFactory factory) : IClassFixture<
 
     [Theory]
     [InlineData("service", "nuclear", "'sour'")]
-    [InlineData("method", "peng-robinson", "'real-gas'")]
+    [InlineData("method", "redlich-kwong", "'gerg-2008'")]
     [InlineData("outputUnits", "cgs", "'imperial'")]
     public async Task Evaluate_WhenEnumeratedFieldHasAnUnknownWord_Refuses400ListingAcceptedWords(string field, string value, string listed)
     {

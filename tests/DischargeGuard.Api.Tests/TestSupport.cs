@@ -128,7 +128,7 @@ internal static class Requests
       "site": {"id": "kestrel-ridge", "barometricPressure": "100 kPa"},
       "service": "general",
       "gas": {"preset": "dry-air"},
-      "method": "auto",
+      "method": "ideal-gas",
       "outputUnits": "metric",
       "flow": {"mass": "2.5 kg/s"},
       "stages": [

@@ -41,12 +41,13 @@ public class EvaluationPipelineRealGasTests
     }
 
     [Fact]
-    public void Auto_WhenCo2AtInjectionPressures_UsesTheRealGasAndReportsBothAnswers()
+    public void PengRobinson_WhenCo2AtInjectionPressures_UsesTheRealGasAndReportsBothAnswers()
     {
-        var stage = Evaluate(Co2("auto")).Stages[0];
+        // Peng-Robinson decides where the switch criteria call for it (auto picks GERG-2008 for pure CO2: EvaluationPipelineGergTests).
+        var stage = Evaluate(Co2("peng-robinson")).Stages[0];
         var direct = Direct();
 
-        Assert.Equal("real-gas", stage.Method);
+        Assert.Equal("peng-robinson", stage.Method);
         Assert.True(stage.RealGas!.Used);
         Assert.True(stage.RealGas.Recommended);
         Assert.NotEmpty(stage.RealGas.Reasons);
@@ -101,20 +102,23 @@ public class EvaluationPipelineRealGasTests
         var response = Evaluate(AirRequest() with { Method = "real-gas" });
         var stage = response.Stages[0];
 
-        Assert.Equal("real-gas", response.Method);
-        Assert.Equal("real-gas", stage.Method);
+        // "real-gas" is kept as the request alias of peng-robinson.
+        Assert.Equal("peng-robinson", response.Method);
+        Assert.Equal("peng-robinson", stage.Method);
         Assert.False(stage.RealGas!.Recommended);
         Assert.True(Math.Abs(stage.RealGas.Difference!.Estimated.Value) < 0.5, $"air at 1–3 bar: {stage.RealGas.Difference.Estimated.Value} K");
         Assert.Contains(response.Cautions, c => c.Contains("Peng-Robinson", StringComparison.Ordinal));
     }
 
     [Fact]
-    public void Auto_WhenAirAtLowPressure_StaysIdealGas()
+    public void Auto_WhenAirAtLowPressure_IsGergWithTheIdealAnswerBeside()
     {
+        // Air's four species are GERG-2008 components and 1–3 bar, 20–150 °C lie in its normal range.
         var response = Evaluate(AirRequest());
 
-        Assert.Equal("ideal-gas", response.Method);
-        Assert.Equal("ideal-gas", response.Stages[0].Method);
+        Assert.Equal("gerg-2008", response.Method);
+        Assert.Equal("gerg-2008", response.Stages[0].Method);
+        Assert.NotNull(response.Stages[0].RealGas!.IdealGas);
         Assert.NotNull(response.Stages[0].RealGas!.RealGasTemperatures);
     }
 
@@ -142,7 +146,7 @@ public class EvaluationPipelineRealGasTests
     [Fact]
     public void Envelope_WhenTheRealGasDecides_IsTheRealGasPressureAtTheLimit()
     {
-        var stage = Evaluate(Co2("auto")).Stages[0];
+        var stage = Evaluate(Co2("peng-robinson")).Stages[0];
         var envelope = stage.Envelope!;
         Assert.NotNull(envelope.MaxDischargePressure);
 

@@ -139,7 +139,7 @@ public sealed class EvaluationPipelineRulesTests
     {
         // 100 kPa(a), 35 °C to 600 kPa(a), ηs 0.80: T2s ≈ 308 K · 6^(0.4/1.4) ≈ 240 °C (ideal gas, k = 1.4 — textbook
         // relation T2/T1 = (p2/p1)^((k−1)/k)), far above the 150 °C predicted-temperature limit of the shipped rules.
-        var request = AirRequest(AirStage(discharge: "600 kPa(a)"));
+        var request = AirRequest(AirStage(discharge: "600 kPa(a)")) with { Method = "ideal-gas" };
         var response = Evaluate(request);
         var stage = response.Stages[0];
         Assert.Equal("fail", response.Verdict);
@@ -231,7 +231,7 @@ public sealed class EvaluationPipelineRulesTests
     [Fact]
     public void Evaluate_WhenDischargeAboveThreeMegapascals_AddsHighPressureCaution()
     {
-        var request = AirRequest(AirStage(suction: "1.2 MPa(a)", discharge: "3.1 MPa(a)"));
+        var request = AirRequest(AirStage(suction: "1.2 MPa(a)", discharge: "3.1 MPa(a)")) with { Method = "ideal-gas" }; // the caution is about an ideal-gas answer
         var cautions = Evaluate(request).Cautions;
         Assert.Contains(Cautions.HighPressure, cautions);
         Assert.Contains(Cautions.DeferToCodes, cautions);
@@ -240,14 +240,14 @@ public sealed class EvaluationPipelineRulesTests
     [Fact]
     public void Evaluate_WhenDischargeExactlyThreeMegapascals_HasNoHighPressureCaution()
     {
-        Assert.DoesNotContain(Cautions.HighPressure, Evaluate(AirRequest(AirStage(suction: "1.2 MPa(a)", discharge: "3 MPa(a)"))).Cautions);
+        Assert.DoesNotContain(Cautions.HighPressure, Evaluate(AirRequest(AirStage(suction: "1.2 MPa(a)", discharge: "3 MPa(a)")) with { Method = "ideal-gas" }).Cautions);
     }
 
     [Fact]
     public void Evaluate_WhenContextGiven_EchoesIdTimeAssetSiteAndRuleSet()
     {
         var context = Context();
-        var response = new EvaluationPipeline().Evaluate(AirRequest(), TestRules.Snapshot, context).Response!;
+        var response = new EvaluationPipeline().Evaluate(AirRequest() with { Method = "ideal-gas" }, TestRules.Snapshot, context).Response!;
         Assert.Equal(context.Id, response.Id);
         Assert.Equal(FixedTime, response.EvaluatedAt);
         Assert.Equal("K-101A", response.Asset);

@@ -84,7 +84,7 @@ public sealed class EvaluationPipelineUnitsTests
         {
             Efficiency = new EfficiencyInput { Isentropic = 0.80, Uncertainty = 0.03 },
         });
-        var stage = Evaluate(request).Stages[0];
+        var stage = Evaluate(request with { Method = "ideal-gas" }).Stages[0]; // the oracle is the ideal-gas stage solver
         var direct = StageSolver.Solve(DryAir, new StageConditions(
             Pressure.FromKilopascals(148.6), Temperature.FromDegreesCelsius(35), Pressure.FromKilopascals(418.6), StageEfficiency.Isentropic(0.80, 0.03)));
 
@@ -103,7 +103,7 @@ public sealed class EvaluationPipelineUnitsTests
     [Fact]
     public void Evaluate_WhenImperialOutput_ReportsSamePhysicsInUsCustomaryUnits()
     {
-        var baseRequest = AirRequest(AirStage(suction: "0.5 barg", discharge: "3.2 barg")) with { Flow = new FlowInput { Mass = Q("2.5 kg/s") } };
+        var baseRequest = AirRequest(AirStage(suction: "0.5 barg", discharge: "3.2 barg")) with { Flow = new FlowInput { Mass = Q("2.5 kg/s") }, Method = "ideal-gas" };
         var metric = Evaluate(baseRequest).Stages[0];
         var imperial = Evaluate(baseRequest with { OutputUnits = "imperial" }).Stages[0];
         var direct = Direct(148.6, 35, 418.6, massFlow: 2.5);
@@ -151,7 +151,7 @@ public sealed class EvaluationPipelineUnitsTests
     [Fact]
     public void Evaluate_WhenMassFlowGiven_PowerIsFlowTimesActualWork()
     {
-        var stage = Evaluate(AirRequest() with { Flow = new FlowInput { Mass = Q("9000 kg/h") } }).Stages[0];
+        var stage = Evaluate(AirRequest() with { Flow = new FlowInput { Mass = Q("9000 kg/h") }, Method = "ideal-gas" }).Stages[0];
         var direct = Direct(100, 35, 300);
 
         // 9000 kg/h = 2.5 kg/s; P = ṁ·(h2 − h1).
@@ -162,7 +162,7 @@ public sealed class EvaluationPipelineUnitsTests
     [Fact]
     public void Evaluate_WhenStandardVolumeAtNormalConditions_ConvertsWithIdealGasLaw()
     {
-        var request = AirRequest() with { Flow = new FlowInput { StandardVolume = Q("1200 m³/h"), Reference = "normal" } };
+        var request = AirRequest() with { Flow = new FlowInput { StandardVolume = Q("1200 m³/h"), Reference = "normal" }, Method = "ideal-gas" };
         var response = Evaluate(request);
         var stage = response.Stages[0];
 

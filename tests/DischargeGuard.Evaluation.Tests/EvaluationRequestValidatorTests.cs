@@ -283,7 +283,7 @@ public sealed class EvaluationRequestValidatorTests
     [Fact]
     public void Validate_WhenMethodUnknown_Refuses()
     {
-        AssertRefused(AirRequest() with { Method = "peng-robinson" }, "method", "'auto'", "'ideal-gas'");
+        AssertRefused(AirRequest() with { Method = "redlich-kwong" }, "method", "'auto'", "'ideal-gas'", "'peng-robinson'", "'gerg-2008'");
     }
 
     [Fact]

@@ -118,7 +118,7 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
 
         // The gas model the temperatures come from, as the answer names it.
         var method = body.GetProperty("stages")[0].GetProperty("method").GetString();
-        Assert.Contains(method == "real-gas" ? "real gas" : "ideal gas", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
+        Assert.Contains(method == "ideal-gas" ? "ideal gas" : "real gas", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
 
         // The hydrogen-rich rule is among the violations, with its basis.
         var h2 = page.At("li.finding[data-rule='R-API618-H2']");
@@ -140,8 +140,9 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
 
         Assert.NotNull(answer);
         var stage = answer.Value.GetProperty("stages")[0];
-        Assert.Equal("real-gas", stage.GetProperty("method").GetString());
-        Assert.Contains("real gas (Peng-Robinson)", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
+        // The page's method select defaults to auto, which picks GERG-2008 for pure CO2 in its normal range.
+        Assert.Equal("gerg-2008", stage.GetProperty("method").GetString());
+        Assert.Contains("real gas (GERG-2008)", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
         var text = await page.At(".stage-result").InnerTextAsync();
         Assert.Contains("Ideal-gas estimate", text, StringComparison.Ordinal);
         Assert.Contains("Real-gas (Peng-Robinson) estimate", text, StringComparison.Ordinal);

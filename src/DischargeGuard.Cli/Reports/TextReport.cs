@@ -123,7 +123,7 @@ public static class TextReport
         }
     }
 
-    // Which model the stage's temperatures come from, the other model's answer, Z, and the defaulted k_ij pairs.
+    // Which model the stage's temperatures come from and why, the other models' answers, Z, and the defaulted k_ij pairs.
     private static string RealGasLine(StageDto s)
     {
         var z = $"Z {Format.N(s.Properties.ZSuction, "0.0000")} → {Format.N(s.Properties.ZDischarge, "0.0000")}";
@@ -132,9 +132,21 @@ public static class TextReport
             return $"{s.Method}, {z}";
         }
 
+        var model = rg.Model == "gerg-2008" ? "GERG-2008" : "Peng-Robinson";
+        var second = rg.PengRobinson is { } pr ? $", Peng-Robinson {Format.Q(pr.Estimated)}" : string.Empty;
         var line = rg.RealGasTemperatures is { } real
-            ? $"{s.Method}{(rg.Recommended ? " (real gas called for)" : string.Empty)}; estimated T2 ideal gas {Format.Q(rg.IdealGas.Estimated)}, Peng-Robinson {Format.Q(real.Estimated)}, difference {Format.Q(rg.Difference!.Estimated)}; {z}"
+            ? $"{s.Method}{(rg.Recommended ? " (real gas called for)" : string.Empty)}; estimated T2 ideal gas {Format.Q(rg.IdealGas.Estimated)}, {model} {Format.Q(real.Estimated)}{second}, difference {Format.Q(rg.Difference!.Estimated)}; {z}"
             : $"{s.Method}; {rg.Note}";
+        if (rg.MethodReason is { Length: > 0 } why)
+        {
+            line += $"; why: {why}";
+        }
+
+        if (rg.RealGasTemperatures is not null && rg.Note is { Length: > 0 } note)
+        {
+            line += $"; note: {note}";
+        }
+
         return rg.DefaultedPairs.Count > 0 ? line + $"; k_ij taken as 0 for {string.Join(", ", rg.DefaultedPairs)}" : line;
     }
 

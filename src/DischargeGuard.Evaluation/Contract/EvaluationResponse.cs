@@ -17,7 +17,7 @@ public sealed record EvaluationResponse
     /// <summary>pass, review or fail: the worst stage verdict.</summary>
     public required string Verdict { get; init; }
 
-    /// <summary>The property method used: ideal-gas.</summary>
+    /// <summary>The gas model the stages' answers rest on: ideal-gas, peng-robinson or gerg-2008 when every stage used the same one, else mixed.</summary>
     public required string Method { get; init; }
 
     /// <summary>Version of the engine that computed this answer.</summary>
@@ -146,7 +146,7 @@ public sealed record StageDto
     /// <summary>Rules that applied but could not be checked, with the missing input.</summary>
     public required IReadOnlyList<NotCheckedDto> NotChecked { get; init; }
 
-    /// <summary>ideal-gas or real-gas: which model this stage's temperatures, work and envelope come from.</summary>
+    /// <summary>ideal-gas, peng-robinson or gerg-2008: which model this stage's temperatures, work, envelope and curve come from (why: <c>realGas.methodReason</c>).</summary>
     public string Method { get; init; } = "ideal-gas";
 
     /// <summary>Both models' answers, their difference, the switch criteria and the defaulted k_ij pairs.</summary>
@@ -184,17 +184,20 @@ public sealed record PhaseDto(string Suction, string? Discharge, QuantityDto? Hy
 /// <param name="Estimated">With the stage efficiency.</param>
 public sealed record MethodTemperaturesDto(QuantityDto Isentropic, QuantityDto Estimated);
 
-/// <summary>The real-gas (Peng-Robinson) view of a stage beside the ideal-gas one.</summary>
+/// <summary>The real-gas view of a stage beside the ideal-gas one: GERG-2008 where it was computed (with Peng-Robinson as a second opinion), else Peng-Robinson.</summary>
 /// <param name="Used">Whether the stage's answer uses the real gas.</param>
 /// <param name="Recommended">Whether the switch criteria call for it (Z outside 0.97–1.03, or Pr &gt; 0.1 with Tr &lt; 1.5, or near the critical point).</param>
 /// <param name="Reasons">Which criteria, in words.</param>
 /// <param name="IdealGas">The ideal-gas temperatures.</param>
-/// <param name="RealGasTemperatures">The Peng-Robinson temperatures, when they could be computed.</param>
+/// <param name="RealGasTemperatures">The real-gas model's temperatures (the model in <paramref name="Model"/>), when they could be computed.</param>
 /// <param name="Difference">Real minus ideal (K or Δ°F).</param>
 /// <param name="SuctionReducedPressure">P1 / Pc of the mixture (Kay's rule).</param>
 /// <param name="DischargeReducedPressure">P2 / Pc of the mixture.</param>
 /// <param name="DefaultedPairs">Species pairs whose k_ij was taken as 0 (no published value in the data).</param>
-/// <param name="Note">Why the real gas could not be computed, when it could not.</param>
+/// <param name="Note">Why the real gas could not be computed, when it could not; that a GERG-2008 state lies outside its normal range.</param>
+/// <param name="Model">peng-robinson or gerg-2008: the model of <paramref name="RealGasTemperatures"/> and <paramref name="Difference"/>; null when none was computed.</param>
+/// <param name="MethodReason">Why the stage's method was chosen (the request, GERG-2008's coverage and range, the switch criteria).</param>
+/// <param name="PengRobinson">Peng-Robinson's temperatures as a second opinion where GERG-2008 decided.</param>
 public sealed record RealGasDto(
     bool Used,
     bool Recommended,
@@ -205,7 +208,10 @@ public sealed record RealGasDto(
     double? SuctionReducedPressure,
     double? DischargeReducedPressure,
     IReadOnlyList<string> DefaultedPairs,
-    string? Note);
+    string? Note,
+    string? Model = null,
+    string? MethodReason = null,
+    MethodTemperaturesDto? PengRobinson = null);
 
 /// <summary>A measured discharge temperature beside the prediction.</summary>
 /// <param name="DischargeTemperature">As measured.</param>

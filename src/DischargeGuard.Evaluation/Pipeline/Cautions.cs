@@ -17,7 +17,11 @@ public static class Cautions
 
     /// <summary>Added when a stage's temperatures come from the Peng-Robinson real gas.</summary>
     public const string RealGas =
-        "Stages marked real-gas use the Peng-Robinson equation of state (typically within 1-3 % in Z of the reference equations, worse near the critical point and for hydrogen and helium); confirm critical cases with the gas's reference equation of state and the manufacturer's data.";
+        "Stages marked peng-robinson use the Peng-Robinson equation of state (typically within 1-3 % in Z of the reference equations, worse near the critical point and for hydrogen and helium); confirm critical cases with the gas's reference equation of state and the manufacturer's data.";
+
+    /// <summary>Added when a stage's temperatures come from GERG-2008.</summary>
+    public const string Gerg2008 =
+        "Stages marked gerg-2008 use the GERG-2008 reference equation for natural gases and related mixtures (ISO 20765-2; in its normal range Z typically within 0.1 % for natural gas, larger uncertainty in its extended range); Peng-Robinson is shown beside it as a second opinion. Confirm critical cases with the manufacturer's data.";
 
     /// <summary>Added when a discharge pressure is high enough that real-gas effects may matter.</summary>
     public const string HighPressure =

@@ -103,8 +103,8 @@ public sealed class EvaluationPipeline
         var allFindings = new List<FindingDto>();
         var anyNotChecked = false;
         var anyIdeal = false;
-        var anyReal = false;
-        var method = request.Method ?? "auto";
+        var stageMethods = new HashSet<string>(StringComparer.Ordinal);
+        var method = GasModels.Normalize(request.Method);
         var verdict = Verdict.Pass;
         IReadOnlyList<string> serviceClasses = [];
         for (var i = 0; i < solved.Length; i++)
@@ -140,8 +140,8 @@ public sealed class EvaluationPipeline
             var conditions = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, s.Stage.DischargePressure, trainStages[i].Efficiency, s.MassFlow);
             var idealDischarge = StagePhases.AtDischarge(phaseModel, s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
             var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
-                ? new RealGasStage(false, null, null, null, "The real gas was not computed: the discharge state lies inside the two-phase region.")
-                : RealGasOf(s, conditions, method, i, stagesIn);
+                ? RealGasStage.NotComputed("The real gas was not computed: the discharge state lies inside the two-phase region.")
+                : RealGasChoice.Decide(s, conditions, method, i, m => MapThermoMember(m, stagesIn));
             if (realGas.Result is { } rgr)
             {
                 facts = facts with
@@ -152,7 +152,7 @@ public sealed class EvaluationPipeline
                 {
                     facts = facts with
                     {
-                        DecidedBy = "real-gas",
+                        DecidedBy = realGas.Method,
                         Isentropic = rgr.IsentropicDischargeTemperature,
                         Estimated = rgr.EstimatedDischargeTemperature,
                         EstimatedUpperBound = rgr.EstimatedUpperBound,
@@ -162,7 +162,7 @@ public sealed class EvaluationPipeline
 
             var dischargePhase = realGas.Used ? StagePhases.AtDischarge(phaseModel, s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
             facts = facts with { DischargePhase = dischargePhase };
-            var envelopeGas = realGas.Used ? realGas.Mixture : null;
+            var envelopeGas = realGas.Used ? realGas : null;
             var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas));
             if (i == 0)
             {
@@ -177,7 +177,7 @@ public sealed class EvaluationPipeline
             stage = WithRealGas(stage, s, realGas, output);
             stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;
-            anyReal |= realGas.Used;
+            stageMethods.Add(realGas.Method);
             if (facts.MeasuredDischarge is { } measured)
             {
                 stage = stage with { Measured = new MeasuredDto(output.Temperature(measured), output.DifferenceKelvin(measured.Kelvins - facts.Estimated.Kelvins)) };
@@ -192,9 +192,14 @@ public sealed class EvaluationPipeline
             cautions.Add(Cautions.IdealGas);
         }
 
-        if (anyReal)
+        if (stageMethods.Contains(GasModels.PengRobinson))
         {
             cautions.Add(Cautions.RealGas);
+        }
+
+        if (stageMethods.Contains(GasModels.Gerg2008))
+        {
+            cautions.Add(Cautions.Gerg2008);
         }
 
         if (anyIdeal && solved.Any(s => s.Stage.DischargePressure.Pascals > HighPressurePascals))
@@ -217,7 +222,7 @@ public sealed class EvaluationPipeline
             Id = context.Id,
             EvaluatedAt = context.EvaluatedAt,
             Verdict = Name(verdict),
-            Method = anyReal ? (anyIdeal ? "mixed" : "real-gas") : "ideal-gas",
+            Method = stageMethods.Count == 1 ? stageMethods.First() : stageMethods.Count == 0 ? GasModels.IdealGas : "mixed",
             EngineVersion = EngineVersion,
             Asset = request.Asset,
             Site = request.Site?.Id,
@@ -655,7 +660,7 @@ public sealed class EvaluationPipeline
     }
 
     // R-RATIO's report: the highest ratio each violation-level temperature limit allows, not only the governing one.
-    private static LimitEnvelopeDto[] LimitsOf(TrainStageResult s, StageConditions conditions, RuleStageResult ruled, OutputUnitSystem u, RealGasMixture? realGas)
+    private static LimitEnvelopeDto[] LimitsOf(TrainStageResult s, StageConditions conditions, RuleStageResult ruled, OutputUnitSystem u, RealGasStage? realGas)
     {
         var list = new List<LimitEnvelopeDto>();
         foreach (var f in ruled.Findings)
@@ -672,9 +677,7 @@ public sealed class EvaluationPipeline
                 continue;
             }
 
-            var e = realGas is null
-                ? EnvelopeSolver.MaxDischargePressure(s.Gas, conditions, q.Value, limit)
-                : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, limit);
+            var e = ThermoEnvelopeCalculator.MaxDischargePressure(s.Gas, conditions, q.Value, limit, realGas);
             var found = e.Status == EnvelopeStatus.Found && e.Value is not null;
             list.Add(new LimitEnvelopeDto(
                 f.RuleId,
@@ -708,7 +711,7 @@ public sealed class EvaluationPipeline
             + Describe("Suction temperature", e.MaxSuctionTemperature.Status, e.MaxSuctionTemperature.Note);
     }
 
-    private static List<CurvePointDto> CurveOf(TrainStageResult s, StageEfficiency efficiency, RuleStageResult ruled, OutputUnitSystem u, RealGasMixture? realGas)
+    private static List<CurvePointDto> CurveOf(TrainStageResult s, StageEfficiency efficiency, RuleStageResult ruled, OutputUnitSystem u, RealGasStage? realGas)
     {
         var p1 = s.Stage.SuctionPressure.Pascals;
         var pEnd = s.Stage.DischargePressure.Pascals;
@@ -725,9 +728,8 @@ public sealed class EvaluationPipeline
             var c = new StageConditions(s.Stage.SuctionPressure, s.Stage.SuctionTemperature, Pressure.FromPascals(p2), efficiency);
             try
             {
-                if (realGas is not null)
+                if (realGas?.SolveDeciding(c) is { } rg)
                 {
-                    var rg = RealGasStageSolver.Solve(realGas, c);
                     points.Add(new CurvePointDto(u.PressureAbsolute(c.DischargePressure), u.Temperature(rg.EstimatedDischargeTemperature), u.Temperature(rg.EstimatedUpperBound), u.Temperature(rg.IsentropicDischargeTemperature)));
                     continue;
                 }
@@ -814,39 +816,6 @@ public sealed class EvaluationPipeline
             ? parsed!
             : throw Invalid(path, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
 
-    /// <summary>What the real gas came to for one stage: whether it decides, its result, and why.</summary>
-    private sealed record RealGasStage(bool Used, RealGasMixture? Mixture, RealGasStageResult? Result, RealGasAssessment? Assessment, string? Note);
-
-    // method "auto": the real gas decides when the switch criteria say the ideal gas is not good enough; "real-gas": always;
-    // "ideal-gas": never. The real-gas answer is computed beside the ideal one whenever it can be, so both are reported.
-    private static RealGasStage RealGasOf(TrainStageResult s, StageConditions conditions, string method, int index, IReadOnlyList<StageInput> stagesIn)
-    {
-        var mixture = RealGasMixture.Create(s.Gas);
-        RealGasAssessment? assessment = null;
-        try
-        {
-            assessment = RealGasCriteria.Assess(mixture, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
-            var use = method == "real-gas" || (method == "auto" && assessment.RealGasRecommended);
-            var result = RealGasStageSolver.Solve(mixture, conditions);
-            return new RealGasStage(use, mixture, result, assessment, null);
-        }
-        catch (ThermoInputException ex)
-        {
-            // A state the real gas finds liquid or two-phase, or out of its range: a domain error when the real gas must
-            // decide, and a note beside the ideal-gas answer when it need not.
-            var mustDecide = method == "real-gas" || (method == "auto" && (assessment?.RealGasRecommended ?? true));
-            if (mustDecide)
-            {
-                var member = ex.ParamName is { } p && !p.StartsWith("stages[", StringComparison.Ordinal)
-                    ? string.Create(CultureInfo.InvariantCulture, $"stages[{index}].{p}")
-                    : ex.ParamName;
-                throw Unprocessable(MapThermoMember(member, stagesIn), "Real gas (Peng-Robinson): " + ex.Reason);
-            }
-
-            return new RealGasStage(false, mixture, null, assessment, "The real-gas answer could not be computed: " + ex.Reason);
-        }
-    }
-
     private static StageDto WithRealGas(StageDto stage, TrainStageResult s, RealGasStage rg, OutputUnitSystem u)
     {
         var ideal = s.Stage;
@@ -860,11 +829,16 @@ public sealed class EvaluationPipeline
             r is { } b ? new MethodTemperaturesDto(u.DifferenceKelvin(b.IsentropicDifferenceFromIdealGas.Kelvins), u.DifferenceKelvin(b.DifferenceFromIdealGas.Kelvins)) : null,
             rg.Assessment is { } x ? Math.Round(x.SuctionReducedPressure, 4) : null,
             rg.Assessment is { } y ? Math.Round(y.DischargeReducedPressure, 4) : null,
-            rg.Mixture?.DefaultedPairs.Select(p => p.ToString()).ToArray() ?? [],
-            rg.Note);
+            rg.PengRobinson?.DefaultedPairs.Select(p => p.ToString()).ToArray() ?? [],
+            rg.Note,
+            rg.ResultModel,
+            rg.Reason,
+            rg.Method == GasModels.Gerg2008 && rg.PengRobinsonResult is { } pr
+                ? new MethodTemperaturesDto(u.Temperature(pr.IsentropicDischargeTemperature), u.Temperature(pr.EstimatedDischargeTemperature))
+                : null);
         stage = stage with
         {
-            Method = rg.Used ? "real-gas" : "ideal-gas",
+            Method = rg.Method,
             RealGas = dto,
             Properties = r is { } z ? stage.Properties with { ZSuction = Math.Round(z.ZSuction, 6), ZDischarge = Math.Round(z.ZDischarge, 6) } : stage.Properties,
         };

@@ -10,8 +10,11 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// suction temperature at which the governing quantity reaches its limit, the stage's other inputs and the other stages
 /// held fixed.
 /// </summary>
-/// <remarks>With a real-gas mixture (the stage's temperatures came from Peng-Robinson) the real-gas envelope solver is used.</remarks>
-internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions, RealGasMixture? realGas = null) : IEnvelopeCalculator
+/// <remarks>
+/// When a real-gas model decided the stage (Peng-Robinson or GERG-2008) the real-gas envelope solver runs with that model.
+/// A humid gas's suction-temperature envelope (relative humidity held) uses Peng-Robinson for either real-gas model.
+/// </remarks>
+internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions, RealGasStage? realGas = null) : IEnvelopeCalculator
 {
     private const string NotComputable = "The governing rule checks a quantity the envelope solver cannot move (a measured value, or a limit on something other than the predicted temperature or ratio).";
 
@@ -35,13 +38,26 @@ internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions c
             return (new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable), new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable));
         }
 
-        var p = realGas is null ? EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, t);
+        var p = MaxDischargePressure(gas, conditions, q.Value, t, realGas);
         // A humid gas keeps its relative humidity, not its water fraction, as the suction temperature moves.
         var s = gas.WaterMoleFraction > 0
-            ? HumidEnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t, realGas is not null)
-            : realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, conditions, q.Value, t);
+            ? HumidEnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t, realGas is { Used: true })
+            : realGas switch
+            {
+                { Method: GasModels.Gerg2008, Gerg: { } g } => RealGasEnvelopeSolver.MaxSuctionTemperature(g, conditions, q.Value, t),
+                { Method: GasModels.PengRobinson, PengRobinson: { } pr } => RealGasEnvelopeSolver.MaxSuctionTemperature(pr, conditions, q.Value, t),
+                _ => EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t),
+            };
         return (new(Map(p.Status), p.Value, p.Note), new(Map(s.Status), s.Value, s.Note));
     }
+
+    /// <summary>The highest discharge pressure at the limit with the model that decided the stage (ideal gas when none did).</summary>
+    internal static EnvelopeResult<Pressure> MaxDischargePressure(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, RealGasStage? realGas) => realGas switch
+    {
+        { Method: GasModels.Gerg2008, Gerg: { } g } => RealGasEnvelopeSolver.MaxDischargePressure(g, conditions, quantity, limit),
+        { Method: GasModels.PengRobinson, PengRobinson: { } pr } => RealGasEnvelopeSolver.MaxDischargePressure(pr, conditions, quantity, limit),
+        _ => EnvelopeSolver.MaxDischargePressure(gas, conditions, quantity, limit),
+    };
 
     private static EnvelopeBoundStatus Map(EnvelopeStatus status) => status switch
     {

@@ -13,7 +13,7 @@ public static class ContractValues
     public static IReadOnlyList<string> Services { get; } = ["general", "air", "hydrocarbon", "oxygen", "chlorine", "acetylene", "sour", "co2"];
 
     /// <summary>Accepted <c>method</c> values.</summary>
-    public static IReadOnlyList<string> Methods { get; } = ["auto", "ideal-gas", "real-gas"];
+    public static IReadOnlyList<string> Methods { get; } = ["auto", "ideal-gas", "peng-robinson", "gerg-2008", "real-gas"];
 
     /// <summary>Accepted <c>outputUnits</c> values.</summary>
     public static IReadOnlyList<string> OutputUnits { get; } = ["metric", "imperial"];

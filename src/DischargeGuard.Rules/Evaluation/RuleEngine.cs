@@ -268,7 +268,7 @@ public static class RuleEngine
     {
         applies = false;
         string? missing = null;
-        if (a.DecidedBy.Count > 0 && !Contains(a.DecidedBy, s.DecidedBy))
+        if (a.DecidedBy.Count > 0 && !DecidedByMatches(a.DecidedBy, s.DecidedBy))
         {
             return null;
         }
@@ -467,6 +467,10 @@ public static class RuleEngine
 
         return false;
     }
+
+    // "real-gas" in a rule names either real-gas model (peng-robinson, gerg-2008); the other names match themselves.
+    private static bool DecidedByMatches(IReadOnlyList<string> list, string model) =>
+        Contains(list, model) || (model is "peng-robinson" or "gerg-2008" && Contains(list, "real-gas"));
 
     private static bool Contains(IReadOnlyList<string> list, string value)
     {

@@ -33,7 +33,7 @@ public sealed record StageFacts
     public Ratio? OxygenMoleFraction { get; init; }
     /// <summary>O2 partial pressure at discharge (wet gas, absolute), for rules that need an oxidant; null when unknown.</summary>
     public Pressure? DischargeOxygenPartialPressure { get; init; }
-    /// <summary>Which model's discharge temperatures the stage's checks rest on: "ideal-gas" or "real-gas".</summary>
+    /// <summary>Which model's discharge temperatures the stage's checks rest on: "ideal-gas", "peng-robinson" or "gerg-2008".</summary>
     public string DecidedBy { get; init; } = "ideal-gas";
     /// <summary>
     /// Whether heat is removed during compression: a jacket coolant temperature stated, or a compressor type whose

@@ -570,12 +570,12 @@ public static class RuleFileParser
 
     private static bool CheckMethod(Context ctx, MapView m, string path, string method)
     {
-        if (method is "ideal-gas" or "real-gas")
+        if (method is "ideal-gas" or "real-gas" or "peng-robinson" or "gerg-2008")
         {
             return true;
         }
 
-        ctx.Add(RuleFileErrorKind.BadValue, m.Get("decidedBy")!, path + ".decidedBy", $"'{method}' is not a model; use ideal-gas or real-gas.");
+        ctx.Add(RuleFileErrorKind.BadValue, m.Get("decidedBy")!, path + ".decidedBy", $"'{method}' is not a model; use ideal-gas, peng-robinson, gerg-2008 or real-gas (either real-gas model).");
         return false;
     }
 

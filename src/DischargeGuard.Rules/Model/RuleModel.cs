@@ -130,7 +130,7 @@ public sealed record AppliesTo
     /// present: air, oxygen-depleted air, oxygen-bearing process gases).
     /// </summary>
     public double? OxygenPartialPressureAbovePascals { get; init; }
-    /// <summary>The models whose answer the rule applies to ("ideal-gas", "real-gas"); empty means any.</summary>
+    /// <summary>The models whose answer the rule applies to ("ideal-gas", "peng-robinson", "gerg-2008", or "real-gas" for either real-gas model); empty means any.</summary>
     public IReadOnlyList<string> DecidedBy { get; init; } = [];
     /// <summary>The phases at the stage's suction the rule applies to; empty means any.</summary>
     public IReadOnlyList<StagePhase> SuctionPhases { get; init; } = [];

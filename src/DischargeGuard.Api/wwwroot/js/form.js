@@ -210,6 +210,7 @@ export function buildRequest(gas) {
     service: $("#service").value || undefined,
     gas,
     outputUnits: $("#output-units").value,
+    method: $("#method") ? $("#method").value || undefined : undefined,
     stages: stageElements().map((stage) => {
       const get = (id) => stage.querySelector(`[data-id="${id}"]`);
       const efficiencyValue = text(get("efficiency"));

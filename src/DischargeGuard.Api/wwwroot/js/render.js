@@ -183,6 +183,8 @@ function measuredPanel(stage) {
   return panel;
 }
 
+const MODEL_WORDS = { "ideal-gas": "ideal gas", "peng-robinson": "real gas (Peng-Robinson)", "gerg-2008": "real gas (GERG-2008)" };
+
 /** The service's ideal-gas and real-gas answers side by side, when it gave both, with Z and the defaulted k_ij pairs. */
 function realGasRows(realGas, properties) {
   if (!realGas) {
@@ -195,7 +197,16 @@ function realGasRows(realGas, properties) {
   }
 
   if (realGas.realGasTemperatures) {
-    rows.push(row("Real-gas (Peng-Robinson) estimate", q(realGas.realGasTemperatures.estimated)));
+    const model = realGas.model === "gerg-2008" ? "GERG-2008" : "Peng-Robinson";
+    rows.push(row(`Real-gas (${model}) estimate`, q(realGas.realGasTemperatures.estimated)));
+  }
+
+  if (realGas.pengRobinson) {
+    rows.push(row("Peng-Robinson estimate (second opinion)", q(realGas.pengRobinson.estimated), { "data-value": "second-opinion" }));
+  }
+
+  if (realGas.methodReason) {
+    rows.push(row("Why this gas model", realGas.methodReason, { "data-value": "method-reason" }));
   }
 
   if (realGas.difference) {
@@ -268,7 +279,7 @@ function stageSection(stage, count) {
       row("Discharge pressure (absolute)", q(stage.discharge.pressureAbsolute)),
       row("Pressure ratio", formatNumber(stage.pressureRatio)),
       row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }),
-      row("Gas model of these temperatures", stage.method === "real-gas" ? "real gas (Peng-Robinson)" : "ideal gas", { "data-value": "method" }),
+      row("Gas model of these temperatures", MODEL_WORDS[stage.method] || stage.method, { "data-value": "method" }),
       ...realGasRows(stage.realGas, stage.properties),
       ...phaseRows(stage.phase))));
   }
