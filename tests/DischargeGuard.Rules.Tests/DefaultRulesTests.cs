@@ -63,7 +63,25 @@ public class DefaultRulesTests
         ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Carbon steel in chlorine: 120 °C warning — survey default (c, low), from memory — verify.
         ["R-CL2-CARBON-STEEL"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel" }, 393.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        // Dry screw 230 °C (446 °F), warning from 215 °C: rotor clearances and coating — from memory — verify ((c) low).
+        ["R-SCREW-DRY"] = new(v => Quiet("screw-dry") with { Estimated = K(v) }, 503.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Dry gas seal secondary seals about 200 °C (392 °F) — from memory — verify ((c) low).
+        ["R-CENTRIFUGAL-SEALS"] = new(v => Quiet("centrifugal") with { Estimated = K(v) }, 473.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Filled PTFE rings applied up to about 200 °C — from memory — verify ((c)).
+        ["R-RING-MAT"] = new(v => Quiet("recip-nonlube") with { Estimated = K(v), RingMaterialId = "ptfe-filled" }, 473.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // API RP 941 (8th ed., 2016), simplified carbon-steel threshold 204 °C (400 °F) — from memory — verify ((c));
+        // pure hydrogen at 30 bar: partial pressure 3 MPa, above the 0.345 MPa (50 psia) applicability.
+        ["R-HTHA-CS"] = new(v => Quiet() with { Estimated = K(v), MoleFractions = Gas(("H2", 1.0)), DischargeMaterial = "carbon-steel" }, 477.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // Oil stability in ammonia or CO2 about 135-150 °C (refrigeration practice, (c) low — from memory — verify);
+        // warning-only rule with a 15 K band: just inside is a note.
+        ["R-OIL-STABILITY-NH3-CO2"] = new(v => Quiet() with { Estimated = K(v), MoleFractions = Gas(("NH3", 1.0)) }, 423.15, LimitDirection.Upper, Severity.Warning, Severity.Info),
     };
+
+    // A composition by species id (wet mole fractions).
+    private static Dictionary<string, double> Gas(params (string Species, double Fraction)[] parts) => parts.ToDictionary(p => p.Species, p => p.Fraction);
+
+    // Sour natural gas: 1 % H2S, at Quiet()'s 30 bar discharge a partial pressure of 30 kPa, far above 0.3 kPa.
+    private static Dictionary<string, double> Sour => Gas(("CH4", 0.99), ("H2S", 0.01));
 
     /// <summary>Facts with the rule's input removed, and the input the result must name.</summary>
     private static readonly Dictionary<string, (StageFacts Facts, string Missing)> MissingCases = new()
@@ -103,6 +121,23 @@ public class DefaultRulesTests
         ["R-SPECIAL-C2H2"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["acetylene"] }, ""),
         ["R-CL2-CARBON-STEEL"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
         ["R-CL2-TITANIUM"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
+        ["R-SOUR-VALVE-MATERIAL"] = (Quiet() with { MoleFractions = Sour }, "valveMaterial"),
+        ["R-SOUR-SEAL-MATERIAL"] = (Quiet() with { MoleFractions = Sour }, "sealMaterial"),
+        ["R-RGD-SEAL"] = (Quiet() with { DischargePressure = Pressure.FromBars(60), MoleFractions = Gas(("CO2", 1.0)) }, "sealMaterial"),
+        ["R-SEAL-EPDM-HYDROCARBON"] = (Quiet() with { DeclaredServiceClasses = ["hydrocarbon"] }, "sealMaterial"),
+        ["R-SEAL-EPDM-OIL"] = (Quiet() with { SealMaterialId = "epdm-sulfur" }, "lubricant"),
+        ["R-SEAL-FKM-AMMONIA-AMINE"] = (Quiet() with { DeclaredServiceClasses = ["amine"] }, "sealMaterial"),
+        ["R-SEAL-NBR-OZONE"] = (Quiet() with { DeclaredServiceClasses = ["ozone"] }, "sealMaterial"),
+        ["R-SCREW-DRY"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
+        ["R-CENTRIFUGAL-SEALS"] = (Quiet() with { CompressorTypeId = null }, "compressorType"),
+        ["R-RING-MAT"] = (Quiet("recip-nonlube"), "ringMaterial"),
+        ["R-HTHA-CS"] = (Quiet() with { MoleFractions = Gas(("H2", 1.0)) }, "dischargeMaterial"),
+        ["R-WET-CO2-CS"] = (Quiet() with { SuctionPhase = StagePhase.Saturated, MoleFractions = Gas(("CH4", 0.9), ("CO2", 0.1)) }, "dischargeMaterial"),
+        ["R-OIL-STABILITY-NH3-CO2"] = (Quiet() with { CompressorTypeId = null, MoleFractions = Gas(("NH3", 1.0)) }, "compressorType"),
+        // Special: C2H2 at 10 % and 30 bar is 300 kPa partial pressure, above 1.5 bar g (251.3 kPa absolute).
+        ["R-C2H2-DECOMPOSITION"] = (Quiet() with { CompressorTypeId = null, MoleFractions = Gas(("N2", 0.9), ("C2H2", 0.1)) }, ""),
+        // Special: pure ethylene at 60 bar, above the 5 MPa decomposition practice.
+        ["R-C2H4-DECOMPOSITION"] = (Quiet() with { CompressorTypeId = null, DischargePressure = Pressure.FromBars(60), MoleFractions = Gas(("C2H4", 1.0)) }, ""),
     };
 
     public static TheoryData<string> BoundaryRules() => new(Cases.Keys.Order(StringComparer.Ordinal));
@@ -128,7 +163,9 @@ public class DefaultRulesTests
     {
         // Guards the tables: a shipped rule added without tests fails here.
         var covered = Cases.Keys.Concat(["R-SCREW-PREDICTION", "R-SETPOINTS", "R-SPECIAL-O2", "R-SPECIAL-CL2", "R-SPECIAL-C2H2", "R-CL2-TITANIUM",
-            "R-O2-LUBRICATED", "R-O2-LUBRICANT", "R-O2-VALVE-MATERIAL", "R-O2-SEAL-MATERIAL", "R-SUCTION-LIQUID", "R-SUCTION-SATURATED", "R-DISCHARGE-PHASE"]).ToHashSet();
+            "R-O2-LUBRICATED", "R-O2-LUBRICANT", "R-O2-VALVE-MATERIAL", "R-O2-SEAL-MATERIAL", "R-SUCTION-LIQUID", "R-SUCTION-SATURATED", "R-DISCHARGE-PHASE",
+            "R-SOUR-VALVE-MATERIAL", "R-SOUR-SEAL-MATERIAL", "R-RGD-SEAL", "R-SEAL-EPDM-HYDROCARBON", "R-SEAL-EPDM-OIL", "R-SEAL-FKM-AMMONIA-AMINE",
+            "R-SEAL-NBR-OZONE", "R-WET-CO2-CS", "R-C2H2-DECOMPOSITION", "R-C2H4-DECOMPOSITION"]).ToHashSet();
         Assert.Equal(covered.Order(), Repo.Defaults.Rules.Select(r => r.Id).Order());
         Assert.Equal(covered.Order(), MissingCases.Keys.Order());
     }

@@ -146,6 +146,8 @@ public class EngineTests
         GasMolarMass = MolarMass.FromGramsPerMole(28.96),
         OxygenMoleFraction = Ratio.FromDecimalFractions(0.209),
         DischargeOxygenPartialPressure = Pressure.FromKilopascals(0.209 * 3000),
+        // Dry air (rounded Gordon 1982 composition, NASA TP-2002-211556 'Air'): no species-based class applies.
+        MoleFractions = new Dictionary<string, double> { ["N2"] = 0.781, ["O2"] = 0.209, ["Ar"] = 0.01 },
         LubricantId = "mineral-vdl",
         ValveMaterialId = "peek",
         SealMaterialId = "fkm",

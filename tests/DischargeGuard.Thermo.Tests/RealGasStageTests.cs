@@ -26,9 +26,17 @@ public sealed class RealGasStageTests(ITestOutputHelper output)
         foreach (var species in Catalog.Species)
         {
             Assert.True(PengRobinsonData.Default.TryGetConstants(species.Id, out var c), species.Id);
-            Assert.Contains("CoolProp/CoolProp@", c.Source, StringComparison.Ordinal);
+            // Cl2 and C2H2 have no reference equation of state in the CoolProp fluid files: their constants cite ChemSep.
+            Assert.Contains(species.Id is "Cl2" or "C2H2" ? "ChemSep pure-component database" : "CoolProp/CoolProp@", c.Source, StringComparison.Ordinal);
             Assert.True(c.CriticalTemperatureKelvin > 0 && c.CriticalPressurePascals > 0, species.Id);
         }
+
+        // ChemSep (Kooijman & Taylor) as carried in OMChemSim Chlorine.mo / Acetylene.mo: Cl2 Tc 417 K, Pc 7.70 MPa,
+        // ω 0.073; C2H2 Tc 308.3 K, Pc 6.114 MPa, ω 0.189.
+        Assert.True(PengRobinsonData.Default.TryGetConstants("Cl2", out var cl2));
+        Assert.Equal((417.0, 7700000.0, 0.073), (cl2.CriticalTemperatureKelvin, cl2.CriticalPressurePascals, cl2.AcentricFactor));
+        Assert.True(PengRobinsonData.Default.TryGetConstants("C2H2", out var c2h2));
+        Assert.Equal((308.3, 6114000.0, 0.189), (c2h2.CriticalTemperatureKelvin, c2h2.CriticalPressurePascals, c2h2.AcentricFactor));
 
         // critical.csv (CoolProp Methane.json, Setzmann & Wagner 1991 EOS): Tc 190.564 K, Pc 4 599 200 Pa, ω 0.01142.
         Assert.True(PengRobinsonData.Default.TryGetConstants("CH4", out var ch4));

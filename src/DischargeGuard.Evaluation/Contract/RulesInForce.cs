@@ -214,6 +214,31 @@ public static class RulesInForce
             parts.Add(u ? "when running unloaded" : "when not running unloaded");
         }
 
+        Add("discharge materials", a.DischargeMaterials);
+        if (a.PartialPressureAbovePascals.Count > 0)
+        {
+            parts.Add("partial pressure at discharge above " + string.Join(" or ", a.PartialPressureAbovePascals
+                .OrderBy(kv => kv.Key, StringComparer.Ordinal)
+                .Select(kv => string.Create(CultureInfo.InvariantCulture, $"{kv.Value / 1000:0.###} kPa {kv.Key}"))));
+        }
+
+        if (a.DischargePressureAbovePascals is { } pd)
+        {
+            parts.Add(string.Create(CultureInfo.InvariantCulture, $"discharge pressure above {pd / 1000:0.###} kPa"));
+        }
+
+        void Flag(bool? value, string yes, string no)
+        {
+            if (value is { } v)
+            {
+                parts.Add(v ? yes : no);
+            }
+        }
+
+        Flag(a.ValveMaterialSourService, "valve material qualified for sour service", "valve material not qualified for sour service");
+        Flag(a.SealMaterialSourService, "seal material suited to H2S", "seal material not suited to H2S");
+        Flag(a.SealMaterialRgdRated, "seal material rated for rapid gas decompression", "seal material not rated for rapid gas decompression");
+
         return new AppliesToDto
         {
             CompressorTypes = List(a.CompressorTypes),

@@ -457,6 +457,8 @@ public sealed class EvaluationPipeline
         Check(equipment.Lubricant, "lubricant", rules.Lubricants.Keys);
         Check(equipment.ValveMaterial, "valveMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Valve).Select(m => m.Key));
         Check(equipment.SealMaterial, "sealMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Seal).Select(m => m.Key));
+        Check(equipment.RingMaterial, "ringMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Ring).Select(m => m.Key));
+        Check(equipment.DischargeMaterial, "dischargeMaterial", DischargeMaterials.All);
 
         void Check(string? id, string field, IEnumerable<string> known)
         {
@@ -562,6 +564,9 @@ public sealed class EvaluationPipeline
             LubricantId = input.Equipment?.Lubricant,
             ValveMaterialId = input.Equipment?.ValveMaterial,
             SealMaterialId = input.Equipment?.SealMaterial,
+            RingMaterialId = input.Equipment?.RingMaterial,
+            DischargeMaterial = input.Equipment?.DischargeMaterial,
+            MoleFractions = StageComposition.Of(s.Gas),
             DeclaredServiceClasses = declared,
             GasMolarMass = s.Gas.MolarMass,
             // One basis for every oxygen class: the dry-basis fraction, whatever the humidity.

@@ -50,7 +50,7 @@ public static class RuleEngine
         ArgumentNullException.ThrowIfNull(stage);
         Validate(rules, stage);
 
-        var detected = ServiceClassDetector.Detect(rules, stage.GasMolarMass, stage.OxygenMoleFraction);
+        var detected = ServiceClassDetector.Detect(rules, stage.GasMolarMass, stage.OxygenMoleFraction, stage.MoleFractions, stage.DischargePressure);
         var classes = detected.Count == 0 ? stage.DeclaredServiceClasses : stage.DeclaredServiceClasses.Union(detected, StringComparer.Ordinal).ToArray();
         var type = stage.CompressorTypeId is null ? null : rules.CompressorTypes[stage.CompressorTypeId];
         var lubricant = stage.LubricantId is null ? null : rules.Lubricants[stage.LubricantId];
@@ -236,6 +236,11 @@ public static class RuleEngine
         Known(rules.Lubricants, stage.LubricantId, "lubricant");
         Known(rules.Materials, stage.ValveMaterialId, "valve material");
         Known(rules.Materials, stage.SealMaterialId, "seal material");
+        Known(rules.Materials, stage.RingMaterialId, "ring material");
+        if (stage.DischargeMaterial is { } dm && !DischargeMaterials.IsKnown(dm))
+        {
+            throw new ArgumentOutOfRangeException(nameof(stage), dm, $"Unknown discharge material '{dm}'; known: {string.Join(", ", DischargeMaterials.All)}.");
+        }
         foreach (var c in stage.DeclaredServiceClasses)
         {
             Known(rules.ServiceClasses, c, "service class");
@@ -256,6 +261,11 @@ public static class RuleEngine
                 if (c.Detection == ServiceDetection.OxygenFractionAbove && s.OxygenMoleFraction is null)
                 {
                     return "oxygenMoleFraction";
+                }
+
+                if (c.Detection is ServiceDetection.SpeciesFractionAbove or ServiceDetection.PartialPressureAbove && s.MoleFractions is null)
+                {
+                    return "gas.composition";
                 }
             }
         }
@@ -307,6 +317,42 @@ public static class RuleEngine
             {
                 return null;
             }
+        }
+
+        if (a.PartialPressureAbovePascals.Count > 0)
+        {
+            if (s.MoleFractions is null)
+            {
+                missing ??= "gas.composition";
+            }
+            else if (!a.PartialPressureAbovePascals.Any(kv => ServiceClassDetector.PartialPressurePascals(s.MoleFractions, kv.Key, s.DischargePressure) > kv.Value))
+            {
+                return null;
+            }
+        }
+
+        if (a.DischargePressureAbovePascals is { } pDischargeThreshold && !(s.DischargePressure.Pascals > pDischargeThreshold))
+        {
+            return null;
+        }
+
+        if (a.DischargeMaterials.Count > 0)
+        {
+            if (s.DischargeMaterial is null)
+            {
+                missing ??= "dischargeMaterial";
+            }
+            else if (!Contains(a.DischargeMaterials, s.DischargeMaterial))
+            {
+                return null;
+            }
+        }
+
+        if (!MaterialFlag(rules, a.ValveMaterialSourService, s.ValveMaterialId, "valveMaterial", "sourService", m => m.SourService, ref missing)
+            || !MaterialFlag(rules, a.SealMaterialSourService, s.SealMaterialId, "sealMaterial", "sourService", m => m.SourService, ref missing)
+            || !MaterialFlag(rules, a.SealMaterialRgdRated, s.SealMaterialId, "sealMaterial", "rgdRated", m => m.RgdRated, ref missing))
+        {
+            return null;
         }
 
         if (a.Lubricated is { } lubricated)
@@ -455,6 +501,30 @@ public static class RuleEngine
         return missing;
     }
 
+    // False when the material's flag is known and differs from the wanted value (the rule does not apply); a missing
+    // material or an unstated flag is recorded in missing and the rule is listed as not checked.
+    private static bool MaterialFlag(EffectiveRuleSet rules, bool? wanted, string? materialId, string input, string field, Func<Material, bool?> flag, ref string? missing)
+    {
+        if (wanted is not { } w)
+        {
+            return true;
+        }
+
+        if (materialId is null)
+        {
+            missing ??= input;
+            return true;
+        }
+
+        if (flag(rules.Materials[materialId]) is not { } actual)
+        {
+            missing ??= $"materials[{materialId}].{field}";
+            return true;
+        }
+
+        return actual == w;
+    }
+
     private static bool Contains(IReadOnlyList<CheckedQuantity> list, CheckedQuantity value)
     {
         for (var i = 0; i < list.Count; i++)
@@ -525,6 +595,7 @@ public static class RuleEngine
             LimitSource.LubricantRatedMaxDischarge or LimitSource.LubricantAutoignition or LimitSource.LubricantFlashPoint => ("lubricants", s.LubricantId),
             LimitSource.ValveMaterialLimit => ("materials", s.ValveMaterialId),
             LimitSource.SealMaterialLimit => ("materials", s.SealMaterialId),
+            LimitSource.RingMaterialLimit => ("materials", s.RingMaterialId),
             _ => ("", null),
         };
         return id is not null && rules.CatalogueLayersByPair.TryGetValue((section, id), out var layer) ? layer : null;
@@ -564,11 +635,21 @@ public static class RuleEngine
                     _ => (lubricant.FlashPoint?.Kelvins, $"lubricants[{lubricant.Id}].flashPoint"),
                 };
                 break;
-            case LimitSource.ValveMaterialLimit or LimitSource.SealMaterialLimit:
-                var id = limit.Source == LimitSource.ValveMaterialLimit ? s.ValveMaterialId : s.SealMaterialId;
+            case LimitSource.ValveMaterialLimit or LimitSource.SealMaterialLimit or LimitSource.RingMaterialLimit:
+                var id = limit.Source switch
+                {
+                    LimitSource.ValveMaterialLimit => s.ValveMaterialId,
+                    LimitSource.SealMaterialLimit => s.SealMaterialId,
+                    _ => s.RingMaterialId,
+                };
                 if (id is null)
                 {
-                    missing = limit.Source == LimitSource.ValveMaterialLimit ? "valveMaterial" : "sealMaterial";
+                    missing = limit.Source switch
+                    {
+                        LimitSource.ValveMaterialLimit => "valveMaterial",
+                        LimitSource.SealMaterialLimit => "sealMaterial",
+                        _ => "ringMaterial",
+                    };
                     return LimitOutcome.Missing;
                 }
 
@@ -621,12 +702,12 @@ public static class RuleEngine
 
         if (rule.Quantities.Count == 1 && rule.Quantities[0] == CheckedQuantity.Combination)
         {
-            // An info note on a condition (its appliesTo already holds).
+            // An info note or a warning caution on a condition (its appliesTo already holds).
             return new Finding
             {
                 RuleId = rule.Id,
                 Title = rule.Title,
-                Severity = Severity.Info,
+                Severity = rule.Severity == Severity.Warning ? Severity.Warning : Severity.Info,
                 RuleSeverity = rule.Severity,
                 Quantity = CheckedQuantity.Combination,
                 Basis = rule.Basis,

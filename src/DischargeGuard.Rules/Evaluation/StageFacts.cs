@@ -22,6 +22,15 @@ public sealed record StageFacts
     public string? ValveMaterialId { get; init; }
     /// <summary>Gas-wetted seal material id.</summary>
     public string? SealMaterialId { get; init; }
+    /// <summary>Ring, rider-band and packing material id (non-lubricated cylinders).</summary>
+    public string? RingMaterialId { get; init; }
+    /// <summary>Discharge-side pressure-part material (carbon-steel, c-0.5mo, 1.25cr-0.5mo, 2.25cr-1mo, stainless).</summary>
+    public string? DischargeMaterial { get; init; }
+    /// <summary>
+    /// The stage's gas composition (wet), mole fractions by species id summing to 1; null when unknown. Species-based
+    /// service classes and partial-pressure applicability read it.
+    /// </summary>
+    public IReadOnlyDictionary<string, double>? MoleFractions { get; init; }
     /// <summary>Service classes the caller declares (chlorine, acetylene, sour, CO2, air, hydrocarbon, …).</summary>
     public IReadOnlyList<string> DeclaredServiceClasses { get; init; } = [];
     /// <summary>Gas molar mass, for hydrogen-rich detection.</summary>

@@ -139,6 +139,13 @@ public static class CanonicalForm
                 WriteNum(w, "oxygenFractionBelow", below.DecimalFractions);
             }
 
+            if (s.Species is { } species)
+            {
+                w.WriteString("species", species);
+                WriteNum(w, "speciesFraction", s.SpeciesFractionThreshold?.DecimalFractions);
+                WriteNum(w, "partialPressurePa", s.PartialPressureThreshold?.Pascals);
+            }
+
             w.WriteString("basis", s.Basis);
             w.WriteEndObject();
         }
@@ -172,6 +179,9 @@ public static class CanonicalForm
             {
                 w.WriteBoolean("oxygenCompatible", o2);
             }
+
+            WriteFlag(w, "sourService", m.SourService);
+            WriteFlag(w, "rgdRated", m.RgdRated);
 
             w.WriteString("basis", m.Basis);
             w.WriteEndObject();
@@ -253,6 +263,30 @@ public static class CanonicalForm
         if (a.SuctionPhases.Count > 0)
         {
             WriteList(w, "suctionPhases", a.SuctionPhases.Order().Select(p => p.ToString()));
+        }
+
+        WriteFlag(w, "valveMaterialSourService", a.ValveMaterialSourService);
+        WriteFlag(w, "sealMaterialSourService", a.SealMaterialSourService);
+        WriteFlag(w, "sealMaterialRgdRated", a.SealMaterialRgdRated);
+        if (a.DischargeMaterials.Count > 0)
+        {
+            WriteList(w, "dischargeMaterials", a.DischargeMaterials.Order(StringComparer.Ordinal));
+        }
+
+        if (a.PartialPressureAbovePascals.Count > 0)
+        {
+            w.WriteStartObject("partialPressureAbovePa");
+            foreach (var kv in a.PartialPressureAbovePascals.OrderBy(kv => kv.Key, StringComparer.Ordinal))
+            {
+                WriteNum(w, kv.Key, kv.Value);
+            }
+
+            w.WriteEndObject();
+        }
+
+        if (a.DischargePressureAbovePascals is { } pd)
+        {
+            WriteNum(w, "dischargePressureAbovePa", pd);
         }
 
         if (a.DischargePhases.Count > 0)

@@ -15,14 +15,15 @@ public static class RuleFileParser
 {
     private static readonly string[] TopKeys = ["schemaVersion", "layer", "serviceClasses", "lubricants", "materials", "compressorTypes", "rules", "overrides"];
     private static readonly string[] LayerKeys = ["kind", "id", "site", "title", "description", "owner"];
-    private static readonly string[] ServiceKeys = ["id", "title", "detection", "threshold", "below", "basis"];
+    private static readonly string[] ServiceKeys = ["id", "title", "detection", "species", "threshold", "below", "basis"];
     private static readonly string[] LubricantKeys = ["id", "title", "baseStock", "class", "flashPoint", "autoignitionTemperature", "ratedMaxDischarge", "basis"];
-    private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "oxygenCompatible", "basis"];
+    private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "oxygenCompatible", "sourService", "rgdRated", "basis"];
     private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound"];
     private static readonly string[] EfficiencyKeys = ["kind", "value", "basis"];
     private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "prohibited", "setPoints", "trend"];
     private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning",
-        "lubricated", "cooled", "valveMaterialOxygenCompatible", "sealMaterialOxygenCompatible", "oxygenPartialPressureAbove", "decidedBy", "suctionPhases", "dischargePhases"];
+        "lubricated", "cooled", "valveMaterialOxygenCompatible", "sealMaterialOxygenCompatible", "oxygenPartialPressureAbove", "decidedBy", "suctionPhases", "dischargePhases",
+        "valveMaterialSourService", "sealMaterialSourService", "sealMaterialRgdRated", "dischargeMaterials", "partialPressureAbove", "dischargePressureAbove"];
     private static readonly string[] CatalogueLimitKeys = ["from", "deratingForPressure", "margin", "plus"];
     private static readonly string[] GreaterOfKeys = ["atLeast", "fractionOfPredicted"];
     private static readonly string[] SetPointKeys = ["alarm", "trip", "minimumStep"];
@@ -254,8 +255,16 @@ public static class RuleFileParser
         var m = ctx.Map(mapNode, path, ServiceKeys);
         var id = Id(ctx, m, path, ids);
         var title = ctx.Text(m, "title", path + ".title", required: true);
-        var detection = ctx.Enum(m, "detection", path + ".detection", ["declared", "molarMassAtMost", "oxygenFractionAbove"], required: true);
+        var detection = ctx.Enum(m, "detection", path + ".detection", ["declared", "molarMassAtMost", "oxygenFractionAbove", "speciesFractionAbove", "partialPressureAbove"], required: true);
         var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        var species = detection is "speciesFractionAbove" or "partialPressureAbove" ? Species(ctx, m, "species", path + ".species", required: true) : null;
+        if (detection is not ("speciesFractionAbove" or "partialPressureAbove") && m.Get("species") is { } misplacedSpecies)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, misplacedSpecies, path + ".species", "Only a speciesFractionAbove or partialPressureAbove class names a species.");
+        }
+
+        Ratio? speciesFraction = null;
+        Pressure? partialPressure = null;
         MolarMass? mm = null;
         Ratio? o2 = null;
         Ratio? below = null;
@@ -277,6 +286,14 @@ public static class RuleFileParser
                 ctx.Add(RuleFileErrorKind.BadValue, m.Get("below")!, path + ".below", "The upper bound must lie above the threshold.");
             }
         }
+        else if (detection == "speciesFractionAbove")
+        {
+            speciesFraction = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.Fraction, required: true) is { } q ? (Ratio)q : null;
+        }
+        else if (detection == "partialPressureAbove")
+        {
+            partialPressure = ctx.Quantity(m, "threshold", path + ".threshold", QuantityKind.PressureDifference, required: true) is Pressure pq ? pq : null;
+        }
         else if (m.Get("threshold") is { } t)
         {
             ctx.Add(RuleFileErrorKind.BadValue, t, path + ".threshold", "A declared service class has no detection threshold.");
@@ -287,8 +304,34 @@ public static class RuleFileParser
             return null;
         }
 
-        var det = detection switch { "molarMassAtMost" => ServiceDetection.MolarMassAtMost, "oxygenFractionAbove" => ServiceDetection.OxygenFractionAbove, _ => ServiceDetection.Declared };
-        return new ServiceClass(id, title, det, mm, o2, basis, below);
+        var det = detection switch
+        {
+            "molarMassAtMost" => ServiceDetection.MolarMassAtMost,
+            "oxygenFractionAbove" => ServiceDetection.OxygenFractionAbove,
+            "speciesFractionAbove" => ServiceDetection.SpeciesFractionAbove,
+            "partialPressureAbove" => ServiceDetection.PartialPressureAbove,
+            _ => ServiceDetection.Declared,
+        };
+        return new ServiceClass(id, title, det, mm, o2, basis, below, species, speciesFraction, partialPressure);
+    }
+
+    // A species id as the gas data names it (its formula id, not an alias), so a rule can never name a gas the
+    // composition cannot hold.
+    private static string? Species(Context ctx, MapView m, string key, string path, bool required)
+    {
+        var text = ctx.Text(m, key, path, required);
+        return text is null ? null : CheckSpecies(ctx, m.Get(key)!, path, text);
+    }
+
+    private static string? CheckSpecies(Context ctx, YamlNode node, string path, string text)
+    {
+        if (Thermo.GasCatalog.Default.TryGetSpecies(text, out var sp) && string.Equals(sp.Id, text, StringComparison.Ordinal))
+        {
+            return text;
+        }
+
+        ctx.Add(RuleFileErrorKind.BadValue, node, path, $"'{text}' is not a species id; use one of: {Thermo.GasCatalog.Default.SupportedSpeciesList}.");
+        return null;
     }
 
     private static Lubricant? ParseLubricant(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
@@ -320,12 +363,20 @@ public static class RuleFileParser
         var m = ctx.Map(mapNode, path, MaterialKeys);
         var id = Id(ctx, m, path, ids);
         var title = ctx.Text(m, "title", path + ".title", required: true);
-        var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal"], required: true);
+        var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal", "ring"], required: true);
         var limit = ctx.Temperature(m, "continuousLimit", path + ".continuousLimit");
         var oxygen = ctx.Bool(m, "oxygenCompatible", path + ".oxygenCompatible");
+        var sour = ctx.Bool(m, "sourService", path + ".sourService");
+        var rgd = ctx.Bool(m, "rgdRated", path + ".rgdRated");
+        if (rgd is not null && use is not "seal")
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, m.Get("rgdRated")!, path + ".rgdRated", "Only a seal elastomer has a rapid-gas-decompression rating.");
+        }
+
         var basis = ctx.Text(m, "basis", path + ".basis", required: true);
+        var materialUse = use switch { "seal" => MaterialUse.Seal, "ring" => MaterialUse.Ring, _ => MaterialUse.Valve };
         return id is null || title is null || use is null || basis is null ? null
-            : new Material(id, title, use == "seal" ? MaterialUse.Seal : MaterialUse.Valve, limit, basis, oxygen);
+            : new Material(id, title, materialUse, limit, basis, oxygen, sour, rgd);
     }
 
     private static CompressorType? ParseType(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
@@ -395,9 +446,10 @@ public static class RuleFileParser
             quantities = [CheckedQuantity.Combination];
         }
         else if (m.Get("quantity") is null && m.Get("limit") is null && m.Get("setPoints") is null
-            && m.Get("severity") is YamlScalarNode { Value: "info" })
+            && m.Get("severity") is YamlScalarNode { Value: "info" or "warning" })
         {
-            // An info note that applies whenever its appliesTo holds (e.g. a saturated suction): no number either.
+            // An info note or a warning caution that applies whenever its appliesTo holds (a saturated suction; wet CO2
+            // on carbon steel): no number either. Unlike a prohibited rule, a layer may disable a caution with a reason.
             quantities = [CheckedQuantity.Combination];
         }
         else
@@ -467,7 +519,8 @@ public static class RuleFileParser
             ctx.Add(RuleFileErrorKind.BadValue, m.Get("severity")!, path + ".severity", "A prohibited rule is a violation rule.");
         }
 
-        if (!prohibited && severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
+        var caution = quantities is [CheckedQuantity.Combination] && !prohibited;
+        if (!prohibited && !caution && severityText is not null && limit is null && !signed && setPoints is null && severity != Severity.Info)
         {
             ctx.Add(RuleFileErrorKind.MissingKey, m.Key("severity") ?? mapNode, path + ".limit", "A warning or violation rule needs a limit (or requiresSignedLimit: true).");
         }
@@ -560,6 +613,12 @@ public static class RuleFileParser
             ValveMaterialOxygenCompatible = ctx.Bool(m, "valveMaterialOxygenCompatible", path + ".valveMaterialOxygenCompatible"),
             SealMaterialOxygenCompatible = ctx.Bool(m, "sealMaterialOxygenCompatible", path + ".sealMaterialOxygenCompatible"),
             OxygenPartialPressureAbovePascals = ctx.Quantity(m, "oxygenPartialPressureAbove", path + ".oxygenPartialPressureAbove", QuantityKind.PressureDifference) is Pressure po2 ? po2.Pascals : null,
+            ValveMaterialSourService = ctx.Bool(m, "valveMaterialSourService", path + ".valveMaterialSourService"),
+            SealMaterialSourService = ctx.Bool(m, "sealMaterialSourService", path + ".sealMaterialSourService"),
+            SealMaterialRgdRated = ctx.Bool(m, "sealMaterialRgdRated", path + ".sealMaterialRgdRated"),
+            DischargeMaterials = Texts(ctx.TextList(m, "dischargeMaterials", path + ".dischargeMaterials")).Where(t => CheckDischargeMaterial(ctx, m, path, t)).ToArray(),
+            PartialPressureAbovePascals = PartialPressures(ctx, m, path),
+            DischargePressureAbovePascals = ctx.Quantity(m, "dischargePressureAbove", path + ".dischargePressureAbove", QuantityKind.PressureDifference) is Pressure pd ? pd.Pascals : null,
             DecidedBy = Texts(ctx.TextList(m, "decidedBy", path + ".decidedBy")).Where(t => CheckMethod(ctx, m, path, t)).ToArray(),
             SuctionPhases = Phases(ctx, m, "suctionPhases", path),
             DischargePhases = Phases(ctx, m, "dischargePhases", path),
@@ -567,6 +626,51 @@ public static class RuleFileParser
     }
 
     private static string[] Texts(List<(string Text, YamlNode Node)>? list) => list?.Select(x => x.Text).ToArray() ?? [];
+
+    private static bool CheckDischargeMaterial(Context ctx, MapView m, string path, string material)
+    {
+        if (DischargeMaterials.IsKnown(material))
+        {
+            return true;
+        }
+
+        ctx.Add(RuleFileErrorKind.BadValue, m.Get("dischargeMaterials")!, path + ".dischargeMaterials", $"'{material}' is not a discharge material; use {string.Join(", ", DischargeMaterials.All)}.");
+        return false;
+    }
+
+    // partialPressureAbove: {H2: 0.345 MPa, CO2: 5 MPa} — species id → absolute partial pressure at discharge.
+    private static Dictionary<string, double> PartialPressures(Context ctx, MapView m, string path)
+    {
+        var result = new Dictionary<string, double>(StringComparer.Ordinal);
+        var key = path + ".partialPressureAbove";
+        if (ctx.Mapping(m, "partialPressureAbove", key) is not { } node)
+        {
+            return result;
+        }
+
+        var names = node.Children.Keys.OfType<YamlScalarNode>().Select(k => k.Value ?? string.Empty).ToArray();
+        var view = ctx.Map(node, key, names);
+        foreach (var name in names)
+        {
+            var keyNode = node.Children.Keys.OfType<YamlScalarNode>().First(k => k.Value == name);
+            if (CheckSpecies(ctx, keyNode, key, name) is null)
+            {
+                continue;
+            }
+
+            if (ctx.Quantity(view, name, key + "." + name, QuantityKind.PressureDifference, required: true) is Pressure p)
+            {
+                result[name] = p.Pascals;
+            }
+        }
+
+        if (names.Length == 0)
+        {
+            ctx.Add(RuleFileErrorKind.BadValue, node, key, "Name at least one species and its partial pressure.");
+        }
+
+        return result;
+    }
 
     private static bool CheckMethod(Context ctx, MapView m, string path, string method)
     {
@@ -674,7 +778,7 @@ public static class RuleFileParser
 
         var m = ctx.Map(mapNode, path, CatalogueLimitKeys);
         var from = ctx.Enum(m, "from", path + ".from",
-            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint"], required: true);
+            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "ringMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint"], required: true);
         double Delta(string key) => ctx.Quantity(m, key, path + "." + key, QuantityKind.TemperatureDifference) is TemperatureDelta d ? d.Kelvins : 0;
         var derating = Delta("deratingForPressure");
         var margin = Delta("margin");
@@ -690,6 +794,7 @@ public static class RuleFileParser
             "lubricant.autoignitionTemperature" => LimitSource.LubricantAutoignition,
             "lubricant.flashPoint" => LimitSource.LubricantFlashPoint,
             "valveMaterial.continuousLimit" => LimitSource.ValveMaterialLimit,
+            "ringMaterial.continuousLimit" => LimitSource.RingMaterialLimit,
             "sealMaterial.continuousLimit" => LimitSource.SealMaterialLimit,
             "input.suctionTemperature" => LimitSource.InputSuctionTemperature,
             "input.dischargeWaterDewPoint" => LimitSource.InputDischargeWaterDewPoint,

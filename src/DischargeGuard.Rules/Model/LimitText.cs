@@ -82,6 +82,7 @@ public static class LimitText
             LimitSource.LubricantFlashPoint => "lubricant.flashPoint",
             LimitSource.ValveMaterialLimit => "valveMaterial.continuousLimit",
             LimitSource.SealMaterialLimit => "sealMaterial.continuousLimit",
+            LimitSource.RingMaterialLimit => "ringMaterial.continuousLimit",
             LimitSource.InputSuctionTemperature => "input.suctionTemperature",
             LimitSource.InputDischargeWaterDewPoint => "input.dischargeWaterDewPoint",
             _ => l.Source.ToString(),

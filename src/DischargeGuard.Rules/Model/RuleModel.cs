@@ -32,9 +32,11 @@ public enum MaterialUse
     Valve,
     /// <summary>Gas-wetted seal elastomers (O-rings).</summary>
     Seal,
+    /// <summary>Piston rings, rider bands and packing rings of non-lubricated cylinders.</summary>
+    Ring,
 }
 
-/// <summary>A valve or seal material in the catalogue.</summary>
+/// <summary>A valve, seal or ring material in the catalogue.</summary>
 /// <param name="Id">Stable id.</param>
 /// <param name="Title">Human title.</param>
 /// <param name="Use">Valve or seal.</param>
@@ -44,7 +46,13 @@ public enum MaterialUse
 /// Whether the material is suited to oxygen-rich service; null when the catalogue does not say (a rule that needs it
 /// then lists the material as not checked).
 /// </param>
-public sealed record Material(string Id, string Title, MaterialUse Use, Temperature? ContinuousLimit, string Basis, bool? OxygenCompatible = null);
+/// <param name="SourService">
+/// Whether the material is qualified for sour (H2S) service (NACE MR0175 / ISO 15156 for metals, an H2S-resistant
+/// compound for elastomers); null when the catalogue does not say.
+/// </param>
+/// <param name="RgdRated">Whether an elastomer grade is rated for rapid gas decompression; null when the catalogue does not say.</param>
+public sealed record Material(string Id, string Title, MaterialUse Use, Temperature? ContinuousLimit, string Basis, bool? OxygenCompatible = null,
+    bool? SourService = null, bool? RgdRated = null);
 
 /// <summary>How a default efficiency is defined.</summary>
 public enum EfficiencyKind
@@ -80,6 +88,10 @@ public enum ServiceDetection
     /// Detected when the dry-basis O2 mole fraction is above a threshold (and, when an upper bound is given, below it).
     /// </summary>
     OxygenFractionAbove,
+    /// <summary>Detected when the dry-basis mole fraction of a named species is above a threshold.</summary>
+    SpeciesFractionAbove,
+    /// <summary>Detected when the partial pressure of a named species at discharge (wet gas, absolute) is above a threshold.</summary>
+    PartialPressureAbove,
 }
 
 /// <summary>A service class in the catalogue.</summary>
@@ -90,8 +102,12 @@ public enum ServiceDetection
 /// <param name="OxygenFractionThreshold">Threshold for <see cref="ServiceDetection.OxygenFractionAbove"/> (dry basis, exclusive).</param>
 /// <param name="Basis">Where the threshold comes from.</param>
 /// <param name="OxygenFractionBelow">Optional exclusive upper bound of the dry-basis O2 mole fraction (oxygen-depleted gases).</param>
+/// <param name="Species">The species id (formula) for <see cref="ServiceDetection.SpeciesFractionAbove"/> and <see cref="ServiceDetection.PartialPressureAbove"/>.</param>
+/// <param name="SpeciesFractionThreshold">Threshold for <see cref="ServiceDetection.SpeciesFractionAbove"/> (dry basis, exclusive).</param>
+/// <param name="PartialPressureThreshold">Threshold for <see cref="ServiceDetection.PartialPressureAbove"/> (absolute, exclusive).</param>
 public sealed record ServiceClass(string Id, string Title, ServiceDetection Detection, MolarMass? MolarMassThreshold,
-    Ratio? OxygenFractionThreshold, string Basis, Ratio? OxygenFractionBelow = null);
+    Ratio? OxygenFractionThreshold, string Basis, Ratio? OxygenFractionBelow = null, string? Species = null,
+    Ratio? SpeciesFractionThreshold = null, Pressure? PartialPressureThreshold = null);
 
 /// <summary>What a rule applies to. Empty lists mean "any". All criteria must hold.</summary>
 public sealed record AppliesTo
@@ -125,6 +141,21 @@ public sealed record AppliesTo
     public bool? ValveMaterialOxygenCompatible { get; init; }
     /// <summary>When set, the rule applies only when the seal material's oxygen compatibility has this value.</summary>
     public bool? SealMaterialOxygenCompatible { get; init; }
+    /// <summary>When set, the rule applies only when the valve material's sour-service qualification has this value.</summary>
+    public bool? ValveMaterialSourService { get; init; }
+    /// <summary>When set, the rule applies only when the seal material's sour-service qualification has this value.</summary>
+    public bool? SealMaterialSourService { get; init; }
+    /// <summary>When set, the rule applies only when the seal material's rapid-gas-decompression rating has this value.</summary>
+    public bool? SealMaterialRgdRated { get; init; }
+    /// <summary>Discharge-side pressure-part materials (any of): carbon-steel, c-0.5mo, 1.25cr-0.5mo, 2.25cr-1mo, stainless.</summary>
+    public IReadOnlyList<string> DischargeMaterials { get; init; } = [];
+    /// <summary>
+    /// Species id → partial pressure at discharge (wet gas, absolute), Pa: the rule applies when any listed species is
+    /// above its threshold. Empty means any.
+    /// </summary>
+    public IReadOnlyDictionary<string, double> PartialPressureAbovePascals { get; init; } = new Dictionary<string, double>();
+    /// <summary>When set, the rule applies only when the discharge pressure (absolute) is above this value, Pa.</summary>
+    public double? DischargePressureAbovePascals { get; init; }
     /// <summary>
     /// When set, the rule applies only when the O2 partial pressure at discharge is above this value, Pa (an oxidant is
     /// present: air, oxygen-depleted air, oxygen-bearing process gases).
@@ -153,6 +184,8 @@ public enum LimitSource
     ValveMaterialLimit,
     /// <summary>sealMaterial.continuousLimit</summary>
     SealMaterialLimit,
+    /// <summary>ringMaterial.continuousLimit (rings, rider bands and packing of non-lubricated cylinders)</summary>
+    RingMaterialLimit,
     /// <summary>input.suctionTemperature</summary>
     InputSuctionTemperature,
     /// <summary>input.dischargeWaterDewPoint</summary>
