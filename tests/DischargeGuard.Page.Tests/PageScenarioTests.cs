@@ -145,7 +145,8 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
         Assert.Contains("real gas (GERG-2008)", await page.At("tr[data-value='method'] td").InnerTextAsync(), StringComparison.Ordinal);
         var text = await page.At(".stage-result").InnerTextAsync();
         Assert.Contains("Ideal-gas estimate", text, StringComparison.Ordinal);
-        Assert.Contains("Real-gas (Peng-Robinson) estimate", text, StringComparison.Ordinal);
+        Assert.Contains("Real-gas (GERG-2008) estimate", text, StringComparison.Ordinal);
+        Assert.Contains("Peng-Robinson estimate (second opinion)", text, StringComparison.Ordinal);
         Assert.Contains("Real minus ideal", text, StringComparison.Ordinal);
 
         // Z as the answer gives it (the page formats, never computes).
