@@ -22,6 +22,9 @@ public class DefaultRulesTests
         ["R-API618-H2"] = new(v => Quiet() with { Isentropic = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 177 °C (350 °F) practical ceiling for packaged field units — common practice, no single source ((b)).
         ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // The stage's own design temperature, here 160 °C as a request would state it (the limit is the input itself;
+        // pressure-equipment codes forbid running a part above its design temperature, (a)); warning band 10 K (b).
+        ["R-DESIGN-TEMP"] = new(v => Quiet() with { Estimated = K(v), DesignTemperature = C(160) }, 433.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 350 °F = 176.67 °C: Bloch & Hoefner (1996) p.382 "limit operating temperature to 350 °F" ((a)); the file rounds to 177 °C.
         ["R-AIR-RECIP"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["air"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // DIN 51506 VB/VBL 140 °C (284 °F) — from memory — verify ((c) med).
@@ -72,6 +75,7 @@ public class DefaultRulesTests
         ["R-API618-H2"] = (Quiet() with { CompressorTypeId = null, GasMolarMass = MolarMass.FromGramsPerMole(8) }, "compressorType"),
         ["R-FIELD-HC"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["hydrocarbon"] }, "compressorType"),
         ["R-AIR-RECIP"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["air"] }, "compressorType"),
+        ["R-DESIGN-TEMP"] = (Quiet(), "designTemperature"),
         ["R-LUBE-CLASS"] = (Quiet(), "lubricant"),
         ["R-AIT"] = (Air(), "lubricant"),
         ["R-FLASH-SOFT"] = (Air(), "lubricant"),
@@ -177,6 +181,26 @@ public class DefaultRulesTests
         Assert.DoesNotContain(result.Findings, f => f.RuleId == ruleId);
         var nc = Assert.Single(result.NotChecked, n => n.RuleId == ruleId);
         Assert.Contains(missing, nc.MissingInputs);
+    }
+
+    [Fact]
+    public void DesignTemperature_WhenNotStated_IsListedButDoesNotHoldTheVerdictAtReview()
+    {
+        // Policy (common practice, no single source): an optional input of the stage itself; the shipped limits on the
+        // same temperature still apply, so its absence is listed, not escalated by ENGINE-UNCHECKED-LIMITS.
+        var result = Evaluate(Quiet() with { LubricantId = "mineral-vdl", ValveMaterialId = "peek", SealMaterialId = "fkm", GasMolarMass = MolarMass.FromGramsPerMole(16), OxygenMoleFraction = Ratio.Zero, DischargeOxygenPartialPressure = Pressure.Zero });
+        var nc = Assert.Single(result.NotChecked, n => n.RuleId == "R-DESIGN-TEMP");
+        Assert.Equal(NotCheckedReason.OptionalInput, nc.Why);
+        Assert.DoesNotContain(result.Findings, f => f.RuleId == RuleEngine.UncheckedLimitsRuleId && f.Note!.Contains("R-DESIGN-TEMP", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void DesignTemperature_WhenLowest_GovernsTheStage()
+    {
+        // 120 °C design temperature under PEEK's 204 °C (Bloch & Hoefner p.148) and the oil's limits: it governs.
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Estimated = C(125), DesignTemperature = C(120), ValveMaterialId = "peek" });
+        Assert.Equal("R-DESIGN-TEMP", result.Governing!.RuleId);
+        Assert.Equal(Verdict.Fail, result.Verdict);
     }
 
     [Fact]

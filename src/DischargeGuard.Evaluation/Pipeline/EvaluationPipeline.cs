@@ -584,6 +584,7 @@ public sealed partial class EvaluationPipeline
             NormalOperatingDischarge = Optional(input.Operation?.NormalDischargeTemperature, path + ".operation.normalDischargeTemperature"),
             JacketCoolantInlet = Optional(input.Operation?.CoolantInletTemperature, path + ".operation.coolantInletTemperature"),
             UnloadedRunning = input.Operation?.UnloadedRunning,
+            DesignTemperature = Optional(input.Equipment?.DesignTemperature, path + ".equipment.designTemperature"),
             DischargeWaterDewPoint = DischargeDewPoint(s, index, humidityField),
         };
     }

@@ -80,6 +80,11 @@ public sealed record StageFacts
     /// |estimated T2 (Peng-Robinson) − estimated T2 (ideal gas)|; null when the real-gas result is not available.
     /// </summary>
     public TemperatureDelta? RealGasCorrection { get; init; }
+    /// <summary>
+    /// The lowest maximum allowable working temperature on the stage's discharge side (cylinder or casing, pulsation
+    /// bottles, piping, cooler, relief system); null when the request did not state it.
+    /// </summary>
+    public Temperature? DesignTemperature { get; init; }
     /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
     public Temperature? DischargeWaterDewPoint { get; init; }
 

@@ -674,7 +674,7 @@ public static class RuleFileParser
 
         var m = ctx.Map(mapNode, path, CatalogueLimitKeys);
         var from = ctx.Enum(m, "from", path + ".from",
-            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint"], required: true);
+            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint", "input.designTemperature"], required: true);
         double Delta(string key) => ctx.Quantity(m, key, path + "." + key, QuantityKind.TemperatureDifference) is TemperatureDelta d ? d.Kelvins : 0;
         var derating = Delta("deratingForPressure");
         var margin = Delta("margin");
@@ -693,6 +693,7 @@ public static class RuleFileParser
             "sealMaterial.continuousLimit" => LimitSource.SealMaterialLimit,
             "input.suctionTemperature" => LimitSource.InputSuctionTemperature,
             "input.dischargeWaterDewPoint" => LimitSource.InputDischargeWaterDewPoint,
+            "input.designTemperature" => LimitSource.InputDesignTemperature,
             _ => (LimitSource?)null,
         };
         return source is null ? null : new RuleLimit(source.Value, null, derating, margin, plus);

@@ -84,6 +84,7 @@ public static class LimitText
             LimitSource.SealMaterialLimit => "sealMaterial.continuousLimit",
             LimitSource.InputSuctionTemperature => "input.suctionTemperature",
             LimitSource.InputDischargeWaterDewPoint => "input.dischargeWaterDewPoint",
+            LimitSource.InputDesignTemperature => "input.designTemperature",
             _ => l.Source.ToString(),
         };
         if (l.DeratingForPressureKelvin != 0)

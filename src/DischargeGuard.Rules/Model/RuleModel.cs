@@ -157,6 +157,8 @@ public enum LimitSource
     InputSuctionTemperature,
     /// <summary>input.dischargeWaterDewPoint</summary>
     InputDischargeWaterDewPoint,
+    /// <summary>input.designTemperature: the lowest maximum allowable working temperature on the stage's discharge side.</summary>
+    InputDesignTemperature,
     /// <summary>max(atLeast, fraction × estimated absolute temperature) — the deviation rule.</summary>
     GreaterOfFixedAndFractionOfPredicted,
 }
