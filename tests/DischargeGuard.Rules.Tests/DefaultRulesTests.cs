@@ -17,9 +17,9 @@ public class DefaultRulesTests
     private static readonly Dictionary<string, Boundary> Cases = new()
     {
         // 150 °C (300 °F): API 618 5th ed. predicted discharge limit — from memory — verify (shared domain survey, (c) high).
-        ["R-API618-GEN"] = new(v => Quiet() with { Isentropic = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        ["R-API618-GEN"] = new(v => Quiet() with { IsentropicInternal = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 135 °C (275 °F) for hydrogen-rich (MW <= 12): API 618 5th ed. — from memory — verify ((c) high).
-        ["R-API618-H2"] = new(v => Quiet() with { Isentropic = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        ["R-API618-H2"] = new(v => Quiet() with { IsentropicInternal = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 177 °C (350 °F) practical ceiling for packaged field units — common practice, no single source ((b)).
         ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // The stage's own design temperature, here 160 °C as a request would state it (the limit is the input itself;
@@ -63,7 +63,7 @@ public class DefaultRulesTests
         // Unloaded running and discharge > 100 °C (212 °F): API 618-2007 §5.7.2 as restated ((a)).
         ["R-COOLING-UNLOADED"] = new(v => Quiet() with { Estimated = K(v), UnloadedRunning = true }, 373.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Unloaded running and adiabatic rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so isentropic = 303.15 K + rise.
-        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), IsentropicInternal = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Carbon steel in chlorine: 120 °C warning — survey default (c, low), from memory — verify.
         ["R-CL2-CARBON-STEEL"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel" }, 393.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
     };
@@ -119,9 +119,9 @@ public class DefaultRulesTests
     public void TitaniumInChlorine_AtAnyTemperature_IsAViolation()
     {
         // Chlorine Institute Pamphlet 1 §8.3.2: titanium reacts violently with dry chlorine ((a)); no safe temperature.
-        var cold = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(20) }).Find("R-CL2-TITANIUM");
+        var cold = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(20), IsentropicInternal = C(20) }).Find("R-CL2-TITANIUM");
         Assert.Equal(Severity.Violation, cold.Severity);
-        var other = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel", Isentropic = C(20) });
+        var other = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel", Isentropic = C(20), IsentropicInternal = C(20) });
         Assert.DoesNotContain(other.Findings, f => f.RuleId == "R-CL2-TITANIUM");
         var noChlorine = Evaluate(Quiet() with { ValveMaterialId = "titanium" });
         Assert.DoesNotContain(noChlorine.Findings, f => f.RuleId == "R-CL2-TITANIUM");
@@ -204,6 +204,23 @@ public class DefaultRulesTests
     }
 
     [Fact]
+    public void ProcessStandardLimit_OnAPackagedFieldUnit_DoesNotApply_TheFieldUnitLimitDoes()
+    {
+        // Packaged field units (ISO 13631 scope, (a)) take the 177 °C field-unit practice (b), not API 618's 150 °C (c).
+        var result = Evaluate(Quiet("recip-packaged-lubricated") with { IsentropicInternal = C(160), Estimated = C(170), DeclaredServiceClasses = ["hydrocarbon"] });
+        Assert.DoesNotContain(result.Findings, f => f.RuleId is "R-API618-GEN" or "R-API618-H2");
+        Assert.Equal(Severity.Warning, result.Find("R-FIELD-HC").Severity);
+    }
+
+    [Fact]
+    public void ProcessStandardLimit_WithoutTheInternalTemperature_IsNotCheckedNamingTheAllowance()
+    {
+        // The flange-ratio isentropic temperature alone no longer decides the design check.
+        var result = Evaluate(Quiet() with { Isentropic = C(160) });
+        Assert.Contains("compressorTypes.valveLoss", Assert.Single(result.NotChecked, n => n.RuleId == "R-API618-GEN").MissingInputs);
+    }
+
+    [Fact]
     public void HydrogenRich_WhenMolarMassAtThreshold_IsDetected()
     {
         // Threshold MW <= 12 g/mol: API 618 5th ed. hydrogen-rich service — from memory — verify ((c) high).
@@ -235,7 +252,7 @@ public class DefaultRulesTests
     public void HydrogenRich_WhenDetected_GovernsAt135C()
     {
         // 140 °C predicted: inside 150 °C (R-API618-GEN) but beyond 135 °C (R-API618-H2) — both (c) high, from memory — verify.
-        var result = Evaluate(Quiet() with { Isentropic = C(140), GasMolarMass = MolarMass.FromGramsPerMole(10) });
+        var result = Evaluate(Quiet() with { Isentropic = C(140), IsentropicInternal = C(140), GasMolarMass = MolarMass.FromGramsPerMole(10) });
         Assert.Equal("R-API618-H2", result.Governing!.RuleId);
         AssertEx.Close(-5.0, result.Governing.Margin!.Value.SiValue, 1e-9, "margin");
         Assert.Contains("hydrogen-rich", result.DetectedServiceClasses);
@@ -279,7 +296,7 @@ public class DefaultRulesTests
     [InlineData(190.0)]
     public void Deviation_WhenMeasured12KAbovePredicted_IsAWarning(double estimatedKelvin)
     {
-        var f = Evaluate(Quiet() with { Isentropic = K(estimatedKelvin - 5), Estimated = K(estimatedKelvin), SuctionTemperature = K(150), MeasuredDischarge = K(estimatedKelvin + 12) }).Find("R-DEVIATION");
+        var f = Evaluate(Quiet() with { Isentropic = K(estimatedKelvin - 5), IsentropicInternal = K(estimatedKelvin - 5), Estimated = K(estimatedKelvin), SuctionTemperature = K(150), MeasuredDischarge = K(estimatedKelvin + 12) }).Find("R-DEVIATION");
         AssertEx.Close(10.0, f.Limit!.Value.SiValue, 1e-9, "deviation limit");
         Assert.Equal(Severity.Warning, f.Severity);
         Assert.Equal(QuantityDimension.TemperatureDifference, f.Value!.Value.Dimension);
@@ -289,7 +306,7 @@ public class DefaultRulesTests
     public void OilFloodedScrew_WhenMeasuredMissing_SaysPredictionIsUpperBoundAndNotChecked()
     {
         // The adiabatic prediction (200 °C here) would fail every temperature rule; for oil-flooded screws it is only an upper bound.
-        var result = Evaluate(Quiet("screw-oil-flooded") with { EstimatedUpperBound = C(200), Estimated = C(200), Isentropic = C(200), LubricantId = "pao-dab" });
+        var result = Evaluate(Quiet("screw-oil-flooded") with { EstimatedUpperBound = C(200), Estimated = C(200), Isentropic = C(200), IsentropicInternal = C(200), LubricantId = "pao-dab" });
         Assert.Equal(Severity.Info, result.Find("R-SCREW-PREDICTION").Severity);
         Assert.Contains(result.NotChecked, n => n.RuleId == "R-SCREW-FLOODED" && n.MissingInputs.Contains("measuredDischargeTemperature"));
         Assert.DoesNotContain(result.Findings, f => f.Severity == Severity.Violation);

@@ -254,7 +254,27 @@ public sealed record CalibrationDto(
 /// <param name="EstimatedUpperBound">The estimate at the lower efficiency bound.</param>
 /// <param name="EstimatedLowerBound">The estimate at the upper efficiency bound.</param>
 /// <param name="ConstantK">The constant-k estimate beside it.</param>
-public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK);
+public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK)
+{
+    /// <summary>
+    /// The η = 1 prediction on the internal cylinder ratio (flange pressures widened by the compressor type's valve-loss
+    /// allowance), what the process-compressor design check compares; null when the type has no allowance.
+    /// </summary>
+    public QuantityDto? IsentropicInternal { get; init; }
+
+    /// <summary>How the estimate was made for an oil-flooded machine (energy balance with the injected oil); null otherwise.</summary>
+    public FloodedDto? Flooded { get; init; }
+}
+
+/// <summary>The energy balance of an oil-flooded stage: shaft work heats gas and oil, which leave at one temperature.</summary>
+/// <param name="OilToGasMassRatio">Oil mass flow over gas mass flow.</param>
+/// <param name="OilInletTemperature">Oil temperature at injection.</param>
+/// <param name="OilSpecificHeat">Oil specific heat used, kJ/(kg·K) (or Btu/(lb·°F) in imperial: same number ×0.2388).</param>
+/// <param name="SpecificShaftWork">Shaft work per unit gas mass.</param>
+/// <param name="AdiabaticWithoutOil">The gas-only adiabatic estimate at the same efficiency (an upper bound).</param>
+/// <param name="Source">request (oilInjection given) or rule-default (the compressor type's package defaults).</param>
+/// <param name="Basis">Where the oil figures and the efficiency come from.</param>
+public sealed record FloodedDto(double OilToGasMassRatio, QuantityDto OilInletTemperature, double OilSpecificHeat, QuantityDto SpecificShaftWork, QuantityDto AdiabaticWithoutOil, string Source, string Basis);
 
 /// <summary>The constant-k estimate (k at suction temperature).</summary>
 /// <param name="K">The k used.</param>

@@ -163,10 +163,12 @@ public sealed partial class EvaluationPipeline
             }
 
             facts = WithCalibratedEstimate(facts, calibrations[i]);
+            var valveLoss = ValveLossOf(input, effective);
+            facts = WithInternalRatio(facts, s, valveLoss, realGas, conditions);
             var dischargePhase = realGas.Used ? StagePhases.AtDischarge(phaseModel, s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
             facts = facts with { DischargePhase = dischargePhase };
             var envelopeGas = realGas.Used ? realGas.Mixture : null;
-            var ruled = RuleEngine.EvaluateStage(effective, facts, EnvelopeWithCalibration(new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas), calibrations[i], conditions));
+            var ruled = RuleEngine.EvaluateStage(effective, facts, EnvelopeWithCalibration(new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), calibrations[i], conditions));
             if (i == 0)
             {
                 serviceClasses = ruled.ServiceClasses;
@@ -179,6 +181,7 @@ public sealed partial class EvaluationPipeline
             var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output, envelopeGas) : null, LimitsOf(s, conditions, ruled, output, envelopeGas));
             stage = WithRealGas(stage, s, realGas, output);
             stage = WithCalibration(stage, calibrations[i], facts, conditions, ruled.Findings, output);
+            stage = WithInternalRatio(stage, facts, output);
             stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;
             anyReal |= realGas.Used;

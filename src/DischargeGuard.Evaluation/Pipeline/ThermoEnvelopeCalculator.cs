@@ -11,7 +11,11 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// held fixed.
 /// </summary>
 /// <remarks>With a real-gas mixture (the stage's temperatures came from Peng-Robinson) the real-gas envelope solver is used.</remarks>
-internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions, RealGasMixture? realGas = null) : IEnvelopeCalculator
+/// <remarks>
+/// For the isentropic temperature on the internal ratio, the solver runs on the internal pressures p1·(1 − a) and
+/// p2·(1 + a) (a: the valve-loss allowance per valve) and the discharge pressure found is taken back to the flange.
+/// </remarks>
+internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions conditions, RealGasMixture? realGas = null, double valveLossPerValve = double.NaN) : IEnvelopeCalculator
 {
     private const string NotComputable = "The governing rule checks a quantity the envelope solver cannot move (a measured value, or a limit on something other than the predicted temperature or ratio).";
 
@@ -23,9 +27,18 @@ internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions c
                 new(EnvelopeBoundStatus.NotComputableForQuantity, null, "A pressure-ratio limit does not depend on the suction temperature."));
         }
 
+        var internalRatio = quantity == CheckedQuantity.IsentropicInternal && double.IsFinite(valveLossPerValve);
+        var c = internalRatio
+            ? conditions with
+            {
+                SuctionPressure = Pressure.FromPascals(conditions.SuctionPressure.Pascals * (1 - valveLossPerValve)),
+                DischargePressure = Pressure.FromPascals(conditions.DischargePressure.Pascals * (1 + valveLossPerValve)),
+            }
+            : conditions;
         TemperatureQuantity? q = quantity switch
         {
             CheckedQuantity.Isentropic => TemperatureQuantity.Isentropic,
+            CheckedQuantity.IsentropicInternal when internalRatio => TemperatureQuantity.Isentropic,
             CheckedQuantity.Estimated => TemperatureQuantity.Estimated,
             CheckedQuantity.EstimatedUpperBound => TemperatureQuantity.EstimatedUpperBound,
             _ => null,
@@ -35,11 +48,16 @@ internal sealed class ThermoEnvelopeCalculator(GasMixture gas, StageConditions c
             return (new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable), new(EnvelopeBoundStatus.NotComputableForQuantity, null, NotComputable));
         }
 
-        var p = realGas is null ? EnvelopeSolver.MaxDischargePressure(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxDischargePressure(realGas, conditions, q.Value, t);
+        var p = realGas is null ? EnvelopeSolver.MaxDischargePressure(gas, c, q.Value, t) : RealGasEnvelopeSolver.MaxDischargePressure(realGas, c, q.Value, t);
+        if (internalRatio && p.Value is { } internalP2)
+        {
+            p = p with { Value = Pressure.FromPascals(internalP2.Pascals / (1 + valveLossPerValve)) };
+        }
+
         // A humid gas keeps its relative humidity, not its water fraction, as the suction temperature moves.
         var s = gas.WaterMoleFraction > 0
-            ? HumidEnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t, realGas is not null)
-            : realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, conditions, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, conditions, q.Value, t);
+            ? HumidEnvelopeSolver.MaxSuctionTemperature(gas, c, q.Value, t, realGas is not null)
+            : realGas is null ? EnvelopeSolver.MaxSuctionTemperature(gas, c, q.Value, t) : RealGasEnvelopeSolver.MaxSuctionTemperature(realGas, c, q.Value, t);
         return (new(Map(p.Status), p.Value, p.Note), new(Map(s.Status), s.Value, s.Note));
     }
 

@@ -184,7 +184,7 @@ public static class RuleEngine
 
     private static EnvelopeEstimate Envelope(IEnvelopeCalculator calculator, StageFacts stage, Finding governing)
     {
-        if (governing.Quantity is CheckedQuantity.Isentropic or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.PressureRatio)
+        if (governing.Quantity is CheckedQuantity.Isentropic or CheckedQuantity.IsentropicInternal or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.PressureRatio)
         {
             var (p, t) = calculator.Compute(stage, governing.Quantity, governing.Limit!.Value);
             return new EnvelopeEstimate(governing.RuleId, governing.Quantity, governing.Limit.Value, p, t);
@@ -500,6 +500,7 @@ public static class RuleEngine
         CheckedQuantity.MeasuredMinusPredictedRise when s.MeasuredDischarge is null => (null, "measuredDischargeTemperature"),
         CheckedQuantity.MeasuredMinusPredictedRise => (DeviationTrend.Rise(s, rule.Trend!), DeviationTrend.MissingHistory(rule.Trend!)),
         CheckedQuantity.Isentropic => (s.Isentropic.Kelvins, null),
+        CheckedQuantity.IsentropicInternal => (s.IsentropicInternal?.Kelvins, "compressorTypes.valveLoss"),
         CheckedQuantity.Estimated => (s.Estimated.Kelvins, null),
         CheckedQuantity.EstimatedUpperBound => (s.EstimatedUpperBound.Kelvins, null),
         CheckedQuantity.Measured => (s.MeasuredDischarge?.Kelvins, "measuredDischargeTemperature"),

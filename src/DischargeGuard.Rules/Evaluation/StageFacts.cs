@@ -57,6 +57,11 @@ public sealed record StageFacts
     public required Pressure DischargePressure { get; init; }
     /// <summary>Ideal (η = 1) discharge temperature.</summary>
     public required Temperature Isentropic { get; init; }
+    /// <summary>
+    /// Ideal (η = 1) discharge temperature on the internal cylinder ratio (flange ratio with the compressor type's
+    /// valve-loss allowance); null when the type has no allowance.
+    /// </summary>
+    public Temperature? IsentropicInternal { get; init; }
     /// <summary>Discharge temperature with the stage efficiency.</summary>
     public required Temperature Estimated { get; init; }
     /// <summary>Upper bound of the discharge temperature.</summary>
