@@ -165,10 +165,12 @@ public sealed partial class EvaluationPipeline
             facts = WithCalibratedEstimate(facts, calibrations[i]);
             var valveLoss = ValveLossOf(input, effective);
             facts = WithInternalRatio(facts, s, valveLoss, realGas, conditions);
+            var flooded = FloodedOf(input, i, effective, s, efficiencySources[i]);
+            facts = WithFlooded(facts, flooded);
             var dischargePhase = realGas.Used ? StagePhases.AtDischarge(phaseModel, s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
             facts = facts with { DischargePhase = dischargePhase };
             var envelopeGas = realGas.Used ? realGas.Mixture : null;
-            var ruled = RuleEngine.EvaluateStage(effective, facts, EnvelopeWithCalibration(new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), calibrations[i], conditions));
+            var ruled = RuleEngine.EvaluateStage(effective, facts, EnvelopeWithFlooded(EnvelopeWithCalibration(new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), calibrations[i], conditions), flooded));
             if (i == 0)
             {
                 serviceClasses = ruled.ServiceClasses;
@@ -182,6 +184,7 @@ public sealed partial class EvaluationPipeline
             stage = WithRealGas(stage, s, realGas, output);
             stage = WithCalibration(stage, calibrations[i], facts, conditions, ruled.Findings, output);
             stage = WithInternalRatio(stage, facts, output);
+            stage = WithFlooded(stage, flooded, output);
             stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;
             anyReal |= realGas.Used;
