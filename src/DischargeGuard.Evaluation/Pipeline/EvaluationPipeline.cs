@@ -183,7 +183,7 @@ public sealed partial class EvaluationPipeline
             var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output, envelopeGas) : null, LimitsOf(s, conditions, ruled, output, envelopeGas));
             stage = WithRealGas(stage, s, realGas, output);
             stage = WithCalibration(stage, calibrations[i], facts, conditions, ruled.Findings, output);
-            stage = WithInternalRatio(stage, facts, output);
+            stage = WithInternalRatio(stage, facts, ruled.Findings, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), output);
             stage = WithFlooded(stage, flooded, output);
             stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;

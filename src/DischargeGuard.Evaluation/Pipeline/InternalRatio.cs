@@ -45,8 +45,38 @@ public sealed partial class EvaluationPipeline
         }
     }
 
-    private static StageDto WithInternalRatio(StageDto stage, StageFacts facts, OutputUnitSystem u) =>
-        facts.IsentropicInternal is { } t && stage.DischargeTemperature is { } temps
-            ? stage with { DischargeTemperature = temps with { IsentropicInternal = u.Temperature(t) } }
-            : stage;
+    private static StageDto WithInternalRatio(StageDto stage, StageFacts facts, IReadOnlyList<Finding> findings, ThermoEnvelopeCalculator envelope, OutputUnitSystem u)
+    {
+        if (facts.IsentropicInternal is not { } t || stage.DischargeTemperature is not { } temps)
+        {
+            return stage;
+        }
+
+        stage = stage with { DischargeTemperature = temps with { IsentropicInternal = u.Temperature(t) } };
+        if (stage.Envelope is not { } e)
+        {
+            return stage;
+        }
+
+        // The by-limit list: each violation limit on the internal-ratio temperature, its flange pressure found on the
+        // internal pressures.
+        var added = new List<LimitEnvelopeDto>();
+        foreach (var f in findings.Where(f => f.Quantity == Rules.Model.CheckedQuantity.IsentropicInternal && f.RuleSeverity == Rules.Model.Severity.Violation
+            && f.Direction == Rules.Model.LimitDirection.Upper && f.Limit?.Temperature is not null))
+        {
+            var (p, _) = envelope.Compute(facts, f.Quantity, f.Limit!.Value);
+            var found = p.Status == EnvelopeBoundStatus.Found && p.Value is not null;
+            added.Add(new LimitEnvelopeDto(f.RuleId, "isentropicInternal", u.Reading(f.Limit.Value),
+                found ? Math.Round(p.Value!.Value.Pascals / facts.SuctionPressure.Pascals, 4) : null,
+                found ? u.PressureAbsolute(p.Value!.Value) : null,
+                p.Status switch
+                {
+                    EnvelopeBoundStatus.Found => "found",
+                    EnvelopeBoundStatus.AlreadyExceeded => "already-exceeded",
+                    _ => "not-reachable-in-range",
+                }));
+        }
+
+        return stage with { Envelope = e with { ByLimit = e.ByLimit.Concat(added).ToArray() } };
+    }
 }
