@@ -16,6 +16,8 @@ public sealed class EvaluationContractTests(ServiceFactory factory) : IClassFixt
         // An asset tag of its own: other tests' evaluations of K-101A would give the trend rule a history.
         var request = Requests.PassingStage();
         request["asset"] = "K-101A-CONTRACT";
+        // Every input, the stage's design temperature included (R-DESIGN-TEMP; 175 °C is an invented rating).
+        request["stages"]![0]!["equipment"]!["designTemperature"] = "175 °C";
         using var response = await factory.EvaluateAsync(request);
         var body = await Json.ReadAsync(response);
 
@@ -123,6 +125,7 @@ public sealed class EvaluationContractTests(ServiceFactory factory) : IClassFixt
         Assert.Contains("R-VALVE-MAT", ruleIds);
         Assert.Contains("R-ELASTOMER", ruleIds);
         Assert.Contains("R-DEVIATION", ruleIds);
+        Assert.Contains("R-DESIGN-TEMP", ruleIds);
         Assert.DoesNotContain(findings, f => f.At("severity").GetString() is "warning" or "violation");
         // Every input is given; only the trend waits for history, which a first evaluation of the asset cannot have.
         var waiting = Assert.Single(stage.At("notChecked").EnumerateArray());

@@ -23,7 +23,7 @@ public class InputErrorTests
                     dischage: {pressure: 8.2 barg}
             """);
         Assert.Equal(64, run.ExitCode);
-        Assert.Contains("typo.yaml:8:9: cases[0].stages[0].dischage: Unknown field 'dischage'. Did you mean 'discharge'? Accepted here: discharge, efficiency,", run.Stderr, StringComparison.Ordinal);
+        Assert.Contains("typo.yaml:8:9: cases[0].stages[0].dischage: Unknown field 'dischage'. Did you mean 'discharge'? Accepted here: calibration, discharge, efficiency,", run.Stderr, StringComparison.Ordinal);
         Assert.Empty(AuditFile.Records(temp.File("audit.db")));
     }
 

@@ -75,6 +75,7 @@ public class SchemaTests
             ["SiteInput"] = "site", ["GasInput"] = "gas", ["FlowInput"] = "flow", ["StageInput"] = "stage", ["SuctionInput"] = "suction",
             ["IntercoolerInput"] = "intercooler", ["DischargeInput"] = "discharge", ["EfficiencyInput"] = "efficiency",
             ["EquipmentInput"] = "equipment", ["OperationInput"] = "operation", ["MeasuredInput"] = "measured",
+            ["CalibrationInput"] = "calibration", ["OilInjectionInput"] = "oilInjection",
         };
         static List<string> Names(JsonElement o) => o.GetProperty("properties").EnumerateObject().Select(p => p.Name).Order(StringComparer.Ordinal).ToList();
         foreach (var (api, def) in pairs)

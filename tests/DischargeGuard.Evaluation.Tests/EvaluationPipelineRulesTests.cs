@@ -56,10 +56,13 @@ public sealed class EvaluationPipelineRulesTests
     }
 
     [Fact]
-    public void Evaluate_WhenTypeHasNoDefaultEfficiency_RefusesAtEfficiency()
+    public void Evaluate_WhenFloodedScrewGivesNoEfficiency_UsesTheTypesDefaultForTheOilBalance()
     {
+        // Formerly refused (the type had no efficiency); the shaft work now comes from the type's default, marked as such.
         var stage = AirStage() with { Efficiency = null, Equipment = new EquipmentInput { CompressorType = "screw-oil-flooded" } };
-        AssertProblem(Refuse(AirRequest(stage)), ProblemKind.InvalidRequest, "invalid-request", "stages[0].efficiency", "'screw-oil-flooded' has no default efficiency");
+        var answer = Evaluate(AirRequest(stage)).Stages[0];
+        Assert.Equal("rule-default", answer.Efficiency.Source);
+        Assert.NotNull(answer.DischargeTemperature!.Flooded);
     }
 
     [Theory]

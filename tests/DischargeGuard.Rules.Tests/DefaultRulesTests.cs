@@ -17,11 +17,14 @@ public class DefaultRulesTests
     private static readonly Dictionary<string, Boundary> Cases = new()
     {
         // 150 °C (300 °F): API 618 5th ed. predicted discharge limit — from memory — verify (shared domain survey, (c) high).
-        ["R-API618-GEN"] = new(v => Quiet() with { Isentropic = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        ["R-API618-GEN"] = new(v => Quiet() with { IsentropicInternal = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 135 °C (275 °F) for hydrogen-rich (MW <= 12): API 618 5th ed. — from memory — verify ((c) high).
-        ["R-API618-H2"] = new(v => Quiet() with { Isentropic = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        ["R-API618-H2"] = new(v => Quiet() with { IsentropicInternal = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 177 °C (350 °F) practical ceiling for packaged field units — common practice, no single source ((b)).
         ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // The stage's own design temperature, here 160 °C as a request would state it (the limit is the input itself;
+        // pressure-equipment codes forbid running a part above its design temperature, (a)); warning band 10 K (b).
+        ["R-DESIGN-TEMP"] = new(v => Quiet() with { Estimated = K(v), DesignTemperature = C(160) }, 433.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 350 °F = 176.67 °C: Bloch & Hoefner (1996) p.382 "limit operating temperature to 350 °F" ((a)); the file rounds to 177 °C.
         ["R-AIR-RECIP"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["air"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // DIN 51506 VB/VBL 140 °C (284 °F) — from memory — verify ((c) med).
@@ -60,7 +63,7 @@ public class DefaultRulesTests
         // Unloaded running and discharge > 100 °C (212 °F): API 618-2007 §5.7.2 as restated ((a)).
         ["R-COOLING-UNLOADED"] = new(v => Quiet() with { Estimated = K(v), UnloadedRunning = true }, 373.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Unloaded running and adiabatic rise >= 85 K (153 °F): same clause ((a)). Suction 30 °C, so isentropic = 303.15 K + rise.
-        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
+        ["R-COOLING-UNLOADED-RISE"] = new(v => Quiet() with { Isentropic = K(303.15 + v), IsentropicInternal = K(303.15 + v), UnloadedRunning = true }, 85.0, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Carbon steel in chlorine: 120 °C warning — survey default (c, low), from memory — verify.
         ["R-CL2-CARBON-STEEL"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel" }, 393.15, LimitDirection.Upper, Severity.Warning, Severity.Pass),
         // Dry screw 230 °C (446 °F), warning from 215 °C: rotor clearances and coating — from memory — verify ((c) low).
@@ -90,6 +93,7 @@ public class DefaultRulesTests
         ["R-API618-H2"] = (Quiet() with { CompressorTypeId = null, GasMolarMass = MolarMass.FromGramsPerMole(8) }, "compressorType"),
         ["R-FIELD-HC"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["hydrocarbon"] }, "compressorType"),
         ["R-AIR-RECIP"] = (Quiet() with { CompressorTypeId = null, DeclaredServiceClasses = ["air"] }, "compressorType"),
+        ["R-DESIGN-TEMP"] = (Quiet(), "designTemperature"),
         ["R-LUBE-CLASS"] = (Quiet(), "lubricant"),
         ["R-AIT"] = (Air(), "lubricant"),
         ["R-FLASH-SOFT"] = (Air(), "lubricant"),
@@ -150,9 +154,9 @@ public class DefaultRulesTests
     public void TitaniumInChlorine_AtAnyTemperature_IsAViolation()
     {
         // Chlorine Institute Pamphlet 1 §8.3.2: titanium reacts violently with dry chlorine ((a)); no safe temperature.
-        var cold = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(20) }).Find("R-CL2-TITANIUM");
+        var cold = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(20), IsentropicInternal = C(20) }).Find("R-CL2-TITANIUM");
         Assert.Equal(Severity.Violation, cold.Severity);
-        var other = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel", Isentropic = C(20) });
+        var other = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "carbon-steel", Isentropic = C(20), IsentropicInternal = C(20) });
         Assert.DoesNotContain(other.Findings, f => f.RuleId == "R-CL2-TITANIUM");
         var noChlorine = Evaluate(Quiet() with { ValveMaterialId = "titanium" });
         Assert.DoesNotContain(noChlorine.Findings, f => f.RuleId == "R-CL2-TITANIUM");
@@ -217,6 +221,43 @@ public class DefaultRulesTests
     }
 
     [Fact]
+    public void DesignTemperature_WhenNotStated_IsListedButDoesNotHoldTheVerdictAtReview()
+    {
+        // Policy (common practice, no single source): an optional input of the stage itself; the shipped limits on the
+        // same temperature still apply, so its absence is listed, not escalated by ENGINE-UNCHECKED-LIMITS.
+        var result = Evaluate(Quiet() with { LubricantId = "mineral-vdl", ValveMaterialId = "peek", SealMaterialId = "fkm", GasMolarMass = MolarMass.FromGramsPerMole(16), OxygenMoleFraction = Ratio.Zero, DischargeOxygenPartialPressure = Pressure.Zero });
+        var nc = Assert.Single(result.NotChecked, n => n.RuleId == "R-DESIGN-TEMP");
+        Assert.Equal(NotCheckedReason.OptionalInput, nc.Why);
+        Assert.DoesNotContain(result.Findings, f => f.RuleId == RuleEngine.UncheckedLimitsRuleId && f.Note!.Contains("R-DESIGN-TEMP", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void DesignTemperature_WhenLowest_GovernsTheStage()
+    {
+        // 120 °C design temperature under PEEK's 204 °C (Bloch & Hoefner p.148) and the oil's limits: it governs.
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Estimated = C(125), DesignTemperature = C(120), ValveMaterialId = "peek" });
+        Assert.Equal("R-DESIGN-TEMP", result.Governing!.RuleId);
+        Assert.Equal(Verdict.Fail, result.Verdict);
+    }
+
+    [Fact]
+    public void ProcessStandardLimit_OnAPackagedFieldUnit_DoesNotApply_TheFieldUnitLimitDoes()
+    {
+        // Packaged field units (ISO 13631 scope, (a)) take the 177 °C field-unit practice (b), not API 618's 150 °C (c).
+        var result = Evaluate(Quiet("recip-packaged-lubricated") with { IsentropicInternal = C(160), Estimated = C(170), DeclaredServiceClasses = ["hydrocarbon"] });
+        Assert.DoesNotContain(result.Findings, f => f.RuleId is "R-API618-GEN" or "R-API618-H2");
+        Assert.Equal(Severity.Warning, result.Find("R-FIELD-HC").Severity);
+    }
+
+    [Fact]
+    public void ProcessStandardLimit_WithoutTheInternalTemperature_IsNotCheckedNamingTheAllowance()
+    {
+        // The flange-ratio isentropic temperature alone no longer decides the design check.
+        var result = Evaluate(Quiet() with { Isentropic = C(160) });
+        Assert.Contains("compressorTypes.valveLoss", Assert.Single(result.NotChecked, n => n.RuleId == "R-API618-GEN").MissingInputs);
+    }
+
+    [Fact]
     public void HydrogenRich_WhenMolarMassAtThreshold_IsDetected()
     {
         // Threshold MW <= 12 g/mol: API 618 5th ed. hydrogen-rich service — from memory — verify ((c) high).
@@ -248,7 +289,7 @@ public class DefaultRulesTests
     public void HydrogenRich_WhenDetected_GovernsAt135C()
     {
         // 140 °C predicted: inside 150 °C (R-API618-GEN) but beyond 135 °C (R-API618-H2) — both (c) high, from memory — verify.
-        var result = Evaluate(Quiet() with { Isentropic = C(140), GasMolarMass = MolarMass.FromGramsPerMole(10) });
+        var result = Evaluate(Quiet() with { Isentropic = C(140), IsentropicInternal = C(140), GasMolarMass = MolarMass.FromGramsPerMole(10) });
         Assert.Equal("R-API618-H2", result.Governing!.RuleId);
         AssertEx.Close(-5.0, result.Governing.Margin!.Value.SiValue, 1e-9, "margin");
         Assert.Contains("hydrogen-rich", result.DetectedServiceClasses);
@@ -292,7 +333,7 @@ public class DefaultRulesTests
     [InlineData(190.0)]
     public void Deviation_WhenMeasured12KAbovePredicted_IsAWarning(double estimatedKelvin)
     {
-        var f = Evaluate(Quiet() with { Isentropic = K(estimatedKelvin - 5), Estimated = K(estimatedKelvin), SuctionTemperature = K(150), MeasuredDischarge = K(estimatedKelvin + 12) }).Find("R-DEVIATION");
+        var f = Evaluate(Quiet() with { Isentropic = K(estimatedKelvin - 5), IsentropicInternal = K(estimatedKelvin - 5), Estimated = K(estimatedKelvin), SuctionTemperature = K(150), MeasuredDischarge = K(estimatedKelvin + 12) }).Find("R-DEVIATION");
         AssertEx.Close(10.0, f.Limit!.Value.SiValue, 1e-9, "deviation limit");
         Assert.Equal(Severity.Warning, f.Severity);
         Assert.Equal(QuantityDimension.TemperatureDifference, f.Value!.Value.Dimension);
@@ -302,7 +343,7 @@ public class DefaultRulesTests
     public void OilFloodedScrew_WhenMeasuredMissing_SaysPredictionIsUpperBoundAndNotChecked()
     {
         // The adiabatic prediction (200 °C here) would fail every temperature rule; for oil-flooded screws it is only an upper bound.
-        var result = Evaluate(Quiet("screw-oil-flooded") with { EstimatedUpperBound = C(200), Estimated = C(200), Isentropic = C(200), LubricantId = "pao-dab" });
+        var result = Evaluate(Quiet("screw-oil-flooded") with { EstimatedUpperBound = C(200), Estimated = C(200), Isentropic = C(200), IsentropicInternal = C(200), LubricantId = "pao-dab" });
         Assert.Equal(Severity.Info, result.Find("R-SCREW-PREDICTION").Severity);
         Assert.Contains(result.NotChecked, n => n.RuleId == "R-SCREW-FLOODED" && n.MissingInputs.Contains("measuredDischargeTemperature"));
         Assert.DoesNotContain(result.Findings, f => f.Severity == Severity.Violation);

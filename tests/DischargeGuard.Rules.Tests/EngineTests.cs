@@ -26,7 +26,7 @@ public class EngineTests
             double t1Max;
             switch (quantity)
             {
-                case CheckedQuantity.Isentropic:
+                case CheckedQuantity.Isentropic or CheckedQuantity.IsentropicInternal:
                     rMax = Math.Pow(limit.SiValue / t1, 1 / e);
                     t1Max = limit.SiValue / Math.Pow(r, e);
                     break;
@@ -49,14 +49,14 @@ public class EngineTests
     {
         // Air, k = 1.4 (diatomic ideal gas, cp/cv = 7/5), T1 = 300 K, r = 3: T2s = 300·3^(2/7) = 410.6 K.
         var t2s = 300 * Math.Pow(3, 0.4 / 1.4);
-        return Quiet() with { SuctionTemperature = K(300), SuctionPressure = Pressure.FromBars(1), DischargePressure = Pressure.FromBars(3), Isentropic = K(t2s), Estimated = K(t2s), EstimatedUpperBound = K(t2s) };
+        return Quiet() with { SuctionTemperature = K(300), SuctionPressure = Pressure.FromBars(1), DischargePressure = Pressure.FromBars(3), Isentropic = K(t2s), IsentropicInternal = K(t2s), Estimated = K(t2s), EstimatedUpperBound = K(t2s) };
     }
 
     [Fact]
     public void Governing_WhenSeveralViolationRules_IsSmallestMargin()
     {
         // R-API618-GEN: 140 °C vs 150 °C → margin 10 K; R-LUBE-CLASS (VBL 140 °C): 135 °C → margin 5 K.
-        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Isentropic = C(140), Estimated = C(135), LubricantId = "mineral-vbl" });
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Isentropic = C(140), IsentropicInternal = C(140), Estimated = C(135), LubricantId = "mineral-vbl" });
         Assert.Equal("R-LUBE-CLASS", result.Governing!.RuleId);
         Assert.Equal(CheckedQuantity.Estimated, result.Governing.Quantity);
         AssertEx.Close(5.0, result.Governing.Margin!.Value.SiValue, 1e-9, "governing margin");
@@ -67,7 +67,7 @@ public class EngineTests
     public void Governing_WhenOnlyWarningRulesBreached_IsStillAViolationRule()
     {
         // R-RATIO (warning-only) is beyond its limit at r = 5 but never governs; R-API618-GEN does.
-        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { DischargePressure = Pressure.FromBars(50) });
+        var result = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { DischargePressure = Pressure.FromBars(50), IsentropicInternal = C(100) });
         Assert.Equal(Severity.Warning, result.Find("R-RATIO").Severity);
         Assert.Equal("R-API618-GEN", result.Governing!.RuleId);
     }
@@ -78,7 +78,8 @@ public class EngineTests
         var calc = new ConstantKCalculator(1.4);
         var result = RuleEngine.EvaluateStage(Repo.Defaults, AirStage(), calc);
         var (q, limit) = Assert.Single(calc.Calls);
-        Assert.Equal(CheckedQuantity.Isentropic, q);
+        // The process-standard limit is checked on the internal ratio's η = 1 temperature (the stage sets it equal here).
+        Assert.Equal(CheckedQuantity.IsentropicInternal, q);
         AssertEx.Close(423.15, limit.SiValue, 1e-9, "limit passed to the calculator");
 
         // r_max = (423.15/300)^(1.4/0.4) and T1_max = 423.15/3^(0.4/1.4): the inverse of the relation above.
@@ -94,7 +95,7 @@ public class EngineTests
     {
         var calc = new ConstantKCalculator(1.4);
         // r = 3.9 (kept below 4 so R-RATIO stays quiet): T2s = 300·3.9^(2/7) = 442.3 K, beyond 423.15 K.
-        var stage = AirStage() with { DischargePressure = Pressure.FromBars(3.9), Isentropic = K(300 * Math.Pow(3.9, 0.4 / 1.4)) };
+        var stage = AirStage() with { DischargePressure = Pressure.FromBars(3.9), Isentropic = K(300 * Math.Pow(3.9, 0.4 / 1.4)), IsentropicInternal = K(300 * Math.Pow(3.9, 0.4 / 1.4)) };
         var result = RuleEngine.EvaluateStage(Repo.Defaults, stage, calc);
         Assert.Equal(EnvelopeBoundStatus.AlreadyExceeded, result.Envelope!.MaxDischargePressure.Status);
         Assert.Equal(Verdict.Fail, result.Verdict);
@@ -115,8 +116,8 @@ public class EngineTests
     public void Verdict_WhenTrainHasPassReviewAndFail_OverallIsWorst()
     {
         var pass = Complete(Quiet());
-        var review = Complete(Quiet()) with { StageIndex = 1, Position = StagePosition.Intermediate, Isentropic = C(147) };
-        var fail = Complete(Quiet()) with { StageIndex = 2, Position = StagePosition.Last, Isentropic = C(151) };
+        var review = Complete(Quiet()) with { StageIndex = 1, Position = StagePosition.Intermediate, Isentropic = C(147), IsentropicInternal = C(147) };
+        var fail = Complete(Quiet()) with { StageIndex = 2, Position = StagePosition.Last, Isentropic = C(151), IsentropicInternal = C(151) };
         var set = Repo.Defaults;
         Assert.Equal(Verdict.Pass, RuleEngine.Evaluate(set, [pass]).Verdict);
         Assert.Equal(Verdict.Review, RuleEngine.Evaluate(set, [pass, review]).Verdict);
@@ -155,16 +156,18 @@ public class EngineTests
         NormalOperatingDischarge = s.Estimated,
         JacketCoolantInlet = Temperature.FromDegreesCelsius(40),
         UnloadedRunning = false,
+        // The internal-ratio η = 1 temperature (valve-loss allowance) as the pipeline supplies it, unless the case set it.
+        IsentropicInternal = s.IsentropicInternal ?? s.Isentropic,
     };
 
     [Fact]
     public void Finding_WhenBeyond_MarginNegativeWithUnitAndDetail()
     {
-        var f = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Isentropic = C(162.3) }).Find("R-API618-GEN");
+        var f = RuleEngine.EvaluateStage(Repo.Defaults, Quiet() with { Isentropic = C(162.3), IsentropicInternal = C(162.3) }).Find("R-API618-GEN");
         Assert.Equal(QuantityDimension.TemperatureDifference, f.Margin!.Value.Dimension);
         AssertEx.Close(-12.3, f.Margin.Value.TemperatureDifference!.Value.Kelvins, 1e-9, "margin");
         Assert.Equal("-12.30 K", f.Margin.Value.ToString());
-        Assert.Contains("isentropic 162.30 °C > limit 150.00 °C", f.Detail, StringComparison.Ordinal);
+        Assert.Contains("isentropicInternal 162.30 °C > limit 150.00 °C", f.Detail, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -22,7 +22,7 @@ public class LayeringTests
     public void Override_WhenTightened_FindingNamesSiteLayer()
     {
         var set = Merge(Site("  - rule: R-API618-GEN\n    limit: 140 °C"));
-        var f = RuleEngine.EvaluateStage(set, Quiet() with { Isentropic = C(142) }).Find("R-API618-GEN");
+        var f = RuleEngine.EvaluateStage(set, Quiet() with { Isentropic = C(142), IsentropicInternal = C(142) }).Find("R-API618-GEN");
         Assert.Equal(Severity.Violation, f.Severity);
         Assert.Equal("site:test-site", f.Layer);
         Assert.Null(f.LoosenedReason);
@@ -99,7 +99,7 @@ public class LayeringTests
     {
         var site = Site("  - rule: R-API618-GEN\n    limit: 145 °C");
         var asset = Layer("assets/K-9.yaml", "schemaVersion: 1\nlayer:\n  kind: asset\n  id: K-9\n  site: test-site\noverrides:\n  - rule: R-API618-GEN\n    limit: 140 °C\n");
-        var f = RuleEngine.EvaluateStage(Merge(site, asset), Quiet() with { Isentropic = C(141) }).Find("R-API618-GEN");
+        var f = RuleEngine.EvaluateStage(Merge(site, asset), Quiet() with { Isentropic = C(141), IsentropicInternal = C(141) }).Find("R-API618-GEN");
         Assert.Equal("asset:K-9", f.Layer);
         Assert.Equal(Severity.Violation, f.Severity);
     }

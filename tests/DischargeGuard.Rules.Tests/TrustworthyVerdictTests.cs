@@ -110,7 +110,7 @@ public class TrustworthyVerdictTests
     public void TitaniumInChlorine_FindingCarriesNoNumber()
     {
         // Counter-example: it printed "limit −273.15 °C, margin −350.5 K". Chlorine Institute Pamphlet 1 §8.3.2 ((a)).
-        var f = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(77.35) }).Find("R-CL2-TITANIUM");
+        var f = Evaluate(Quiet() with { DeclaredServiceClasses = ["chlorine"], ValveMaterialId = "titanium", Isentropic = C(77.35), IsentropicInternal = C(77.35) }).Find("R-CL2-TITANIUM");
         Assert.Equal(Severity.Violation, f.Severity);
         Assert.Null(f.Limit);
         Assert.Null(f.Margin);
@@ -216,7 +216,7 @@ public class TrustworthyVerdictTests
         // Sweep R-API618-GEN (150 °C, band 5 K) across its limit: pass says passes, the band says close, beyond exceeds.
         foreach (var celsius in new[] { 120.0, 146.0, 151.0 })
         {
-            var f = Evaluate(Quiet() with { Isentropic = C(celsius) }).Find("R-API618-GEN");
+            var f = Evaluate(Quiet() with { Isentropic = C(celsius), IsentropicInternal = C(celsius) }).Find("R-API618-GEN");
             switch (f.Severity)
             {
                 case Severity.Pass:

@@ -99,6 +99,38 @@ public sealed record StageInput
 
     /// <summary>Measured values.</summary>
     public MeasuredInput? Measured { get; init; }
+
+    /// <summary>
+    /// A duty at which this machine was measured: what the measurement implies (an efficiency, or on a cooled stage an
+    /// apparent polytropic exponent) is used for the proposed duty when the stage gives no efficiency of its own.
+    /// </summary>
+    public CalibrationInput? Calibration { get; init; }
+
+    /// <summary>Injected oil of an oil-flooded machine (screw, vane): its mass flow and inlet temperature.</summary>
+    public OilInjectionInput? OilInjection { get; init; }
+}
+
+/// <summary>A measured duty of the same machine: suction state, discharge pressure and the measured discharge temperature.</summary>
+public sealed record CalibrationInput
+{
+    /// <summary>Suction state at the measured duty.</summary>
+    public SuctionInput? Suction { get; init; }
+
+    /// <summary>Discharge pressure at the measured duty.</summary>
+    public DischargeInput? Discharge { get; init; }
+
+    /// <summary>Discharge temperature measured at that duty.</summary>
+    public QuantityInput? MeasuredDischargeTemperature { get; init; }
+}
+
+/// <summary>Oil injected into an oil-flooded machine.</summary>
+public sealed record OilInjectionInput
+{
+    /// <summary>Oil mass flow, e.g. "2.4 kg/s" (needs the request's flow so the oil-to-gas ratio is known).</summary>
+    public QuantityInput? Flow { get; init; }
+
+    /// <summary>Oil temperature at injection (after the thermostatic valve and cooler), e.g. "60 °C".</summary>
+    public QuantityInput? InletTemperature { get; init; }
 }
 
 /// <summary>Suction state.</summary>
@@ -170,6 +202,12 @@ public sealed record EquipmentInput
     /// stainless. Used by the hydrogen-attack and wet-CO2 rules.
     /// </summary>
     public string? DischargeMaterial { get; init; }
+
+    /// <summary>
+    /// The lowest maximum allowable working temperature on the stage's discharge side (cylinder or casing, pulsation
+    /// bottles, piping, cooler, relief system), e.g. "175 °C".
+    /// </summary>
+    public QuantityInput? DesignTemperature { get; init; }
 }
 
 /// <summary>Operating data.</summary>

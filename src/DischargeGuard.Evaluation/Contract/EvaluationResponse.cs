@@ -232,9 +232,27 @@ public sealed record DischargeStateDto(QuantityDto PressureAbsolute);
 /// <param name="Polytropic">Polytropic efficiency (given, default or equivalent).</param>
 /// <param name="Given">Which one was given or defaulted: isentropic or polytropic.</param>
 /// <param name="Uncertainty">Uncertainty in absolute points.</param>
-/// <param name="Source">request, or rule-default (the compressor type's default from the rule file).</param>
-/// <param name="Basis">Basis of a rule default.</param>
-public sealed record EfficiencyDto(double Isentropic, double Polytropic, string Given, double Uncertainty, string Source, string? Basis);
+/// <param name="Source">request, calibration (implied by a measured duty, see <see cref="Calibration"/>), or rule-default (the compressor type's default from the rule file).</param>
+/// <param name="Basis">Basis of a rule default or of the calibration.</param>
+public sealed record EfficiencyDto(double Isentropic, double Polytropic, string Given, double Uncertainty, string Source, string? Basis)
+{
+    /// <summary>What the stage's calibration (a measured duty) implies; null when the stage gave none.</summary>
+    public CalibrationDto? Calibration { get; init; }
+}
+
+/// <summary>What a measured duty implies about the stage (ideal gas with cp(T) at the measured duty).</summary>
+/// <param name="Kind">efficiency (measured above the isentropic temperature) or apparent-exponent (at or below it, on a cooled stage).</param>
+/// <param name="Used">Whether it set the proposed duty's estimate (false when the stage gave its own efficiency).</param>
+/// <param name="MeasuredDischargeTemperature">The measured discharge temperature.</param>
+/// <param name="IsentropicAtMeasuredDuty">The η = 1 discharge temperature at the measured duty.</param>
+/// <param name="ImpliedIsentropic">Implied isentropic efficiency; null for an apparent exponent.</param>
+/// <param name="ImpliedPolytropic">Implied polytropic efficiency (what is carried to the proposed duty); null for an apparent exponent.</param>
+/// <param name="ApparentExponent">Apparent polytropic exponent n, from T2/T1 = r^((n−1)/n) at the measured duty.</param>
+/// <param name="ExponentRatio">(n − 1)/n at the measured duty.</param>
+/// <param name="Note">How the fit was carried to the proposed duty.</param>
+public sealed record CalibrationDto(
+    string Kind, bool Used, QuantityDto MeasuredDischargeTemperature, QuantityDto IsentropicAtMeasuredDuty,
+    double? ImpliedIsentropic, double? ImpliedPolytropic, double ApparentExponent, double ExponentRatio, string Note);
 
 /// <summary>Predicted discharge temperatures.</summary>
 /// <param name="Isentropic">The η = 1 prediction.</param>
@@ -242,7 +260,27 @@ public sealed record EfficiencyDto(double Isentropic, double Polytropic, string 
 /// <param name="EstimatedUpperBound">The estimate at the lower efficiency bound.</param>
 /// <param name="EstimatedLowerBound">The estimate at the upper efficiency bound.</param>
 /// <param name="ConstantK">The constant-k estimate beside it.</param>
-public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK);
+public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK)
+{
+    /// <summary>
+    /// The η = 1 prediction on the internal cylinder ratio (flange pressures widened by the compressor type's valve-loss
+    /// allowance), what the process-compressor design check compares; null when the type has no allowance.
+    /// </summary>
+    public QuantityDto? IsentropicInternal { get; init; }
+
+    /// <summary>How the estimate was made for an oil-flooded machine (energy balance with the injected oil); null otherwise.</summary>
+    public FloodedDto? Flooded { get; init; }
+}
+
+/// <summary>The energy balance of an oil-flooded stage: shaft work heats gas and oil, which leave at one temperature.</summary>
+/// <param name="OilToGasMassRatio">Oil mass flow over gas mass flow.</param>
+/// <param name="OilInletTemperature">Oil temperature at injection.</param>
+/// <param name="OilSpecificHeat">Oil specific heat used, kJ/(kg·K) (or Btu/(lb·°F) in imperial: same number ×0.2388).</param>
+/// <param name="SpecificShaftWork">Shaft work per unit gas mass.</param>
+/// <param name="AdiabaticWithoutOil">The gas-only adiabatic estimate at the same efficiency (an upper bound).</param>
+/// <param name="Source">request (oilInjection given) or rule-default (the compressor type's package defaults).</param>
+/// <param name="Basis">Where the oil figures and the efficiency come from.</param>
+public sealed record FloodedDto(double OilToGasMassRatio, QuantityDto OilInletTemperature, double OilSpecificHeat, QuantityDto SpecificShaftWork, QuantityDto AdiabaticWithoutOil, string Source, string Basis);
 
 /// <summary>The constant-k estimate (k at suction temperature).</summary>
 /// <param name="K">The k used.</param>

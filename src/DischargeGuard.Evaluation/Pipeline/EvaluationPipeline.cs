@@ -32,7 +32,7 @@ public sealed record EvaluationContext(Guid Id, DateTimeOffset EvaluatedAt, bool
 /// before its governing limit, and the answer in the requested units with its cautions. Pure: no I/O, no clock (the
 /// caller passes id and time), thread-safe.
 /// </summary>
-public sealed class EvaluationPipeline
+public sealed partial class EvaluationPipeline
 {
     /// <summary>Points on the optional discharge-temperature curve.</summary>
     public const int CurvePoints = 41;
@@ -82,9 +82,11 @@ public sealed class EvaluationPipeline
 
         var trainStages = new TrainStage[stagesIn.Count];
         var efficiencySources = new (string Source, string? Basis)[stagesIn.Count];
+        var calibrations = new StageCalibration?[stagesIn.Count];
         for (var i = 0; i < stagesIn.Count; i++)
         {
             trainStages[i] = TrainStageOf(stagesIn[i], i, barometer, effective, out efficiencySources[i]);
+            calibrations[i] = Calibrate(stagesIn[i], i, barometer, effective, feed, ref trainStages[i], ref efficiencySources[i]);
         }
 
         MassFlow? flow = FlowOf(request.Flow, feed);
@@ -160,10 +162,15 @@ public sealed class EvaluationPipeline
                 }
             }
 
+            facts = WithCalibratedEstimate(facts, calibrations[i]);
+            var valveLoss = ValveLossOf(input, effective);
+            facts = WithInternalRatio(facts, s, valveLoss, realGas, conditions);
+            var flooded = FloodedOf(input, i, effective, s, efficiencySources[i]);
+            facts = WithFlooded(facts, flooded);
             var dischargePhase = realGas.Used ? StagePhases.AtDischarge(phaseModel, s.Gas, facts.Estimated, s.Stage.DischargePressure) : idealDischarge;
             facts = facts with { DischargePhase = dischargePhase };
             var envelopeGas = realGas.Used ? realGas : null;
-            var ruled = RuleEngine.EvaluateStage(effective, facts, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas));
+            var ruled = RuleEngine.EvaluateStage(effective, facts, EnvelopeWithFlooded(EnvelopeWithCalibration(new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), calibrations[i], conditions), flooded));
             if (i == 0)
             {
                 serviceClasses = ruled.ServiceClasses;
@@ -175,6 +182,9 @@ public sealed class EvaluationPipeline
             allFindings.AddRange(ruled.Findings.Select(f => FindingOf(f, output, i)));
             var stage = StageOf(s, ruled, findings, efficiencySources[i], trainStages[i].Efficiency, output, context.IncludeCurve ? CurveOf(s, trainStages[i].Efficiency, ruled, output, envelopeGas) : null, LimitsOf(s, conditions, ruled, output, envelopeGas));
             stage = WithRealGas(stage, s, realGas, output);
+            stage = WithCalibration(stage, calibrations[i], facts, conditions, ruled.Findings, output);
+            stage = WithInternalRatio(stage, facts, ruled.Findings, new ThermoEnvelopeCalculator(s.Gas, conditions, envelopeGas, valveLoss), output);
+            stage = WithFlooded(stage, flooded, output);
             stage = stage with { Phase = PhaseOf(suctionPhase, dischargePhase, s.Stage.SuctionTemperature, output) };
             anyIdeal |= !realGas.Used;
             stageMethods.Add(realGas.Method);
@@ -474,6 +484,13 @@ public sealed class EvaluationPipeline
     {
         try
         {
+            if (stage.Efficiency is null && stage.Calibration is not null)
+            {
+                // A stand-in until Calibrate replaces it with what the measured duty implies.
+                source = ("calibration", null);
+                return StageEfficiency.Isentropic(1);
+            }
+
             if (stage.Efficiency is { } e)
             {
                 source = ("request", null);
@@ -583,6 +600,7 @@ public sealed class EvaluationPipeline
             NormalOperatingDischarge = Optional(input.Operation?.NormalDischargeTemperature, path + ".operation.normalDischargeTemperature"),
             JacketCoolantInlet = Optional(input.Operation?.CoolantInletTemperature, path + ".operation.coolantInletTemperature"),
             UnloadedRunning = input.Operation?.UnloadedRunning,
+            DesignTemperature = Optional(input.Equipment?.DesignTemperature, path + ".equipment.designTemperature"),
             DischargeWaterDewPoint = DischargeDewPoint(s, index, humidityField),
         };
     }

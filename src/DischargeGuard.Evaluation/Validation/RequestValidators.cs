@@ -290,6 +290,27 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
         RuleFor(x => x.Measured!).ChildRules(m =>
             m.RuleFor(x => x.DischargeTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.DischargeTemperature is not null))
             .When(x => x.Measured is not null);
+        RuleFor(x => x.Equipment!.DesignTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.Equipment?.DesignTemperature is not null);
+        RuleFor(x => x.Calibration!).ChildRules(c =>
+        {
+            c.RuleFor(x => x.Suction).NotNull().WithMessage("Give the suction pressure and temperature of the measured duty.");
+            c.RuleFor(x => x.Suction!.Pressure).NotNull().WithMessage("Give the suction pressure of the measured duty with its basis.")
+                .Quantity(units, QuantityKind.Pressure, StateBases, StateBasisMessage).When(x => x.Suction is not null);
+            c.RuleFor(x => x.Suction!.Temperature).NotNull().WithMessage("Give the suction temperature of the measured duty.")
+                .Quantity(units, QuantityKind.Temperature).When(x => x.Suction is not null);
+            c.RuleFor(x => x.Discharge).NotNull().WithMessage("Give the discharge pressure of the measured duty.");
+            c.RuleFor(x => x.Discharge!.Pressure).NotNull().WithMessage("Give the discharge pressure of the measured duty with its basis.")
+                .Quantity(units, QuantityKind.Pressure, StateBases, StateBasisMessage).When(x => x.Discharge is not null);
+            c.RuleFor(x => x.MeasuredDischargeTemperature).NotNull().WithMessage("A calibration needs the discharge temperature measured at that duty (e.g. \"141 °C\").")
+                .Quantity(units, QuantityKind.Temperature);
+        }).When(x => x.Calibration is not null);
+        RuleFor(x => x.OilInjection!).ChildRules(o =>
+        {
+            o.RuleFor(x => x.InletTemperature).NotNull().When(x => x.Flow is not null)
+                .WithMessage("An oil flow needs its inlet temperature (the oil temperature at injection, after the thermostatic valve), e.g. \"60 °C\".");
+            o.RuleFor(x => x.Flow).Quantity(units, QuantityKind.MassFlow).When(x => x.Flow is not null);
+            o.RuleFor(x => x.InletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.InletTemperature is not null);
+        }).When(x => x.OilInjection is not null);
     }
 }
 

@@ -126,6 +126,11 @@ public enum NotCheckedReason
     CheckedValue,
     /// <summary>A trend rule has too few earlier evaluations of the asset to fit a trend through.</summary>
     History,
+    /// <summary>
+    /// The limit is an optional input of the stage itself (its design temperature): listed, but it does not make the
+    /// stage a review, because the shipped limits on the same quantity still apply.
+    /// </summary>
+    OptionalInput,
 }
 
 /// <summary>A rule that applied but could not be checked.</summary>
@@ -140,6 +145,7 @@ public sealed record NotChecked(string RuleId, string Title, IReadOnlyList<strin
     {
         NotCheckedReason.ApplicabilityInput => $"Whether the rule applies depends on {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
         NotCheckedReason.LimitInput => $"The limit is computed from {string.Join(", ", MissingInputs)}; supply it to have the rule checked.",
+        NotCheckedReason.OptionalInput => $"The limit is the stage's own {string.Join(", ", MissingInputs)}, which was not stated; the other limits still apply. State it (equipment.designTemperature) to have the rule checked.",
         NotCheckedReason.History => $"The trend is fitted through the asset's recorded evaluations and needs {string.Join(" and ", MissingInputs.Select(m => m.Replace("history: ", string.Empty, StringComparison.Ordinal)))}; it is checked once they are recorded.",
         _ => $"The rule checks a value that needs {string.Join(" or ", MissingInputs)}; supply it to have the rule checked.",
     };

@@ -118,7 +118,7 @@ public static class RuleEngine
         // A gate must not pass what it could not check: violation-level rules left unchecked make the stage a review.
         if (notChecked is not null)
         {
-            var uncheckedLimits = notChecked.Where(n => rules.RulesById.TryGetValue(n.RuleId, out var r) && r.Severity == Severity.Violation).ToArray();
+            var uncheckedLimits = notChecked.Where(n => n.Why != NotCheckedReason.OptionalInput && rules.RulesById.TryGetValue(n.RuleId, out var r) && r.Severity == Severity.Violation).ToArray();
             if (uncheckedLimits.Length > 0)
             {
                 findings.Add(new Finding
@@ -184,7 +184,7 @@ public static class RuleEngine
 
     private static EnvelopeEstimate Envelope(IEnvelopeCalculator calculator, StageFacts stage, Finding governing)
     {
-        if (governing.Quantity is CheckedQuantity.Isentropic or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.PressureRatio)
+        if (governing.Quantity is CheckedQuantity.Isentropic or CheckedQuantity.IsentropicInternal or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.PressureRatio)
         {
             var (p, t) = calculator.Compute(stage, governing.Quantity, governing.Limit!.Value);
             return new EnvelopeEstimate(governing.RuleId, governing.Quantity, governing.Limit.Value, p, t);
@@ -223,6 +223,7 @@ public static class RuleEngine
         Optional(stage.NormalOperatingDischarge, nameof(StageFacts.NormalOperatingDischarge));
         Optional(stage.JacketCoolantInlet, nameof(StageFacts.JacketCoolantInlet));
         Optional(stage.DischargeWaterDewPoint, nameof(StageFacts.DischargeWaterDewPoint));
+        Optional(stage.DesignTemperature, nameof(StageFacts.DesignTemperature));
 
         static void Known<T>(IReadOnlyDictionary<string, T> catalogue, string? id, string what)
         {
@@ -573,6 +574,7 @@ public static class RuleEngine
         CheckedQuantity.MeasuredMinusPredictedRise when s.MeasuredDischarge is null => (null, "measuredDischargeTemperature"),
         CheckedQuantity.MeasuredMinusPredictedRise => (DeviationTrend.Rise(s, rule.Trend!), DeviationTrend.MissingHistory(rule.Trend!)),
         CheckedQuantity.Isentropic => (s.Isentropic.Kelvins, null),
+        CheckedQuantity.IsentropicInternal => (s.IsentropicInternal?.Kelvins, "compressorTypes.valveLoss"),
         CheckedQuantity.Estimated => (s.Estimated.Kelvins, null),
         CheckedQuantity.EstimatedUpperBound => (s.EstimatedUpperBound.Kelvins, null),
         CheckedQuantity.Measured => (s.MeasuredDischarge?.Kelvins, "measuredDischargeTemperature"),
@@ -668,6 +670,10 @@ public static class RuleEngine
                 b = s.DischargeWaterDewPoint?.Kelvins;
                 missing = "dischargeWaterDewPoint";
                 break;
+            case LimitSource.InputDesignTemperature:
+                b = s.DesignTemperature?.Kelvins;
+                missing = "designTemperature";
+                break;
             default:
                 throw new ArgumentOutOfRangeException(nameof(limit), limit.Source, "Unknown limit source.");
         }
@@ -740,7 +746,10 @@ public static class RuleEngine
 
             if (outcome == LimitOutcome.Missing)
             {
-                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [limitMissing!], NotCheckedReason.LimitInput));
+                // The stage's own design temperature is an optional input: listed as not checked, it does not hold the
+                // verdict at review, because the shipped limits on the same temperature still apply.
+                var why = rule.Limit.Source == LimitSource.InputDesignTemperature ? NotCheckedReason.OptionalInput : NotCheckedReason.LimitInput;
+                (notChecked ??= []).Add(new NotChecked(rule.Id, rule.Title, [limitMissing!], why));
                 return null;
             }
 

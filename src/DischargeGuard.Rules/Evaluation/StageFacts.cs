@@ -66,6 +66,11 @@ public sealed record StageFacts
     public required Pressure DischargePressure { get; init; }
     /// <summary>Ideal (η = 1) discharge temperature.</summary>
     public required Temperature Isentropic { get; init; }
+    /// <summary>
+    /// Ideal (η = 1) discharge temperature on the internal cylinder ratio (flange ratio with the compressor type's
+    /// valve-loss allowance); null when the type has no allowance.
+    /// </summary>
+    public Temperature? IsentropicInternal { get; init; }
     /// <summary>Discharge temperature with the stage efficiency.</summary>
     public required Temperature Estimated { get; init; }
     /// <summary>Upper bound of the discharge temperature.</summary>
@@ -89,6 +94,11 @@ public sealed record StageFacts
     /// |estimated T2 (Peng-Robinson) − estimated T2 (ideal gas)|; null when the real-gas result is not available.
     /// </summary>
     public TemperatureDelta? RealGasCorrection { get; init; }
+    /// <summary>
+    /// The lowest maximum allowable working temperature on the stage's discharge side (cylinder or casing, pulsation
+    /// bottles, piping, cooler, relief system); null when the request did not state it.
+    /// </summary>
+    public Temperature? DesignTemperature { get; init; }
     /// <summary>Water dew point at discharge pressure; null when humidity is unknown.</summary>
     public Temperature? DischargeWaterDewPoint { get; init; }
 

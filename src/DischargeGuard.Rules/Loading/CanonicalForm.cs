@@ -200,6 +200,18 @@ public static class CanonicalForm
             WriteNum(w, "efficiency", t.DefaultEfficiency);
             w.WriteString("efficiencyBasis", t.EfficiencyBasis);
             w.WriteBoolean("predictionIsUpperBound", t.PredictionIsUpperBound);
+            if (t.ValveLoss is { } vl)
+            {
+                WriteNum(w, "valveLossPerValve", vl.PerValveFraction);
+                w.WriteString("valveLossBasis", vl.Basis);
+            }
+
+            if (t.OilInjection is { } oi)
+            {
+                WriteNum(w, "oilToGasMassRatio", oi.OilToGasMassRatio);
+                WriteNum(w, "oilInletKelvin", oi.InletTemperature.Kelvins);
+                w.WriteString("oilInjectionBasis", oi.Basis);
+            }
             w.WriteEndObject();
         }
 

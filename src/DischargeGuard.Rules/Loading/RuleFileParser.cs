@@ -18,7 +18,9 @@ public static class RuleFileParser
     private static readonly string[] ServiceKeys = ["id", "title", "detection", "species", "threshold", "below", "basis"];
     private static readonly string[] LubricantKeys = ["id", "title", "baseStock", "class", "flashPoint", "autoignitionTemperature", "ratedMaxDischarge", "basis"];
     private static readonly string[] MaterialKeys = ["id", "title", "use", "continuousLimit", "oxygenCompatible", "sourService", "rgdRated", "basis"];
-    private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound"];
+    private static readonly string[] TypeKeys = ["id", "title", "family", "lubricated", "efficiency", "predictionIsUpperBound", "valveLoss", "oilInjection"];
+    private static readonly string[] ValveLossKeys = ["perValve", "basis"];
+    private static readonly string[] OilInjectionKeys = ["oilToGasMassRatio", "inletTemperature", "basis"];
     private static readonly string[] EfficiencyKeys = ["kind", "value", "basis"];
     private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "prohibited", "setPoints", "trend"];
     private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning",
@@ -415,8 +417,42 @@ public static class RuleFileParser
             basis = ctx.Text(e, "basis", path + ".efficiency.basis", required: true);
         }
 
+        ValveLossAllowance? valveLoss = null;
+        if (ctx.Mapping(m, "valveLoss", path + ".valveLoss") is { } vlNode)
+        {
+            var vl = ctx.Map(vlNode, path + ".valveLoss", ValveLossKeys);
+            var per = ctx.Quantity(vl, "perValve", path + ".valveLoss.perValve", QuantityKind.Fraction, required: true) is { } q ? ((Ratio)q).DecimalFractions : (double?)null;
+            if (per is { } a && !(a is >= 0 and < 0.5))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, vl.Get("perValve")!, path + ".valveLoss.perValve", "A valve-loss allowance is a fraction from 0 % up to (not including) 50 %.");
+            }
+
+            var vlBasis = ctx.Text(vl, "basis", path + ".valveLoss.basis", required: true);
+            valveLoss = per is { } pv && vlBasis is not null ? new ValveLossAllowance(pv, vlBasis) : null;
+        }
+
+        OilInjectionDefault? oil = null;
+        if (ctx.Mapping(m, "oilInjection", path + ".oilInjection") is { } oiNode)
+        {
+            var oi = ctx.Map(oiNode, path + ".oilInjection", OilInjectionKeys);
+            var ratio = ctx.Number(oi, "oilToGasMassRatio", path + ".oilInjection.oilToGasMassRatio", required: true);
+            if (ratio is { } r && !(r > 0 && r <= 50))
+            {
+                ctx.Add(RuleFileErrorKind.BadValue, oi.Get("oilToGasMassRatio")!, path + ".oilInjection.oilToGasMassRatio", "An oil-to-gas mass ratio is a number in (0, 50].");
+            }
+
+            var tIn = ctx.Temperature(oi, "inletTemperature", path + ".oilInjection.inletTemperature");
+            if (tIn is null && oi.Get("inletTemperature") is null)
+            {
+                ctx.Add(RuleFileErrorKind.MissingKey, oiNode, path + ".oilInjection.inletTemperature", "Give the oil inlet temperature (the thermostatic valve's set point).");
+            }
+
+            var oiBasis = ctx.Text(oi, "basis", path + ".oilInjection.basis", required: true);
+            oil = ratio is { } rr && tIn is { } t && oiBasis is not null ? new OilInjectionDefault(rr, t, oiBasis) : null;
+        }
+
         return id is null || title is null || family is null || lubricated is null || basis is null ? null
-            : new CompressorType(id, title, family, lubricated.Value, kind, value, basis, upper);
+            : new CompressorType(id, title, family, lubricated.Value, kind, value, basis, upper) { ValveLoss = valveLoss, OilInjection = oil };
     }
 
     private static RuleDefinition? ParseRule(Context ctx, YamlNode node, string path, Dictionary<string, string> ids)
@@ -778,7 +814,7 @@ public static class RuleFileParser
 
         var m = ctx.Map(mapNode, path, CatalogueLimitKeys);
         var from = ctx.Enum(m, "from", path + ".from",
-            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "ringMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint"], required: true);
+            ["lubricant.ratedMaxDischarge", "lubricant.autoignitionTemperature", "lubricant.flashPoint", "valveMaterial.continuousLimit", "sealMaterial.continuousLimit", "ringMaterial.continuousLimit", "input.suctionTemperature", "input.dischargeWaterDewPoint", "input.designTemperature"], required: true);
         double Delta(string key) => ctx.Quantity(m, key, path + "." + key, QuantityKind.TemperatureDifference) is TemperatureDelta d ? d.Kelvins : 0;
         var derating = Delta("deratingForPressure");
         var margin = Delta("margin");
@@ -798,6 +834,7 @@ public static class RuleFileParser
             "sealMaterial.continuousLimit" => LimitSource.SealMaterialLimit,
             "input.suctionTemperature" => LimitSource.InputSuctionTemperature,
             "input.dischargeWaterDewPoint" => LimitSource.InputDischargeWaterDewPoint,
+            "input.designTemperature" => LimitSource.InputDesignTemperature,
             _ => (LimitSource?)null,
         };
         return source is null ? null : new RuleLimit(source.Value, null, derating, margin, plus);

@@ -65,6 +65,11 @@ public enum CheckedQuantity
     /// absent when no dew point exists at that pressure).
     /// </summary>
     SuctionSuperheat,
+    /// <summary>
+    /// Ideal (η = 1) discharge temperature on the internal cylinder ratio: the flange ratio widened by the compressor
+    /// type's valve-loss allowance, r_int = r·(1 + a)/(1 − a) (absent when the type has no allowance).
+    /// </summary>
+    IsentropicInternal,
     /// <summary>No number: the rule flags a combination or a condition (a prohibited rule).</summary>
     Combination,
 }
@@ -147,6 +152,7 @@ public static class CheckedQuantityNames
         CheckedQuantity.RealGasCorrection => "realGasCorrection",
         CheckedQuantity.MeasuredMinusIsentropic => "measuredMinusIsentropic",
         CheckedQuantity.SuctionSuperheat => "suctionSuperheat",
+        CheckedQuantity.IsentropicInternal => "isentropicInternal",
         CheckedQuantity.Combination => "combination",
         _ => throw new ArgumentOutOfRangeException(nameof(quantity), quantity, "Unknown quantity."),
     };
@@ -186,7 +192,7 @@ public static class CheckedQuantityNames
 
     /// <summary>Whether the quantity is a discharge temperature (predicted or measured).</summary>
     /// <param name="quantity">The quantity.</param>
-    /// <returns>True for isentropic, estimated, estimatedUpperBound and measured.</returns>
+    /// <returns>True for isentropic, isentropicInternal, estimated, estimatedUpperBound and measured.</returns>
     public static bool IsDischargeTemperature(this CheckedQuantity quantity) =>
-        quantity is CheckedQuantity.Isentropic or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.Measured;
+        quantity is CheckedQuantity.Isentropic or CheckedQuantity.IsentropicInternal or CheckedQuantity.Estimated or CheckedQuantity.EstimatedUpperBound or CheckedQuantity.Measured;
 }

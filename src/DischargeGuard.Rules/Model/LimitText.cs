@@ -85,6 +85,7 @@ public static class LimitText
             LimitSource.RingMaterialLimit => "ringMaterial.continuousLimit",
             LimitSource.InputSuctionTemperature => "input.suctionTemperature",
             LimitSource.InputDischargeWaterDewPoint => "input.dischargeWaterDewPoint",
+            LimitSource.InputDesignTemperature => "input.designTemperature",
             _ => l.Source.ToString(),
         };
         if (l.DeratingForPressureKelvin != 0)

@@ -75,7 +75,28 @@ public enum EfficiencyKind
 /// <param name="EfficiencyBasis">Where the default efficiency comes from.</param>
 /// <param name="PredictionIsUpperBound">Whether an adiabatic prediction is only an upper bound for this type (oil-flooded screws).</param>
 public sealed record CompressorType(string Id, string Title, string Family, bool Lubricated, EfficiencyKind EfficiencyKind,
-    double? DefaultEfficiency, string EfficiencyBasis, bool PredictionIsUpperBound);
+    double? DefaultEfficiency, string EfficiencyBasis, bool PredictionIsUpperBound)
+{
+    /// <summary>
+    /// Pressure lost across each valve as a fraction of the line pressure (suction and discharge valve alike), for the
+    /// internal cylinder ratio r_int = r·(1 + a)/(1 − a); null when the type has none (no <c>isentropicInternal</c>).
+    /// </summary>
+    public ValveLossAllowance? ValveLoss { get; init; }
+
+    /// <summary>The package's oil injection when the request states none (oil-flooded machines); null when the type injects no oil.</summary>
+    public OilInjectionDefault? OilInjection { get; init; }
+}
+
+/// <summary>A valve-loss allowance for the internal cylinder ratio.</summary>
+/// <param name="PerValveFraction">Pressure lost per valve as a fraction of the line pressure, [0, 0.5).</param>
+/// <param name="Basis">Where it comes from.</param>
+public sealed record ValveLossAllowance(double PerValveFraction, string Basis);
+
+/// <summary>A package's oil injection, for oil-flooded machines when the request gives none.</summary>
+/// <param name="OilToGasMassRatio">Oil mass flow over gas mass flow, dimensionless, &gt; 0.</param>
+/// <param name="InletTemperature">Oil temperature at injection (the thermostatic valve's set point).</param>
+/// <param name="Basis">Where the numbers come from.</param>
+public sealed record OilInjectionDefault(double OilToGasMassRatio, Temperature InletTemperature, string Basis);
 
 /// <summary>How a service class is recognised.</summary>
 public enum ServiceDetection
@@ -190,6 +211,8 @@ public enum LimitSource
     InputSuctionTemperature,
     /// <summary>input.dischargeWaterDewPoint</summary>
     InputDischargeWaterDewPoint,
+    /// <summary>input.designTemperature: the lowest maximum allowable working temperature on the stage's discharge side.</summary>
+    InputDesignTemperature,
     /// <summary>max(atLeast, fraction × estimated absolute temperature) — the deviation rule.</summary>
     GreaterOfFixedAndFractionOfPredicted,
 }
