@@ -515,6 +515,14 @@ public sealed partial class EvaluationPipeline
         }
     }
 
+    private static EfficiencyDto EfficiencyUsed(Thermo.StageResult r, StageEfficiency efficiency, (string Source, string? Basis) source) => new(
+        Math.Round(r.IsentropicEfficiency, 6),
+        Math.Round(r.PolytropicEfficiency, 6),
+        r.EfficiencyKind == ThermoEfficiencyKind.Isentropic ? "isentropic" : "polytropic",
+        efficiency.Uncertainty,
+        source.Source,
+        source.Basis);
+
     private static PhaseDto PhaseOf(SuctionPhase suction, StagePhase? discharge, Temperature t1, OutputUnitSystem u) => new(
         PhaseName(suction.Phase),
         discharge is { } d ? PhaseName(d) : null,
@@ -553,13 +561,7 @@ public sealed partial class EvaluationPipeline
             PressureRatio = Math.Round(r.PressureRatio, 6),
             Suction = new StateDto(u.PressureAbsolute(r.SuctionPressure), u.Temperature(r.SuctionTemperature)),
             Discharge = new DischargeStateDto(u.PressureAbsolute(r.DischargePressure)),
-            Efficiency = new EfficiencyDto(
-                Math.Round(r.IsentropicEfficiency, 6),
-                Math.Round(r.PolytropicEfficiency, 6),
-                r.EfficiencyKind == ThermoEfficiencyKind.Isentropic ? "isentropic" : "polytropic",
-                efficiency.Uncertainty,
-                efficiencySource.Source,
-                efficiencySource.Basis),
+            Efficiency = EfficiencyUsed(r, efficiency, efficiencySource),
             Properties = new PropertiesDto(Math.Round(r.KSuction, 6), Math.Round(r.KDischarge, 6), 1.0, 1.0),
             Findings = kept.Select(f => FindingOf(f, u, null)).ToArray(),
             NotChecked = [],
@@ -649,13 +651,7 @@ public sealed partial class EvaluationPipeline
             PressureRatio = Math.Round(r.PressureRatio, 6),
             Suction = new StateDto(u.PressureAbsolute(r.SuctionPressure), u.Temperature(r.SuctionTemperature)),
             Discharge = new DischargeStateDto(u.PressureAbsolute(r.DischargePressure)),
-            Efficiency = new EfficiencyDto(
-                Math.Round(r.IsentropicEfficiency, 6),
-                Math.Round(r.PolytropicEfficiency, 6),
-                r.EfficiencyKind == ThermoEfficiencyKind.Isentropic ? "isentropic" : "polytropic",
-                efficiency.Uncertainty,
-                efficiencySource.Source,
-                efficiencySource.Basis),
+            Efficiency = EfficiencyUsed(r, efficiency, efficiencySource),
             DischargeTemperature = new DischargeTemperatureDto(
                 u.Temperature(r.IsentropicDischargeTemperature),
                 u.Temperature(r.EstimatedDischargeTemperature),
