@@ -7,7 +7,7 @@ const WIDTH = 780;
 const HEIGHT = 420;
 const MARGIN = { left: 70, right: 250, top: 24, bottom: 60 };
 const TEMPERATURE_UNITS = new Set(["°C", "°F", "K", "°R"]);
-const TEMPERATURE_QUANTITIES = new Set(["estimated", "isentropic", "measured"]);
+const TEMPERATURE_QUANTITIES = new Set(["isentropicInternal", "estimated", "isentropic", "measured"]);
 
 let chartCount = 0;
 
