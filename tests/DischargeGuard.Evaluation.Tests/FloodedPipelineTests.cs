@@ -75,4 +75,42 @@ public sealed class FloodedPipelineTests
         Assert.Equal(ProblemKind.InvalidRequest, problem.Kind);
         Assert.Equal("stages[0].oilInjection.flow", Assert.Single(problem.Errors).Key);
     }
+
+    [Fact]
+    public void FloodedScrew_WithAStatedShaftPower_TheWorkIsPowerOverFlow_HandCalculation()
+    {
+        // Hand calculation (marked as such) on argon, whose ideal-gas cp is exactly 5/2·R (NIST-JANAF Ar, constant cp):
+        // cp = 2.5 × 8.314462618 / 0.039948 = 520.33 J/(kg·K). Gas 1 kg/s at 300 K, oil 5 kg/s at 330 K (cp 2000 J/(kg·K),
+        // common practice), shaft power 1000 kW → w = 1000 kJ/kg and 1e6 = 520.33·(T2 − 300) + 10000·(T2 − 330), so
+        // T2 = (1e6 + 156 099 + 3 300 000) / 10 520.33 = 423.57 K = 150.42 °C.
+        var request = new EvaluationRequest
+        {
+            Asset = "K-103C",
+            Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
+            Gas = new GasInput { Composition = new Dictionary<string, double> { ["Ar"] = 1 } },
+            Flow = new FlowInput { Mass = Q("1 kg/s") },
+            Method = "ideal-gas",
+            Stages =
+            [
+                new StageInput
+                {
+                    Suction = new SuctionInput { Pressure = Q("1 bara"), Temperature = Q("300 K") },
+                    Discharge = new DischargeInput { Pressure = Q("8 bara") },
+                    Equipment = new EquipmentInput { CompressorType = "screw-oil-flooded" },
+                    OilInjection = new OilInjectionInput { Flow = Q("5 kg/s"), InletTemperature = Q("330 K"), ShaftPower = Q("1000 kW") },
+                },
+            ],
+        };
+        var stage = Evaluate(request).Stages[0];
+
+        Testing.AssertEx.Within(150.42, stage.DischargeTemperature!.Estimated.Value, 0.02);
+        Assert.Contains("shaft power", stage.DischargeTemperature.Flooded!.Basis, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FloodedScrew_WithAShaftPowerButNoFlow_IsA400OnTheShaftPower()
+    {
+        var problem = Refuse(Air("screw-oil-flooded", new OilInjectionInput { ShaftPower = Q("37 kW") }));
+        Assert.Contains("stages[0].oilInjection.shaftPower", problem.Errors.Keys);
+    }
 }

@@ -131,6 +131,12 @@ public sealed record OilInjectionInput
 
     /// <summary>Oil temperature at injection (after the thermostatic valve and cooler), e.g. "60 °C".</summary>
     public QuantityInput? InletTemperature { get; init; }
+
+    /// <summary>
+    /// The package's shaft power at this duty, e.g. "37 kW" (data sheet or measured). With the request's flow it gives the
+    /// specific work that heats gas and oil; it takes the place of an efficiency. Needs the request's flow.
+    /// </summary>
+    public QuantityInput? ShaftPower { get; init; }
 }
 
 /// <summary>Suction state.</summary>

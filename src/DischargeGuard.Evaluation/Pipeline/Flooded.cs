@@ -59,6 +59,26 @@ public sealed partial class EvaluationPipeline
         }
 
         var work = s.Stage.SpecificActualWork;
+        string? powerBasis = null;
+        if (given?.ShaftPower is { } powerText)
+        {
+            // Shaft power over the gas mass flow is the specific work of the package (gas and oil leave together).
+            var power = (Power)Parse(powerText, Rules.Units.QuantityKind.Power, path + ".shaftPower").Quantity;
+            if (s.MassFlow is not { } gasFlow)
+            {
+                throw Invalid(path + ".shaftPower", "A shaft power needs the gas mass flow to give the specific work: give the request's flow (mass or standard volume).");
+            }
+
+            var watts = (double)power.Watts;
+            if (!(watts > 0))
+            {
+                throw Unprocessable(path + ".shaftPower", "The shaft power must be greater than zero.");
+            }
+
+            work = SpecificEnergy.FromJoulesPerKilogram(watts / gasFlow.KilogramsPerSecond);
+            powerBasis = string.Create(CultureInfo.InvariantCulture, $"shaft work from the stated shaft power {watts / 1000:0.###} kW over the gas mass flow {gasFlow.KilogramsPerSecond:0.####} kg/s");
+        }
+
         Temperature t2;
         try
         {
@@ -69,9 +89,9 @@ public sealed partial class EvaluationPipeline
             throw Unprocessable(path, ex.Reason);
         }
 
-        var workBasis = efficiencySource.Source == "rule-default"
+        var workBasis = powerBasis ?? (efficiencySource.Source == "rule-default"
             ? "shaft work from the compressor type's default efficiency (rule file, a default): " + efficiencySource.Basis
-            : "shaft work from the " + efficiencySource.Source + " efficiency";
+            : "shaft work from the " + efficiencySource.Source + " efficiency");
         return new FloodedStage(s.Stage.SuctionTemperature, ratio, oilIn, work, t2, s.Stage.EstimatedDischargeTemperature, source,
             $"{basis}; oil cp {OilSpecificHeatJoulesPerKilogramKelvin / 1000:0.0} kJ/(kg·K) (common practice, no single source); {workBasis}");
     }

@@ -310,6 +310,7 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
                 .WithMessage("An oil flow needs its inlet temperature (the oil temperature at injection, after the thermostatic valve), e.g. \"60 °C\".");
             o.RuleFor(x => x.Flow).Quantity(units, QuantityKind.MassFlow).When(x => x.Flow is not null);
             o.RuleFor(x => x.InletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.InletTemperature is not null);
+            o.RuleFor(x => x.ShaftPower).Quantity(units, QuantityKind.Power).When(x => x.ShaftPower is not null);
         }).When(x => x.OilInjection is not null);
     }
 }
