@@ -249,4 +249,13 @@ public class TrustworthyVerdictTests
         Assert.DoesNotContain(noDewPoint.Findings, f => f.RuleId == "R-SUCTION-DEWPOINT");
         Assert.DoesNotContain(noDewPoint.NotChecked, n => n.RuleId == "R-SUCTION-DEWPOINT");
     }
+
+    [Fact]
+    public void FloodedScrew_ScrewOilClassRating_IsChecked()
+    {
+        // ISO 6743-3 DAG oils for oil-flooded rotary air compressors: air/oil discharge below about 90 °C (from memory —
+        // verify). A flooded screw measured at 95 °C on DAG oil exceeds its class rating.
+        var result = Evaluate(Quiet("screw-oil-flooded") with { LubricantId = "mineral-dag", MeasuredDischarge = C(95), Estimated = C(85) });
+        Assert.Equal(Severity.Violation, result.Find("R-LUBE-CLASS").Severity);
+    }
 }
