@@ -126,6 +126,7 @@ public class DefaultRulesTests
         ["R-CL2-CARBON-STEEL"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
         ["R-CL2-TITANIUM"] = (Quiet() with { DeclaredServiceClasses = ["chlorine"] }, "valveMaterial"),
         ["R-SOUR-VALVE-MATERIAL"] = (Quiet() with { MoleFractions = Sour }, "valveMaterial"),
+        ["R-SOUR-SPRING-MATERIAL"] = (Quiet() with { MoleFractions = Sour }, "springMaterial"),
         ["R-SOUR-SEAL-MATERIAL"] = (Quiet() with { MoleFractions = Sour }, "sealMaterial"),
         ["R-RGD-SEAL"] = (Quiet() with { DischargePressure = Pressure.FromBars(60), MoleFractions = Gas(("CO2", 1.0)) }, "sealMaterial"),
         ["R-SEAL-EPDM-HYDROCARBON"] = (Quiet() with { DeclaredServiceClasses = ["hydrocarbon"] }, "sealMaterial"),
@@ -168,7 +169,7 @@ public class DefaultRulesTests
         // Guards the tables: a shipped rule added without tests fails here.
         var covered = Cases.Keys.Concat(["R-SCREW-PREDICTION", "R-SETPOINTS", "R-SPECIAL-O2", "R-SPECIAL-CL2", "R-SPECIAL-C2H2", "R-CL2-TITANIUM",
             "R-O2-LUBRICATED", "R-O2-LUBRICANT", "R-O2-VALVE-MATERIAL", "R-O2-SEAL-MATERIAL", "R-SUCTION-LIQUID", "R-SUCTION-SATURATED", "R-DISCHARGE-PHASE",
-            "R-SOUR-VALVE-MATERIAL", "R-SOUR-SEAL-MATERIAL", "R-RGD-SEAL", "R-SEAL-EPDM-HYDROCARBON", "R-SEAL-EPDM-OIL", "R-SEAL-FKM-AMMONIA-AMINE",
+            "R-SOUR-VALVE-MATERIAL", "R-SOUR-SPRING-MATERIAL", "R-SOUR-SEAL-MATERIAL", "R-RGD-SEAL", "R-SEAL-EPDM-HYDROCARBON", "R-SEAL-EPDM-OIL", "R-SEAL-FKM-AMMONIA-AMINE",
             "R-SEAL-NBR-OZONE", "R-WET-CO2-CS", "R-C2H2-DECOMPOSITION", "R-C2H4-DECOMPOSITION"]).ToHashSet();
         Assert.Equal(covered.Order(), Repo.Defaults.Rules.Select(r => r.Id).Order());
         Assert.Equal(covered.Order(), MissingCases.Keys.Order());

@@ -82,6 +82,31 @@ public class SpecialServiceRulesTests
     }
 
     [Theory]
+    // NACE MR0175 / ISO 15156: hard spring steels (Cr-V) and 17-7PH are not qualified for sour service; alloy X-750 is,
+    // in stated conditions ((c) — from memory — verify).
+    [InlineData("spring-crv", true)]
+    [InlineData("spring-17-7ph", true)]
+    [InlineData("spring-x750", false)]
+    public void SourGas_ValveSpringMaterial_IsCheckedOnItsOwn(string spring, bool prohibited)
+    {
+        var result = Evaluate(Quiet() with { MoleFractions = Gas(("CH4", 0.99), ("H2S", 0.01)), SpringMaterialId = spring });
+        if (prohibited)
+        {
+            var f = result.Find("R-SOUR-SPRING-MATERIAL");
+            Assert.Equal(Severity.Violation, f.Severity);
+            Assert.Null(f.Limit);
+        }
+        else
+        {
+            Assert.DoesNotContain(result.Findings, f => f.RuleId == "R-SOUR-SPRING-MATERIAL");
+            Assert.DoesNotContain(result.NotChecked, n => n.RuleId == "R-SOUR-SPRING-MATERIAL");
+        }
+
+        var sweet = Evaluate(Quiet() with { MoleFractions = Gas(("CH4", 1.0)), SpringMaterialId = "spring-crv" });
+        Assert.DoesNotContain(sweet.Findings, f => f.RuleId == "R-SOUR-SPRING-MATERIAL");
+    }
+
+    [Theory]
     [InlineData("epdm-peroxide", "hydrocarbon", "R-SEAL-EPDM-HYDROCARBON")]
     [InlineData("epdm-sulfur", "hydrocarbon", "R-SEAL-EPDM-HYDROCARBON")]
     [InlineData("fkm", "amine", "R-SEAL-FKM-AMMONIA-AMINE")]

@@ -203,6 +203,9 @@ public sealed record EquipmentInput
     /// <summary>Piston ring, rider band and packing material id (non-lubricated cylinders), from the catalogue's ring materials.</summary>
     public string? RingMaterial { get; init; }
 
+    /// <summary>Valve spring material id, from the catalogue's spring materials (for the sour-service rule).</summary>
+    public string? SpringMaterial { get; init; }
+
     /// <summary>
     /// Discharge-side pressure-part material (piping, vessels): carbon-steel, c-0.5mo, 1.25cr-0.5mo, 2.25cr-1mo or
     /// stainless. Used by the hydrogen-attack and wet-CO2 rules.

@@ -236,6 +236,7 @@ public static class RulesInForce
         }
 
         Flag(a.ValveMaterialSourService, "valve material qualified for sour service", "valve material not qualified for sour service");
+        Flag(a.SpringMaterialSourService, "valve spring material qualified for sour service", "valve spring material not qualified for sour service");
         Flag(a.SealMaterialSourService, "seal material suited to H2S", "seal material not suited to H2S");
         Flag(a.SealMaterialRgdRated, "seal material rated for rapid gas decompression", "seal material not rated for rapid gas decompression");
 

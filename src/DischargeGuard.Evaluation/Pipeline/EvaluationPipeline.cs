@@ -468,6 +468,7 @@ public sealed partial class EvaluationPipeline
         Check(equipment.ValveMaterial, "valveMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Valve).Select(m => m.Key));
         Check(equipment.SealMaterial, "sealMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Seal).Select(m => m.Key));
         Check(equipment.RingMaterial, "ringMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Ring).Select(m => m.Key));
+        Check(equipment.SpringMaterial, "springMaterial", rules.Materials.Where(m => m.Value.Use == MaterialUse.Spring).Select(m => m.Key));
         Check(equipment.DischargeMaterial, "dischargeMaterial", DischargeMaterials.All);
 
         void Check(string? id, string field, IEnumerable<string> known)
@@ -584,6 +585,7 @@ public sealed partial class EvaluationPipeline
             ValveMaterialId = input.Equipment?.ValveMaterial,
             SealMaterialId = input.Equipment?.SealMaterial,
             RingMaterialId = input.Equipment?.RingMaterial,
+            SpringMaterialId = input.Equipment?.SpringMaterial,
             DischargeMaterial = input.Equipment?.DischargeMaterial,
             MoleFractions = StageComposition.Of(s.Gas),
             DeclaredServiceClasses = declared,

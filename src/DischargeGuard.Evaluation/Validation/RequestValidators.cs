@@ -279,6 +279,7 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
             e.RuleFor(x => x.ValveMaterial).MaximumLength(64);
             e.RuleFor(x => x.SealMaterial).MaximumLength(64);
             e.RuleFor(x => x.RingMaterial).MaximumLength(64);
+            e.RuleFor(x => x.SpringMaterial).MaximumLength(64);
             e.RuleFor(x => x.DischargeMaterial).Must(m => Rules.Model.DischargeMaterials.IsKnown(m)).When(x => x.DischargeMaterial is not null)
                 .WithMessage("The discharge material is one of: " + string.Join(", ", Rules.Model.DischargeMaterials.All) + ".");
         }).When(x => x.Equipment is not null);

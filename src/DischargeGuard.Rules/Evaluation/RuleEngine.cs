@@ -238,6 +238,7 @@ public static class RuleEngine
         Known(rules.Materials, stage.ValveMaterialId, "valve material");
         Known(rules.Materials, stage.SealMaterialId, "seal material");
         Known(rules.Materials, stage.RingMaterialId, "ring material");
+        Known(rules.Materials, stage.SpringMaterialId, "spring material");
         if (stage.DischargeMaterial is { } dm && !DischargeMaterials.IsKnown(dm))
         {
             throw new ArgumentOutOfRangeException(nameof(stage), dm, $"Unknown discharge material '{dm}'; known: {string.Join(", ", DischargeMaterials.All)}.");
@@ -350,6 +351,7 @@ public static class RuleEngine
         }
 
         if (!MaterialFlag(rules, a.ValveMaterialSourService, s.ValveMaterialId, "valveMaterial", "sourService", m => m.SourService, ref missing)
+            || !MaterialFlag(rules, a.SpringMaterialSourService, s.SpringMaterialId, "springMaterial", "sourService", m => m.SourService, ref missing)
             || !MaterialFlag(rules, a.SealMaterialSourService, s.SealMaterialId, "sealMaterial", "sourService", m => m.SourService, ref missing)
             || !MaterialFlag(rules, a.SealMaterialRgdRated, s.SealMaterialId, "sealMaterial", "rgdRated", m => m.RgdRated, ref missing))
         {
@@ -426,12 +428,15 @@ public static class RuleEngine
 
         if (a.ServiceClasses.Count > 0 && !Any(a.ServiceClasses, classes))
         {
-            // A class detected from the composition cannot be ruled out when the composition input is absent.
-            missing ??= MissingDetectionInput(rules, a.ServiceClasses, s);
-            if (missing is null)
+            // A class detected from the composition cannot be ruled out when the composition input is absent; when it can
+            // be ruled out, the rule does not apply whatever other input is missing.
+            var detectionInput = MissingDetectionInput(rules, a.ServiceClasses, s);
+            if (detectionInput is null)
             {
                 return null;
             }
+
+            missing ??= detectionInput;
         }
 
         if (a.NotServiceClasses.Count > 0 && Any(a.NotServiceClasses, classes))

@@ -24,6 +24,8 @@ public sealed record StageFacts
     public string? SealMaterialId { get; init; }
     /// <summary>Ring, rider-band and packing material id (non-lubricated cylinders).</summary>
     public string? RingMaterialId { get; init; }
+    /// <summary>Valve spring material id.</summary>
+    public string? SpringMaterialId { get; init; }
     /// <summary>Discharge-side pressure-part material (carbon-steel, c-0.5mo, 1.25cr-0.5mo, 2.25cr-1mo, stainless).</summary>
     public string? DischargeMaterial { get; init; }
     /// <summary>

@@ -278,6 +278,7 @@ public static class CanonicalForm
         }
 
         WriteFlag(w, "valveMaterialSourService", a.ValveMaterialSourService);
+        WriteFlag(w, "springMaterialSourService", a.SpringMaterialSourService);
         WriteFlag(w, "sealMaterialSourService", a.SealMaterialSourService);
         WriteFlag(w, "sealMaterialRgdRated", a.SealMaterialRgdRated);
         if (a.DischargeMaterials.Count > 0)

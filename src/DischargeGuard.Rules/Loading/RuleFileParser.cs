@@ -25,7 +25,7 @@ public static class RuleFileParser
     private static readonly string[] RuleKeys = ["id", "title", "appliesTo", "quantity", "direction", "limit", "warningBand", "severity", "basis", "message", "requiresSignedLimit", "prohibited", "setPoints", "trend"];
     private static readonly string[] AppliesKeys = ["compressorTypes", "notCompressorTypes", "serviceClasses", "notServiceClasses", "baseStocks", "valveMaterials", "sealMaterials", "stagePositions", "unloadedRunning",
         "lubricated", "cooled", "valveMaterialOxygenCompatible", "sealMaterialOxygenCompatible", "oxygenPartialPressureAbove", "decidedBy", "suctionPhases", "dischargePhases",
-        "valveMaterialSourService", "sealMaterialSourService", "sealMaterialRgdRated", "dischargeMaterials", "partialPressureAbove", "dischargePressureAbove"];
+        "valveMaterialSourService", "springMaterialSourService", "sealMaterialSourService", "sealMaterialRgdRated", "dischargeMaterials", "partialPressureAbove", "dischargePressureAbove"];
     private static readonly string[] CatalogueLimitKeys = ["from", "deratingForPressure", "margin", "plus"];
     private static readonly string[] GreaterOfKeys = ["atLeast", "fractionOfPredicted"];
     private static readonly string[] SetPointKeys = ["alarm", "trip", "minimumStep"];
@@ -365,7 +365,7 @@ public static class RuleFileParser
         var m = ctx.Map(mapNode, path, MaterialKeys);
         var id = Id(ctx, m, path, ids);
         var title = ctx.Text(m, "title", path + ".title", required: true);
-        var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal", "ring"], required: true);
+        var use = ctx.Enum(m, "use", path + ".use", ["valve", "seal", "ring", "spring"], required: true);
         var limit = ctx.Temperature(m, "continuousLimit", path + ".continuousLimit");
         var oxygen = ctx.Bool(m, "oxygenCompatible", path + ".oxygenCompatible");
         var sour = ctx.Bool(m, "sourService", path + ".sourService");
@@ -376,7 +376,7 @@ public static class RuleFileParser
         }
 
         var basis = ctx.Text(m, "basis", path + ".basis", required: true);
-        var materialUse = use switch { "seal" => MaterialUse.Seal, "ring" => MaterialUse.Ring, _ => MaterialUse.Valve };
+        var materialUse = use switch { "seal" => MaterialUse.Seal, "ring" => MaterialUse.Ring, "spring" => MaterialUse.Spring, _ => MaterialUse.Valve };
         return id is null || title is null || use is null || basis is null ? null
             : new Material(id, title, materialUse, limit, basis, oxygen, sour, rgd);
     }
@@ -650,6 +650,7 @@ public static class RuleFileParser
             SealMaterialOxygenCompatible = ctx.Bool(m, "sealMaterialOxygenCompatible", path + ".sealMaterialOxygenCompatible"),
             OxygenPartialPressureAbovePascals = ctx.Quantity(m, "oxygenPartialPressureAbove", path + ".oxygenPartialPressureAbove", QuantityKind.PressureDifference) is Pressure po2 ? po2.Pascals : null,
             ValveMaterialSourService = ctx.Bool(m, "valveMaterialSourService", path + ".valveMaterialSourService"),
+            SpringMaterialSourService = ctx.Bool(m, "springMaterialSourService", path + ".springMaterialSourService"),
             SealMaterialSourService = ctx.Bool(m, "sealMaterialSourService", path + ".sealMaterialSourService"),
             SealMaterialRgdRated = ctx.Bool(m, "sealMaterialRgdRated", path + ".sealMaterialRgdRated"),
             DischargeMaterials = Texts(ctx.TextList(m, "dischargeMaterials", path + ".dischargeMaterials")).Where(t => CheckDischargeMaterial(ctx, m, path, t)).ToArray(),

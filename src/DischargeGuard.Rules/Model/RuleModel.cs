@@ -34,6 +34,8 @@ public enum MaterialUse
     Seal,
     /// <summary>Piston rings, rider bands and packing rings of non-lubricated cylinders.</summary>
     Ring,
+    /// <summary>Valve springs.</summary>
+    Spring,
 }
 
 /// <summary>A valve, seal or ring material in the catalogue.</summary>
@@ -164,6 +166,8 @@ public sealed record AppliesTo
     public bool? SealMaterialOxygenCompatible { get; init; }
     /// <summary>When set, the rule applies only when the valve material's sour-service qualification has this value.</summary>
     public bool? ValveMaterialSourService { get; init; }
+    /// <summary>When set, the rule applies only when the valve spring material's sour-service qualification has this value.</summary>
+    public bool? SpringMaterialSourService { get; init; }
     /// <summary>When set, the rule applies only when the seal material's sour-service qualification has this value.</summary>
     public bool? SealMaterialSourService { get; init; }
     /// <summary>When set, the rule applies only when the seal material's rapid-gas-decompression rating has this value.</summary>
