@@ -16,23 +16,8 @@ namespace DischargeGuard.Evaluation.Tests;
 /// </summary>
 public class EvaluationPipelineGergTests
 {
-    private static EvaluationRequest Request(Dictionary<string, double> composition, string? method, string suction, string temperature, string discharge) => new()
-    {
-        Asset = "K-102B",
-        Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
-        Gas = new GasInput { Composition = composition },
-        Method = method,
-        Stages =
-        [
-            new StageInput
-            {
-                Suction = new SuctionInput { Pressure = Q(suction), Temperature = Q(temperature) },
-                Discharge = new DischargeInput { Pressure = Q(discharge) },
-                Efficiency = new EfficiencyInput { Isentropic = 0.80 },
-                Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "pao-dab" },
-            },
-        ],
-    };
+    private static EvaluationRequest Request(Dictionary<string, double> composition, string? method, string suction, string temperature, string discharge) =>
+        ProcessGas(composition, method, suction, temperature, discharge);
 
     // A lean pipeline gas (invented composition in the range of the AGA 8 "Gulf Coast" gas).
     private static readonly Dictionary<string, double> NaturalGas = new()

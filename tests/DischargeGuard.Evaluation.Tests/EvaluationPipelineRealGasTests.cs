@@ -16,23 +16,8 @@ public class EvaluationPipelineRealGasTests
     private static readonly Dictionary<string, double> CarbonDioxide = new() { ["CO2"] = 1.0 };
 
     // CO2 30 → 90 bar(a) from 40 °C, ηs 0.80, lubricated recip (an invented injection booster, K-102B).
-    private static EvaluationRequest Co2(string? method, string suction = "30 bara", string temperature = "40 °C", string discharge = "90 bara") => new()
-    {
-        Asset = "K-102B",
-        Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
-        Gas = new GasInput { Composition = CarbonDioxide },
-        Method = method,
-        Stages =
-        [
-            new StageInput
-            {
-                Suction = new SuctionInput { Pressure = Q(suction), Temperature = Q(temperature) },
-                Discharge = new DischargeInput { Pressure = Q(discharge) },
-                Efficiency = new EfficiencyInput { Isentropic = 0.80 },
-                Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "pao-dab" },
-            },
-        ],
-    };
+    private static EvaluationRequest Co2(string? method, string suction = "30 bara", string temperature = "40 °C", string discharge = "90 bara") =>
+        ProcessGas(CarbonDioxide, method, suction, temperature, discharge);
 
     private static RealGasStageResult Direct(double p1Bar = 30, double t1C = 40, double p2Bar = 90)
     {

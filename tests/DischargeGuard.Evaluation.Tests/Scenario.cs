@@ -32,6 +32,28 @@ internal static class Scenario
         Stages = stages.Length == 0 ? [AirStage()] : stages,
     };
 
+    /// <summary>
+    /// One process-gas stage of K-102B (invented): the composition by mole, the method, suction and discharge, ηs 0.80,
+    /// lubricated recip with PAO oil.
+    /// </summary>
+    public static EvaluationRequest ProcessGas(IReadOnlyDictionary<string, double> composition, string? method, string suction, string temperature, string discharge) => new()
+    {
+        Asset = "K-102B",
+        Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
+        Gas = new GasInput { Composition = composition },
+        Method = method,
+        Stages =
+        [
+            new StageInput
+            {
+                Suction = new SuctionInput { Pressure = Q(suction), Temperature = Q(temperature) },
+                Discharge = new DischargeInput { Pressure = Q(discharge) },
+                Efficiency = new EfficiencyInput { Isentropic = 0.80 },
+                Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "pao-dab" },
+            },
+        ],
+    };
+
     public static EvaluationContext Context(bool curve = false) => new(Guid.CreateVersion7(Scenario.FixedTime), FixedTime, curve);
 
     public static EvaluationOutcome Run(EvaluationRequest request, bool curve = false) =>
