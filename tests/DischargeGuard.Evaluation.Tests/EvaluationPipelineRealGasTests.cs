@@ -40,9 +40,9 @@ public class EvaluationPipelineRealGasTests
         AssertEx.Within(direct.IsentropicDischargeTemperature.DegreesCelsius, stage.DischargeTemperature!.Isentropic.Value, 0.0006, "isentropic = Peng-Robinson");
         AssertEx.Within(direct.IdealGas.EstimatedDischargeTemperature.DegreesCelsius, stage.RealGas.IdealGas.Estimated.Value, 0.0006, "ideal-gas answer beside it");
         AssertEx.Within(direct.DifferenceFromIdealGas.Kelvins, stage.RealGas.Difference!.Estimated.Value, 0.0006, "difference");
-        AssertEx.Within(direct.ZSuction, stage.Properties.ZSuction, 1e-6, "Z1");
-        AssertEx.Within(direct.ZDischarge, stage.Properties.ZDischarge, 1e-6, "Z2");
-        Assert.True(stage.Properties.ZSuction < 0.9, "CO2 at 30 bar and 40 °C is far from ideal (Z ≈ 0.83, from memory)");
+        AssertEx.Within(direct.ZSuction, stage.Properties!.ZSuction, 1e-6, "Z1");
+        AssertEx.Within(direct.ZDischarge, stage.Properties!.ZDischarge, 1e-6, "Z2");
+        Assert.True(stage.Properties!.ZSuction < 0.9, "CO2 at 30 bar and 40 °C is far from ideal (Z ≈ 0.83, from memory)");
     }
 
     [Fact]

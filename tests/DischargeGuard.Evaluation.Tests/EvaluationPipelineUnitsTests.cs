@@ -92,10 +92,10 @@ public sealed class EvaluationPipelineUnitsTests
         AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature!.Estimated.Value, Rounding);
         AssertEx.Within(direct.EstimatedUpperBound.DegreesCelsius, stage.DischargeTemperature!.EstimatedUpperBound.Value, Rounding);
         AssertEx.Within(direct.EstimatedLowerBound.DegreesCelsius, stage.DischargeTemperature!.EstimatedLowerBound.Value, Rounding);
-        AssertEx.Within(direct.ConstantK.Estimated.DegreesCelsius, stage.DischargeTemperature!.ConstantK.Estimated.Value, Rounding);
+        AssertEx.Within(direct.ConstantK!.Estimated.DegreesCelsius, stage.DischargeTemperature!.ConstantK!.Estimated.Value, Rounding);
         AssertEx.Within(direct.TemperatureRise!.Kelvins, stage.TemperatureRise!.Value, Rounding);
         AssertEx.Within(direct.PolytropicEfficiency, stage.Efficiency.Polytropic, 1e-6);
-        AssertEx.Within(direct.KSuction, stage.Properties.KSuction, 1e-6);
+        AssertEx.Within(direct.KSuction, stage.Properties!.KSuction, 1e-6);
         Assert.True(stage.DischargeTemperature!.EstimatedUpperBound.Value > stage.DischargeTemperature!.Estimated.Value, "the lower efficiency bound gives the higher temperature");
         Assert.Equal("request", stage.Efficiency.Source);
     }

@@ -26,9 +26,9 @@ public sealed class LimitEnvelopeTests
                 },
             ],
         };
-        var response = new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch)).Response!;
+        var response = new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch) { Detail = AnswerDetail.Full }).Response!;
         var stage = response.Stages[0];
-        var byLimit = stage.Envelope!.ByLimit;
+        var byLimit = stage.Envelope!.ByLimit!;
 
         // R-API618-GEN (η = 1 on the internal ratio, 150 °C) and R-AIT (estimated, 150 °C) both limit this stage; the governing one is listed too.
         Assert.Contains(byLimit, l => l.RuleId == "R-API618-GEN" && l.Quantity == "isentropicInternal");

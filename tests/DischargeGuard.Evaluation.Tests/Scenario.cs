@@ -54,7 +54,8 @@ internal static class Scenario
         ],
     };
 
-    public static EvaluationContext Context(bool curve = false) => new(Guid.CreateVersion7(Scenario.FixedTime), FixedTime, curve);
+    /// <summary>The full answer: most tests here read what only it carries (each finding's basis, the per-limit envelope, the models side by side).</summary>
+    public static EvaluationContext Context(bool curve = false, AnswerDetail detail = AnswerDetail.Full) => new(Guid.CreateVersion7(Scenario.FixedTime), FixedTime, curve) { Detail = detail };
 
     public static EvaluationOutcome Run(EvaluationRequest request, bool curve = false) =>
         new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, Context(curve));

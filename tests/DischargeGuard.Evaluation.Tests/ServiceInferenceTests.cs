@@ -49,7 +49,7 @@ public sealed class ServiceInferenceTests
                 },
             ],
         };
-        var outcome = new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch));
+        var outcome = new EvaluationPipeline().Evaluate(request, TestRules.Snapshot, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch) { Detail = AnswerDetail.Full });
         Assert.Null(outcome.Problem);
         return outcome.Response!;
     }

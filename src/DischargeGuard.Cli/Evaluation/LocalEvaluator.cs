@@ -95,7 +95,7 @@ public sealed class LocalEvaluator : ICaseEvaluator
 
         var now = _time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
-        var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(id, now));
+        var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(id, now) { Detail = AnswerDetail.Full });
         if (outcome.Problem is { } problem)
         {
             var invalid = new CaseResult(proposalCase, ExitCodes.InvalidInput);

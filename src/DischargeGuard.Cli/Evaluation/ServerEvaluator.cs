@@ -82,7 +82,7 @@ public sealed class ServerEvaluator : ICaseEvaluator
         HttpResponseMessage response;
         try
         {
-            response = await _http.PostAsync(new Uri("v1/evaluations", UriKind.Relative), content, cancellationToken).ConfigureAwait(false);
+            response = await _http.PostAsync(new Uri("v1/evaluations?detail=full", UriKind.Relative), content, cancellationToken).ConfigureAwait(false);
         }
         catch (Exception ex) when (ex is HttpRequestException or TaskCanceledException or IOException)
         {

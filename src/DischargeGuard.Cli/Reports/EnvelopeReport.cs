@@ -54,8 +54,12 @@ public static class EnvelopeReport
                 }
 
                 w.WriteLine($"    governing rule {e.GoverningRule}: highest discharge pressure {Format.Q(e.MaxDischargePressure)} (absolute), highest suction temperature {Format.Q(e.MaxSuctionTemperature)}");
-                w.WriteLine("    " + e.Note);
-                if (e.ByLimit.Count > 0)
+                if (e.Note is { } note)
+                {
+                    w.WriteLine("    " + note);
+                }
+
+                if (e.ByLimit is { Count: > 0 })
                 {
                     var table = new TextTable("rule", "checks", "limit", "max P2/P1", "max discharge pressure (absolute)", "status");
                     foreach (var l in e.ByLimit)

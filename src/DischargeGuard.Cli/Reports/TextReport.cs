@@ -126,7 +126,7 @@ public static class TextReport
     // Which model the stage's temperatures come from and why, the other models' answers, Z, and the defaulted k_ij pairs.
     private static string RealGasLine(StageDto s)
     {
-        var z = $"Z {Format.N(s.Properties.ZSuction, "0.0000")} → {Format.N(s.Properties.ZDischarge, "0.0000")}";
+        var z = s.Properties is { } props ? $"Z {Format.N(props.ZSuction, "0.0000")} → {Format.N(props.ZDischarge, "0.0000")}" : "Z not given";
         if (s.RealGas is not { } rg)
         {
             return $"{s.Method}, {z}";

@@ -38,8 +38,17 @@ public sealed record EvaluationResponse
     /// <summary>Per stage.</summary>
     public required IReadOnlyList<StageDto> Stages { get; init; }
 
-    /// <summary>Every stage's findings together, each with its stage index.</summary>
-    public required IReadOnlyList<FindingDto> Findings { get; init; }
+    /// <summary>
+    /// The limit that decides the answer, by reference: the stage with the worst verdict and, among those, the smallest
+    /// margin, its governing rule and that margin. The finding itself is listed once, under its stage.
+    /// </summary>
+    public GoverningSummaryDto? Governing { get; init; }
+
+    /// <summary>The barometric pressure used to turn gauge pressures into absolute ones (from the site's barometric pressure or elevation).</summary>
+    public QuantityDto? BarometricPressure { get; init; }
+
+    /// <summary>How much the answer carries: <c>compact</c> (the default) or <c>full</c> (<c>?detail=full</c>: each rule's basis, the per-limit envelope, the gas models side by side).</summary>
+    public string Detail { get; init; } = "compact";
 
     /// <summary>Cautions that always apply to this answer.</summary>
     public required IReadOnlyList<string> Cautions { get; init; }
@@ -63,11 +72,12 @@ public sealed record RuleSetDto(string Digest, IReadOnlyList<LayerDto> Layers)
     /// <summary>The answer's rule set from a request's layer resolution.</summary>
     /// <param name="resolution">A resolution that was not refused.</param>
     /// <returns>The DTO.</returns>
-    public static RuleSetDto Of(Rules.Provider.LayerResolution resolution)
+    /// <param name="withLayerDigests">Whether each layer carries its own digest (the full answer and the rules endpoint).</param>
+    public static RuleSetDto Of(Rules.Provider.LayerResolution resolution, bool withLayerDigests = true)
     {
         ArgumentNullException.ThrowIfNull(resolution);
         var set = resolution.Set ?? throw new ArgumentException("The resolution was refused.", nameof(resolution));
-        return new RuleSetDto(set.Digest, set.Layers.Select(l => new LayerDto(l.Name, l.Digest)).ToArray())
+        return new RuleSetDto(set.Digest, set.Layers.Select(l => new LayerDto(l.Name, withLayerDigests ? l.Digest : null)).ToArray())
         {
             Applied = resolution.Applied,
             Unmatched = resolution.Unmatched.Count == 0 ? null
@@ -86,7 +96,13 @@ public sealed record UnmatchedLayerDto(string Field, string Id, string? NearestL
 /// <summary>A rule layer.</summary>
 /// <param name="Name">Layer name (default, site:&lt;id&gt;, asset:&lt;tag&gt;).</param>
 /// <param name="Digest">SHA-256 (hex) of the layer's normalised content.</param>
-public sealed record LayerDto(string Name, string Digest);
+public sealed record LayerDto(string Name, string? Digest = null);
+
+/// <summary>The answer's governing limit, by reference to the stage that holds its finding.</summary>
+/// <param name="Stage">Zero-based index of the stage.</param>
+/// <param name="RuleId">The governing rule (its finding is under <c>stages[stage].findings</c>).</param>
+/// <param name="Margin">Its margin (negative when exceeded).</param>
+public sealed record GoverningSummaryDto(int Stage, string RuleId, QuantityDto? Margin);
 
 /// <summary>The gas as evaluated (after humidity was added).</summary>
 /// <param name="MolarMass">Molar mass.</param>
@@ -123,7 +139,7 @@ public sealed record StageDto
     public QuantityDto? TemperatureRise { get; init; }
 
     /// <summary>k and Z.</summary>
-    public required PropertiesDto Properties { get; init; }
+    public PropertiesDto? Properties { get; init; }
 
     /// <summary>Specific work; null when the stage was not evaluated.</summary>
     public SpecificWorkDto? SpecificWork { get; init; }
@@ -221,11 +237,19 @@ public sealed record MeasuredDto(QuantityDto DischargeTemperature, QuantityDto M
 /// <summary>A state with pressure and temperature.</summary>
 /// <param name="PressureAbsolute">Absolute pressure.</param>
 /// <param name="Temperature">Temperature.</param>
-public sealed record StateDto(QuantityDto PressureAbsolute, QuantityDto Temperature);
+public sealed record StateDto(QuantityDto PressureAbsolute, QuantityDto Temperature)
+{
+    /// <summary>The pressure in the unit and basis the caller typed (a gauge pressure stays gauge, with the answer's barometricPressure).</summary>
+    public QuantityDto? PressureAsTyped { get; init; }
+}
 
 /// <summary>The discharge state.</summary>
 /// <param name="PressureAbsolute">Absolute pressure.</param>
-public sealed record DischargeStateDto(QuantityDto PressureAbsolute);
+public sealed record DischargeStateDto(QuantityDto PressureAbsolute)
+{
+    /// <summary>The pressure in the unit and basis the caller typed (a gauge pressure stays gauge, with the answer's barometricPressure).</summary>
+    public QuantityDto? PressureAsTyped { get; init; }
+}
 
 /// <summary>Efficiencies.</summary>
 /// <param name="Isentropic">Isentropic efficiency (given, default or equivalent).</param>
@@ -260,7 +284,7 @@ public sealed record CalibrationDto(
 /// <param name="EstimatedUpperBound">The estimate at the lower efficiency bound.</param>
 /// <param name="EstimatedLowerBound">The estimate at the upper efficiency bound.</param>
 /// <param name="ConstantK">The constant-k estimate beside it.</param>
-public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto ConstantK)
+public sealed record DischargeTemperatureDto(QuantityDto Isentropic, QuantityDto Estimated, QuantityDto EstimatedUpperBound, QuantityDto EstimatedLowerBound, ConstantKDto? ConstantK = null)
 {
     /// <summary>
     /// The η = 1 prediction on the internal cylinder ratio (flange pressures widened by the compressor type's valve-loss
@@ -322,7 +346,14 @@ public sealed record GoverningDto(string RuleId, string Quantity, QuantityDto Li
 /// <param name="Note">Why a bound is missing, or how it was found.</param>
 /// <param name="ByLimit">For each violation-level temperature limit that applied, the highest pressure ratio and discharge
 /// pressure before it is reached at this stage's suction temperature (the R-RATIO report), governing or not.</param>
-public sealed record EnvelopeDto(QuantityDto? MaxDischargePressure, QuantityDto? MaxSuctionTemperature, string GoverningRule, string Note, IReadOnlyList<LimitEnvelopeDto> ByLimit);
+public sealed record EnvelopeDto(QuantityDto? MaxDischargePressure, QuantityDto? MaxSuctionTemperature, string GoverningRule, string? Note = null, IReadOnlyList<LimitEnvelopeDto>? ByLimit = null)
+{
+    /// <summary>The highest discharge pressure in the unit and basis the caller typed the stage's discharge pressure in.</summary>
+    public QuantityDto? MaxDischargePressureAsTyped { get; init; }
+
+    /// <summary>What the envelope holds fixed while it moves this stage: <c>other-stages</c>.</summary>
+    public string HeldFixed { get; init; } = "other-stages";
+}
 
 /// <summary>How far one limit lets the stage's pressure ratio rise.</summary>
 /// <param name="RuleId">The rule.</param>
@@ -336,9 +367,6 @@ public sealed record LimitEnvelopeDto(string RuleId, string Quantity, QuantityDt
 /// <summary>One finding.</summary>
 public sealed record FindingDto
 {
-    /// <summary>Stage index (in the response-level list).</summary>
-    public int? Stage { get; init; }
-
     /// <summary>Rule id.</summary>
     public required string RuleId { get; init; }
 
@@ -351,7 +379,7 @@ public sealed record FindingDto
     /// <summary>The quantity checked.</summary>
     public required string Quantity { get; init; }
 
-    /// <summary>The checked value.</summary>
+    /// <summary>The checked value (in the full answer; in the compact one it is the limit less the margin, or the stage's temperature of that quantity).</summary>
     public QuantityDto? Value { get; init; }
 
     /// <summary>The effective limit.</summary>
@@ -360,17 +388,17 @@ public sealed record FindingDto
     /// <summary>Limit minus value for an upper limit (value minus limit for a lower one): positive inside, negative beyond.</summary>
     public QuantityDto? Margin { get; init; }
 
-    /// <summary>The published source or "common practice, no single source" or "from memory — verify".</summary>
-    public required string Basis { get; init; }
+    /// <summary>The published source or "common practice, no single source" or "from memory — verify" (full answer; always in the archived rule set of the answer's digest).</summary>
+    public string? Basis { get; init; }
 
-    /// <summary>The layer that set the effective limit.</summary>
-    public required string Layer { get; init; }
+    /// <summary>The layer that set the effective limit (in the compact answer only when it is not the default layer).</summary>
+    public string? Layer { get; init; }
 
     /// <summary>Why a layer loosened the limit, when it did.</summary>
     public string? LoosenedReason { get; init; }
 
-    /// <summary>The message, which defers to local codes and the manufacturer.</summary>
-    public required string Message { get; init; }
+    /// <summary>The outcome in words, which defers to local codes and the manufacturer (in the compact answer for every finding but a pass).</summary>
+    public string? Message { get; init; }
 
     /// <summary>Extra explanation (e.g. how a derated limit was formed).</summary>
     public string? Note { get; init; }
@@ -390,7 +418,7 @@ public sealed record SetPointsDto(QuantityDto Normal, QuantityDto Alarm, Quantit
 /// <param name="RuleId">Rule id.</param>
 /// <param name="Missing">The request fields that were missing.</param>
 /// <param name="Reason">What to supply.</param>
-public sealed record NotCheckedDto(string RuleId, IReadOnlyList<string> Missing, string Reason);
+public sealed record NotCheckedDto(string RuleId, IReadOnlyList<string> Missing, string? Reason = null);
 
 /// <summary>A point on the discharge-temperature curve.</summary>
 /// <param name="DischargePressure">Absolute discharge pressure.</param>

@@ -1,46 +1,43 @@
-using System.Globalization;
-using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules;
 using DischargeGuard.Rules.Evaluation;
 using DischargeGuard.Rules.Model;
 using DischargeGuard.Thermo;
 using UnitsNet;
+using static DischargeGuard.Evaluation.Pipeline.ContractPaths;
 
 namespace DischargeGuard.Evaluation.Pipeline;
 
-/// <summary>An oil-flooded stage's energy balance: what it used and what it gave.</summary>
-internal sealed record FloodedStage(Temperature Suction, double OilToGasMassRatio, Temperature OilInlet, SpecificEnergy ShaftWork, Temperature Discharge, Temperature AdiabaticWithoutOil, string Source, string Basis);
-
-// Oil-flooded screws and vanes: the shaft work heats gas and injected oil together, which leave at one temperature.
-public sealed partial class EvaluationPipeline
+/// <summary>
+/// An oil-flooded stage's energy balance (screws and vanes): the shaft work heats gas and injected oil together, which
+/// leave at one temperature. What it used and what it gave.
+/// </summary>
+internal sealed record FloodedStage(Temperature Suction, double OilToGasMassRatio, Temperature OilInlet, SpecificEnergy ShaftWork, Temperature Discharge, Temperature AdiabaticWithoutOil, string Source, string Basis)
 {
-    /// <summary>Oil specific heat, J/(kg·K): about 2.0 kJ/(kg·K) for mineral and PAO compressor oils near 60–90 °C — common practice, no single source.</summary>
-    internal const double OilSpecificHeatJoulesPerKilogramKelvin = 2000;
-
-    private FloodedStage? FloodedOf(StageInput input, int index, EffectiveRuleSet rules, TrainStageResult s, (string Source, string? Basis) efficiencySource)
+    /// <summary>The oil balance of a stage that injects oil (by its request or its compressor type), or null.</summary>
+    public static FloodedStage? Of(BoundStage bound, EffectiveRuleSet rules, TrainStageResult s)
     {
+        var input = bound.Input;
         var type = input.Equipment?.CompressorType is { } id && rules.CompressorTypes.TryGetValue(id, out var t) ? t : null;
         if (input.OilInjection is null && type?.OilInjection is null)
         {
             return null;
         }
 
-        var path = string.Create(CultureInfo.InvariantCulture, $"stages[{index}].oilInjection");
+        var path = Stage(bound.Index) + ".oilInjection";
         double ratio;
         Temperature oilIn;
         string source;
         string basis;
-        var given = input.OilInjection;
-        if (given?.Flow is { } flowText)
+        var given = bound.Oil;
+        if (given?.Flow is { } oil)
         {
-            var oil = (MassFlow)Parse(flowText, Rules.Units.QuantityKind.MassFlow, path + ".flow").Quantity;
             if (s.MassFlow is not { } gasFlow)
             {
                 throw Invalid(path + ".flow", "An oil mass flow needs the gas mass flow to give the oil-to-gas ratio: give the request's flow (mass or standard volume).");
             }
 
             ratio = oil.KilogramsPerSecond / gasFlow.KilogramsPerSecond;
-            oilIn = ParseTemperature(given.InletTemperature ?? throw Invalid(path + ".inletTemperature", "An oil flow needs its inlet temperature."), path + ".inletTemperature");
+            oilIn = given.InletTemperature ?? throw Invalid(path + ".inletTemperature", "An oil flow needs its inlet temperature.");
             source = "request";
             basis = "oil flow and inlet temperature from the request";
         }
@@ -48,7 +45,7 @@ public sealed partial class EvaluationPipeline
         {
             var d = type?.OilInjection ?? throw Invalid(path + ".flow", "Give the oil mass flow with its inlet temperature: the compressor type has no package default for its oil injection.");
             ratio = d.OilToGasMassRatio;
-            oilIn = given?.InletTemperature is { } tIn ? ParseTemperature(tIn, path + ".inletTemperature") : d.InletTemperature;
+            oilIn = given?.InletTemperature ?? d.InletTemperature;
             source = "rule-default";
             basis = d.Basis;
         }
@@ -60,10 +57,9 @@ public sealed partial class EvaluationPipeline
 
         var work = s.Stage.SpecificActualWork;
         string? powerBasis = null;
-        if (given?.ShaftPower is { } powerText)
+        if (given?.ShaftPower is { } power)
         {
             // Shaft power over the gas mass flow is the specific work of the package (gas and oil leave together).
-            var power = (Power)Parse(powerText, Rules.Units.QuantityKind.Power, path + ".shaftPower").Quantity;
             if (s.MassFlow is not { } gasFlow)
             {
                 throw Invalid(path + ".shaftPower", "A shaft power needs the gas mass flow to give the specific work: give the request's flow (mass or standard volume).");
@@ -76,53 +72,34 @@ public sealed partial class EvaluationPipeline
             }
 
             work = SpecificEnergy.FromJoulesPerKilogram(watts / gasFlow.KilogramsPerSecond);
-            powerBasis = string.Create(CultureInfo.InvariantCulture, $"shaft work from the stated shaft power {watts / 1000:0.###} kW over the gas mass flow {gasFlow.KilogramsPerSecond:0.####} kg/s");
+            powerBasis = string.Create(System.Globalization.CultureInfo.InvariantCulture, $"shaft work from the stated shaft power {watts / 1000:0.###} kW over the gas mass flow {gasFlow.KilogramsPerSecond:0.####} kg/s");
         }
 
         Temperature t2;
         try
         {
-            t2 = FloodedStageSolver.Solve(s.Gas, s.Stage.SuctionTemperature, work, ratio, OilSpecificHeatJoulesPerKilogramKelvin, oilIn);
+            t2 = FloodedStageSolver.Solve(s.Gas, s.Stage.SuctionTemperature, work, ratio, EvaluationPipeline.OilSpecificHeatJoulesPerKilogramKelvin, oilIn);
         }
         catch (ThermoInputException ex)
         {
             throw Unprocessable(path, ex.Reason);
         }
 
+        var efficiencySource = bound.EfficiencySource;
         var workBasis = powerBasis ?? (efficiencySource.Source == "rule-default"
             ? "shaft work from the compressor type's default efficiency (rule file, a default): " + efficiencySource.Basis
             : "shaft work from the " + efficiencySource.Source + " efficiency");
         return new FloodedStage(s.Stage.SuctionTemperature, ratio, oilIn, work, t2, s.Stage.EstimatedDischargeTemperature, source,
-            $"{basis}; oil cp {OilSpecificHeatJoulesPerKilogramKelvin / 1000:0.0} kJ/(kg·K) (common practice, no single source); {workBasis}");
+            System.FormattableString.Invariant($"{basis}; oil cp {EvaluationPipeline.OilSpecificHeatJoulesPerKilogramKelvin / 1000:0.0} kJ/(kg·K) (common practice, no single source); {workBasis}"));
     }
 
-    private static StageFacts WithFlooded(StageFacts facts, FloodedStage? flooded) =>
+    /// <summary>The facts with the oil balance's estimate.</summary>
+    public static StageFacts WithFlooded(StageFacts facts, FloodedStage? flooded) =>
         flooded is null ? facts : facts with { Estimated = flooded.Discharge, Cooled = true };
 
-    private static IEnvelopeCalculator EnvelopeWithFlooded(IEnvelopeCalculator inner, FloodedStage? flooded) =>
+    /// <summary>The stage's envelope calculator: none for the estimate of a flooded stage.</summary>
+    public static IEnvelopeCalculator Envelope(IEnvelopeCalculator inner, FloodedStage? flooded) =>
         flooded is null ? inner : new FloodedEnvelopeCalculator(inner);
-
-    private static StageDto WithFlooded(StageDto stage, FloodedStage? flooded, OutputUnitSystem u)
-    {
-        if (flooded is null || stage.DischargeTemperature is not { } temps)
-        {
-            return stage;
-        }
-
-        var t2 = u.Temperature(flooded.Discharge);
-        return stage with
-        {
-            DischargeTemperature = temps with
-            {
-                Estimated = t2,
-                EstimatedLowerBound = t2,
-                Flooded = new FloodedDto(
-                    Math.Round(flooded.OilToGasMassRatio, 6), u.Temperature(flooded.OilInlet), OilSpecificHeatJoulesPerKilogramKelvin / 1000,
-                    u.SpecificEnergy(flooded.ShaftWork), u.Temperature(flooded.AdiabaticWithoutOil), flooded.Source, flooded.Basis),
-            },
-            TemperatureRise = u.DifferenceKelvin(flooded.Discharge.Kelvins - flooded.Suction.Kelvins),
-        };
-    }
 
     /// <summary>The estimate of a flooded stage comes from the oil balance, which the Thermo envelope solver does not model.</summary>
     private sealed class FloodedEnvelopeCalculator(IEnvelopeCalculator inner) : IEnvelopeCalculator
