@@ -7,6 +7,7 @@ using DischargeGuard.Api.Infrastructure;
 using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
 using DischargeGuard.Rules.Provider;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.AspNetCore.Mvc;
@@ -55,6 +56,7 @@ internal static partial class BatchApi
     internal static async Task<IResult> EvaluateBatchAsync(
         HttpContext http,
         [FromQuery] bool? curve,
+        [FromQuery] string? detail,
         IRuleSetProvider rules,
         EvaluationRunner runner,
         IAuditStore audit,
@@ -66,6 +68,11 @@ internal static partial class BatchApi
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
+        if (!EvaluationsApi.TryDetail(detail, out var answerDetail, out var detailProblem))
+        {
+            return detailProblem;
+        }
+
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations.Batch");
         var contentType = http.Request.ContentType ?? string.Empty;
         var ndjsonIn = IsMediaType(contentType, Ndjson);
@@ -92,7 +99,7 @@ internal static partial class BatchApi
         }
 
         var ndjsonOut = ndjsonIn ? !AcceptsOnly(http, "application/json") : AcceptsOnly(http, Ndjson);
-        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, histories, telemetry, loggers.CreateLogger(ItemLogCategory), keys.ScopeOf(http.User));
+        var context = new BatchContext(http, rules.Current, runner, audit, EvaluationsApi.CallerOf(http), curve == true, json.Value.SerializerOptions, histories, telemetry, loggers.CreateLogger(ItemLogCategory), keys.ScopeOf(http.User), answerDetail);
         var counts = new int[6];
         var timing = new BatchTiming();
         ResultWriter? writer = null;
@@ -389,7 +396,8 @@ internal static partial class BatchApi
         HistoryReader Histories,
         ServiceTelemetry Telemetry,
         ILogger Logger,
-        KeyScope Scope);
+        KeyScope Scope,
+        AnswerDetail Detail);
 
     private sealed class BatchTiming
     {
@@ -473,7 +481,7 @@ internal static partial class BatchApi
                 // their failures, come after).
                 try
                 {
-                    chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i], scope: c.Scope);
+                    chunk.Results[i] = c.Runner.Run(request, chunk.Items[i].Json.ToArray(), c.Rules, c.Caller, c.Curve, histories[i], scope: c.Scope, detail: c.Detail);
                 }
                 catch (Exception e) when (e is not OperationCanceledException)
                 {

@@ -56,7 +56,7 @@ internal sealed class EvaluationRunner(
     }
 
     /// <summary>Evaluates a request that has been read and validated.</summary>
-    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null, KeyScope? scope = null)
+    public RunResult Run(EvaluationRequest request, byte[] requestBytes, RuleSetSnapshot snapshot, string caller, bool curve, AssetHistory? history = null, Guid? replayOf = null, KeyScope? scope = null, AnswerDetail detail = AnswerDetail.Compact)
     {
         // A key bound to sites (and assets) evaluates only inside them: refused before anything is computed or stored.
         if (scope is not null && !scope.MayPost(request.Asset, request.Site?.Id))
@@ -83,7 +83,7 @@ internal sealed class EvaluationRunner(
 
         var now = time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
-        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages });
+        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages, Detail = detail });
         if (outcome.Problem is { } problem)
         {
             return RunResult.Refused(problem.Kind == ProblemKind.InvalidRequest

@@ -24,6 +24,8 @@ public static partial class EvaluationsApi
             .WithName("CreateEvaluation")
             .WithSummary("Evaluate a proposed stage or train; the answer is recorded in the audit store before it is sent.")
             .WithDescription("Quantities are strings \"<number> <unit>\" or {\"value\", \"unit\"}; state pressures state their basis. "
+                + "The answer is compact: each finding once, under its stage, with its limit, margin and outcome wording; add ?detail=full for each rule's basis, "
+                + "the envelope per limit and the gas models side by side (the basis is also in the archived rule set of the answer's digest). "
                 + "Add ?curve=true for the discharge-temperature curve per stage. A rule violation is a 200 with verdict \"fail\".")
             .Accepts<EvaluationRequest>("application/json")
             .WithValidation<EvaluationRequest>()
@@ -54,12 +56,35 @@ public static partial class EvaluationsApi
         return group;
     }
 
+    /// <summary>Reads <c>?detail=</c>: absent or <c>compact</c> for the compact answer, <c>full</c> for everything; anything else is the field's 400.</summary>
+    internal static bool TryDetail(string? detail, out AnswerDetail value, out ValidationProblem problem)
+    {
+        problem = null!;
+        switch (detail)
+        {
+            case null or "compact":
+                value = AnswerDetail.Compact;
+                return true;
+            case "full":
+                value = AnswerDetail.Full;
+                return true;
+            default:
+                value = AnswerDetail.Compact;
+                problem = Problems.Validation(new Dictionary<string, string[]>(StringComparer.Ordinal)
+                {
+                    ["detail"] = [$"'{detail}' is not an answer detail. Accepted values: compact (the default), full."],
+                });
+                return false;
+        }
+    }
+
     // The endpoint tag of the single evaluation in metrics.
     private const string Endpoint = "single";
 
     internal static async Task<Results<Utf8JsonResult<EvaluationResponse>, ValidationProblem, ProblemHttpResult>> Evaluate(
         [FromBody] EvaluationRequest request,
         [FromQuery] bool? curve,
+        [FromQuery] string? detail,
         HttpContext http,
         IRuleSetProvider rules,
         EvaluationRunner runner,
@@ -72,6 +97,11 @@ public static partial class EvaluationsApi
         ILoggerFactory loggers)
     {
         var started = Stopwatch.GetTimestamp();
+        if (!TryDetail(detail, out var answerDetail, out var detailProblem))
+        {
+            return detailProblem;
+        }
+
         var logger = loggers.CreateLogger("DischargeGuard.Evaluations");
         await storage.CheckAsync(http.RequestAborted).ConfigureAwait(false);
         AssetHistory? history;
@@ -91,7 +121,7 @@ public static partial class EvaluationsApi
         RunResult result;
         using (var span = ServiceTelemetry.Source.StartActivity("evaluate"))
         {
-            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history, scope: keys.ScopeOf(http.User));
+            result = runner.Run(request, body, rules.Current, CallerOf(http), curve == true, history, scope: keys.ScopeOf(http.User), detail: answerDetail);
             span?.SetTag("dischargeguard.evaluation.id", result.Record?.Id.ToString());
             span?.SetTag("dischargeguard.verdict", result.Response?.Verdict);
             span?.SetTag("dischargeguard.rules.digest", result.Response?.RuleSet.Digest);

@@ -272,7 +272,8 @@ internal static partial class ReplayApi
             {
                 if (Text(f, "ruleId") is { } id)
                 {
-                    result[id] = (Text(f, "severity"), Text(f, "layer"));
+                    // The compact answer names a finding's layer only when it is not the default one.
+                    result[id] = (Text(f, "severity"), Text(f, "layer") ?? "default");
                 }
             }
         }
