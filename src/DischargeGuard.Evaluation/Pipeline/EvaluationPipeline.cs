@@ -257,7 +257,7 @@ public sealed partial class EvaluationPipeline
     /// <summary>Dry-basis hydrocarbon mole fraction from which a gas is read as hydrocarbon service (common practice, no single source).</summary>
     internal const double HydrocarbonShare = 0.5;
 
-    private static readonly string[] Hydrocarbons = ["CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12", "n-C6H14", "C2H4", "C3H6"];
+    private static readonly string[] Hydrocarbons = ["CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12", "n-C6H14", "n-C7H16", "n-C8H18", "n-C9H20", "n-C10H22", "C2H4", "C3H6"];
 
     // The declared service plus the classes the composition makes obvious: the air and hydrocarbon rules must not depend
     // on the caller remembering to declare them.
