@@ -7,11 +7,11 @@ namespace DischargeGuard.Api.Tests;
 
 public sealed class CatalogueAndHealthTests(ServiceFactory factory) : IClassFixture<ServiceFactory>
 {
-    // The 25 species of the gas data (README, Data).
+    // The 29 species of the gas data (README, Data).
     private static readonly string[] Species =
     [
         "N2", "O2", "Ar", "CO2", "H2O", "CO", "H2", "He", "CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12",
-        "n-C6H14", "C2H4", "C3H6", "H2S", "NH3", "SO2", "Ne", "Kr", "Cl2", "C2H2",
+        "n-C6H14", "n-C7H16", "n-C8H18", "n-C9H20", "n-C10H22", "C2H4", "C3H6", "H2S", "NH3", "SO2", "Ne", "Kr", "Cl2", "C2H2",
     ];
 
     [Fact]

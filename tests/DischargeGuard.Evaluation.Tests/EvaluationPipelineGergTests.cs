@@ -169,4 +169,61 @@ public class EvaluationPipelineGergTests
         // The envelope pressure is reported in kPa to its rounding; 0.05 K covers it (CO2 near 90 bar: ~0.5 K per bar).
         AssertEx.Within(stage.Governing.Limit!.Value, t.DegreesCelsius, 0.05, "GERG-2008 governing temperature at the envelope pressure");
     }
+
+    // The AGA 8 example gas of NIST's AGA8 code, all 21 GERG-2008 components including n-heptane … n-decane
+    // (usnistgov/AGA8@3bdb9ab8ff AGA8CODE/AGA8.XLS, sheet 'Property Examples', and AGA8CODE/C/GERG2008_test_01.cpp).
+    private static readonly Dictionary<string, double> Aga8GasC = new()
+    {
+        ["CH4"] = 0.77824, ["N2"] = 0.02, ["CO2"] = 0.06, ["C2H6"] = 0.08, ["C3H8"] = 0.03, ["i-C4H10"] = 0.0015,
+        ["n-C4H10"] = 0.003, ["i-C5H12"] = 0.0005, ["n-C5H12"] = 0.00165, ["n-C6H14"] = 0.00215, ["n-C7H16"] = 0.00088,
+        ["n-C8H18"] = 0.00024, ["n-C9H20"] = 0.00015, ["n-C10H22"] = 0.00009, ["H2"] = 0.004, ["O2"] = 0.005, ["CO"] = 0.002,
+        ["H2O"] = 0.0001, ["H2S"] = 0.0025, ["He"] = 0.007, ["Ar"] = 0.001,
+    };
+
+    [Theory]
+    // GERG-2008 compressibility of that gas from the NIST VB code, cached in AGA8.XLS sheet 'Property Examples' to
+    // 6 digits: 100 °F and 2000 psia (310.9277778 K, 13789.51459 kPa) Z = 0.776756 (cells E56:F57, F61:F75). The
+    // sheet's 32 °F/1200 psia and 60 °F/150 psia examples are not used: there Peng-Robinson puts the suction inside the
+    // gas's hydrocarbon dew point (its nonane and decane), and the pipeline then computes no real gas.
+    [InlineData("100 °F", "13789.51459 kPa(a)", "20000 kPa(a)", 0.776756)]
+    public void Gerg_WhenTheGasCarriesHeptaneToDecane_EvaluatesWithTheNistCompressibilityAtSuction(string t1, string p1, string p2, double nistZ)
+    {
+        var response = Evaluate(Request(Aga8GasC, "gerg-2008", p1, t1, p2));
+        var stage = response.Stages[0];
+
+        Assert.Equal("gerg-2008", response.Method);
+        Assert.Equal("gerg-2008", stage.RealGas!.Model);
+        foreach (var id in new[] { "n-C7H16", "n-C8H18", "n-C9H20", "n-C10H22" })
+        {
+            Assert.Equal(Aga8GasC[id], response.Gas.Composition[id], 1e-9);
+        }
+
+        AssertEx.Within(nistZ, stage.Properties.ZSuction, 1.5e-6, "Z at suction (GERG-2008, NIST AGA8.XLS)");
+
+        // The stage answer is the Thermo GERG-2008 stage solve of the same catalogue mixture.
+        var direct = RealGasStageSolver.Solve(
+            Gerg2008Mixture.Create(GasCatalog.Default.CreateMixture(Aga8GasC, CompositionBasis.Mole)),
+            new StageConditions(
+                Pressure.FromKilopascals(stage.Suction.PressureAbsolute.Value),
+                Temperature.FromDegreesFahrenheit(100),
+                Pressure.FromKilopascals(double.Parse(p2.Split(' ')[0], System.Globalization.CultureInfo.InvariantCulture)),
+                StageEfficiency.Isentropic(0.80)));
+        AssertEx.Within(direct.EstimatedDischargeTemperature.DegreesCelsius, stage.DischargeTemperature!.Estimated.Value, 0.0006, "estimated T2 = GERG-2008 stage solve");
+    }
+
+    [Fact]
+    public void Auto_WhenHeavyAlkanesTakeTheHydrocarbonShareOverHalf_ReadsTheGasAsHydrocarbonService()
+    {
+        // N2 0.48, CH4 0.45 and 7 % n-heptane … n-decane: 52 % hydrocarbon with them, 45 % without, against the 50 %
+        // threshold (common practice, no single source). 1.2 → 3 bar(a) from 40 °C keeps every alkane below its vapour
+        // pressure (n-heptane 12.3 kPa at 40 °C, NIST Chemistry WebBook — from memory — verify; partial pressure 7.2 kPa).
+        var gas = new Dictionary<string, double>
+        {
+            ["N2"] = 0.48, ["CH4"] = 0.45, ["n-C7H16"] = 0.06, ["n-C8H18"] = 0.008, ["n-C9H20"] = 0.001, ["n-C10H22"] = 0.001,
+        };
+
+        var response = Evaluate(Request(gas, "auto", "1.2 bara", "40 °C", "3 bara"));
+
+        Assert.Contains("hydrocarbon", response.Gas.ServiceClasses);
+    }
 }

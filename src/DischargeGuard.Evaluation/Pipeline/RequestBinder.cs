@@ -23,7 +23,7 @@ internal sealed class RequestBinder(UnitVocabulary units)
     private const string ExponentNote =
         "The measured duty lies at or below the isentropic temperature of a cooled stage: heat left the gas, so no efficiency describes it. The apparent polytropic exponent fitted there, T2/T1 = r^((n−1)/n), is applied at the proposed duty (it assumes the cooling removes a similar share of the heat at both duties — common practice, no single source). Work and power shown are the adiabatic η = 1 values.";
 
-    private static readonly string[] Hydrocarbons = ["CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12", "n-C6H14", "C2H4", "C3H6"];
+    private static readonly string[] Hydrocarbons = ["CH4", "C2H6", "C3H8", "n-C4H10", "i-C4H10", "n-C5H12", "i-C5H12", "n-C6H14", "n-C7H16", "n-C8H18", "n-C9H20", "n-C10H22", "C2H4", "C3H6"];
 
     /// <summary>Binds a request against the rule snapshot; throws <see cref="RequestProblemException"/> on the first bad field.</summary>
     public EvaluationInput Bind(EvaluationRequest request, RuleSetSnapshot snapshot)
