@@ -21,7 +21,7 @@ public sealed class GergMethodEndpointTests(ServiceFactory factory) : IClassFixt
     [Fact]
     public async Task Evaluate_WhenMethodIsGerg2008_TheStageNamesTheModelWithBothOthersBeside()
     {
-        using var response = await factory.EvaluateAsync(Methane("25 bara", "60 bara"));
+        using var response = await factory.EvaluateAsync(Methane("25 bara", "60 bara"), "?detail=full");
         var body = await Json.ReadAsync(response);
 
         Assert.Equal(HttpStatusCode.OK, response.StatusCode);

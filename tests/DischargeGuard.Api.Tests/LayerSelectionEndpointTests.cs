@@ -155,10 +155,10 @@ public sealed class LayerSelectionEndpointTests(ServiceFactory factory) : IClass
     [Fact]
     public async Task Evaluate_WhenAssetLayerSetsTheLimit_FindingsBasisIsTheLayersNotTheDefaults()
     {
-        using var response = await factory.EvaluateAsync(Methane("C-204B"));
+        using var response = await factory.EvaluateAsync(Methane("C-204B"), "?detail=full");
         Assert.Equal(HttpStatusCode.OK, response.StatusCode);
         var body = await Json.ReadAsync(response);
-        var finding = body.GetProperty("findings").EnumerateArray().Single(f => f.GetProperty("ruleId").GetString() == "R-FIELD-HC");
+        var finding = body.At("stages[0].findings").EnumerateArray().Single(f => f.GetProperty("ruleId").GetString() == "R-FIELD-HC");
         Assert.Equal(170, AssertEx.Quantity(finding.GetProperty("limit"), "°C", "limit"), 3);
         Assert.Equal("asset:C-204B", finding.GetProperty("layer").GetString());
         Assert.DoesNotContain("177", finding.GetProperty("basis").GetString(), StringComparison.Ordinal);

@@ -72,12 +72,11 @@ public sealed record RuleSetDto(string Digest, IReadOnlyList<LayerDto> Layers)
     /// <summary>The answer's rule set from a request's layer resolution.</summary>
     /// <param name="resolution">A resolution that was not refused.</param>
     /// <returns>The DTO.</returns>
-    /// <param name="withLayerDigests">Whether each layer carries its own digest (the full answer and the rules endpoint).</param>
-    public static RuleSetDto Of(Rules.Provider.LayerResolution resolution, bool withLayerDigests = true)
+    public static RuleSetDto Of(Rules.Provider.LayerResolution resolution)
     {
         ArgumentNullException.ThrowIfNull(resolution);
         var set = resolution.Set ?? throw new ArgumentException("The resolution was refused.", nameof(resolution));
-        return new RuleSetDto(set.Digest, set.Layers.Select(l => new LayerDto(l.Name, withLayerDigests ? l.Digest : null)).ToArray())
+        return new RuleSetDto(set.Digest, set.Layers.Select(l => new LayerDto(l.Name, l.Digest)).ToArray())
         {
             Applied = resolution.Applied,
             Unmatched = resolution.Unmatched.Count == 0 ? null
@@ -96,7 +95,7 @@ public sealed record UnmatchedLayerDto(string Field, string Id, string? NearestL
 /// <summary>A rule layer.</summary>
 /// <param name="Name">Layer name (default, site:&lt;id&gt;, asset:&lt;tag&gt;).</param>
 /// <param name="Digest">SHA-256 (hex) of the layer's normalised content.</param>
-public sealed record LayerDto(string Name, string? Digest = null);
+public sealed record LayerDto(string Name, string Digest);
 
 /// <summary>The answer's governing limit, by reference to the stage that holds its finding.</summary>
 /// <param name="Stage">Zero-based index of the stage.</param>
@@ -379,7 +378,7 @@ public sealed record FindingDto
     /// <summary>The quantity checked.</summary>
     public required string Quantity { get; init; }
 
-    /// <summary>The checked value (in the full answer; in the compact one it is the limit less the margin, or the stage's temperature of that quantity).</summary>
+    /// <summary>The checked value (in the compact answer for every finding but a pass, whose value is its limit less its margin).</summary>
     public QuantityDto? Value { get; init; }
 
     /// <summary>The effective limit.</summary>

@@ -38,7 +38,7 @@ public static class ResponseMapper
             Governing = result.Governing is { Governing: { } g } gs ? new GoverningSummaryDto(gs.Index, g.RuleId, g.Margin is { } m ? u.Reading(m) : null) : null,
             BarometricPressure = result.Barometer is { } b ? u.PressureAbsolute(b) : null,
             Detail = full ? "full" : "compact",
-            RuleSet = RuleSetDto.Of(result.Layers, withLayerDigests: full),
+            RuleSet = RuleSetDto.Of(result.Layers),
             Gas = new GasDto(
                 u.MolarMass(feed.MolarMass),
                 feed.Components.ToDictionary(c => c.Species.Id, c => Math.Round(c.MoleFraction, 8), StringComparer.Ordinal),
@@ -295,7 +295,7 @@ public static class ResponseMapper
         Title = f.Title,
         Severity = f.Severity.ToString().ToLowerInvariant(),
         Quantity = f.Quantity.ToName(),
-        Value = full && f.Value is { } v ? u.Reading(v) : null,
+        Value = (full || f.Severity != Severity.Pass) && f.Value is { } v ? u.Reading(v) : null,
         Limit = f.Limit is { } l ? u.Reading(l) : null,
         Margin = f.Margin is { } m ? u.Reading(m) : null,
         Basis = full ? f.Basis : null,

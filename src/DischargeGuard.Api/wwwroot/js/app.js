@@ -315,7 +315,7 @@ async function evaluate(event) {
   setStatus("Checking… no verdict yet.");
   try {
     const request = buildRequest(selectedGas());
-    const outcome = await call("POST", "/v1/evaluations?curve=true", request);
+    const outcome = await call("POST", "/v1/evaluations?curve=true&detail=full", request);
     body.replaceChildren();
     if (outcome.kind === "ok") {
       renderEvaluation(outcome.body, body);
