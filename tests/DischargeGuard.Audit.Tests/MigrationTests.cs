@@ -60,7 +60,7 @@ public sealed class MigrationTests : IAsyncLifetime
             foreach (var r in records)
             {
                 using var insert = raw.CreateCommand();
-                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditStore.BaseColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL);";
+                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditBackend.BaseColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL);";
                 insert.Parameters.AddWithValue("$id", r.Id.ToString());
                 insert.Parameters.AddWithValue("$at", AuditTime.Format(r.EvaluatedAt));
                 insert.Parameters.AddWithValue("$caller", r.Caller);

@@ -53,8 +53,8 @@ public sealed class PostgresAuditStoreTests(PostgresFixture fixture) : IAsyncLif
             await PostgresAuditSchema.MigrateAsync(raw, 3, CancellationToken.None);
             foreach (var r in records)
             {
-                var (at, tick) = PostgresAuditStore.SplitTicks(r.EvaluatedAt);
-                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditStore.BaseColumns + ") VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL);", raw);
+                var (at, tick) = PostgresAuditBackend.SplitTicks(r.EvaluatedAt);
+                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditBackend.BaseColumns + ") VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL);", raw);
                 insert.Parameters.AddWithValue("id", r.Id);
                 insert.Parameters.AddWithValue("at", at);
                 insert.Parameters.AddWithValue("tick", tick);
