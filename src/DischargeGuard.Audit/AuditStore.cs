@@ -351,6 +351,7 @@ public abstract class AuditStore : IAuditStore
         }
         catch (Exception e) when (IsFailure(e) || e is ArgumentException)
         {
+            _backend.OnReadFailure(e);
             RecordFailure(e.Message);
             throw new AuditStoreUnavailableException($"The room of the audit store could not be read: {e.Message}", e);
         }
