@@ -20,6 +20,14 @@ namespace DischargeGuard.Audit;
 /// verification recomputes from the bytes; so every byte of the row is covered.
 /// </para>
 /// <para>
+/// A record with stage summaries (<see cref="AuditRecord.Stages"/>) is hashed in version 2: the tag
+/// <c>dischargeguard-audit-record-v2\n</c>, the same fields, then the stage count as a big-endian 32-bit integer and per
+/// stage its index (big-endian 32-bit), verdict and governing rule id as fields, and each number as one byte (0 for null,
+/// 1 for a value) followed by its IEEE 754 binary64 bits big-endian, in the order margin, isentropic, estimated, suction
+/// pressure, discharge pressure, measured. A record without stages keeps version 1, so records written before stages
+/// existed verify unchanged, and removing or adding stages changes the hash.
+/// </para>
+/// <para>
 /// Retention grants are chained the same way among themselves (tag <c>dischargeguard-retention-grant-v1\n</c>), and each
 /// carries the anchor it removed up to: the sequence and hash of the last deleted record, from which the rest verifies.
 /// </para>
@@ -30,6 +38,7 @@ public static class AuditChain
     public static readonly string GenesisHash = new('0', 64);
 
     private static readonly byte[] RecordTag = "dischargeguard-audit-record-v1\n"u8.ToArray();
+    private static readonly byte[] RecordTagWithStages = "dischargeguard-audit-record-v2\n"u8.ToArray();
     private static readonly byte[] GrantTag = "dischargeguard-retention-grant-v1\n"u8.ToArray();
 
     /// <summary>The chained hash of <paramref name="record"/> at <paramref name="sequence"/> after <paramref name="previousHash"/>.</summary>
@@ -41,7 +50,8 @@ public static class AuditChain
     {
         ArgumentNullException.ThrowIfNull(record);
         using var hash = IncrementalHash.CreateHash(HashAlgorithmName.SHA256);
-        hash.AppendData(RecordTag);
+        var stages = record.Stages ?? [];
+        hash.AppendData(stages.Count == 0 ? RecordTag : RecordTagWithStages);
         Int64(hash, sequence);
         Field(hash, previousHash);
         Field(hash, record.Id.ToString("D", CultureInfo.InvariantCulture));
@@ -55,6 +65,23 @@ public static class AuditChain
         Field(hash, record.RequestSha256);
         Field(hash, record.ResponseSha256);
         Field(hash, record.ReplayOf?.ToString("D", CultureInfo.InvariantCulture));
+        if (stages.Count > 0)
+        {
+            Int32(hash, stages.Count);
+            foreach (var stage in stages)
+            {
+                Int32(hash, stage.Index);
+                Field(hash, stage.Verdict);
+                Field(hash, stage.GoverningRuleId);
+                Number(hash, stage.MarginKelvin);
+                Number(hash, stage.IsentropicKelvin);
+                Number(hash, stage.EstimatedKelvin);
+                Number(hash, stage.SuctionPressurePascal);
+                Number(hash, stage.DischargePressurePascal);
+                Number(hash, stage.MeasuredKelvin);
+            }
+        }
+
         return Convert.ToHexStringLower(hash.GetHashAndReset());
     }
 
@@ -84,6 +111,28 @@ public static class AuditChain
     {
         Span<byte> buffer = stackalloc byte[8];
         BinaryPrimitives.WriteInt64BigEndian(buffer, value);
+        hash.AppendData(buffer);
+    }
+
+    private static void Int32(IncrementalHash hash, int value)
+    {
+        Span<byte> buffer = stackalloc byte[4];
+        BinaryPrimitives.WriteInt32BigEndian(buffer, value);
+        hash.AppendData(buffer);
+    }
+
+    private static void Number(IncrementalHash hash, double? value)
+    {
+        Span<byte> buffer = stackalloc byte[9];
+        if (value is not { } v)
+        {
+            buffer[0] = 0;
+            hash.AppendData(buffer[..1]);
+            return;
+        }
+
+        buffer[0] = 1;
+        BinaryPrimitives.WriteDoubleBigEndian(buffer[1..], v);
         hash.AppendData(buffer);
     }
 

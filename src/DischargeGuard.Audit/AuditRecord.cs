@@ -70,6 +70,13 @@ public sealed record AuditRecord
     /// <summary>Lower-case hex SHA-256 of the whole row and <see cref="PreviousHash"/> (<see cref="AuditChain.RecordHash"/>). Set by the store; ignored on append.</summary>
     public string? RecordHash { get; init; }
 
+    /// <summary>
+    /// Per-stage SI figures of the evaluation (verdict, governing rule and margin, temperatures, pressures), stored with
+    /// the record and covered by its <see cref="RecordHash"/>, so a history reads them without the response bytes
+    /// (<see cref="IAuditStore.GetStageHistoryAsync"/>). Empty by default, and for records stored before the stores kept them.
+    /// </summary>
+    public IReadOnlyList<AuditStageSummary> Stages { get; init; } = [];
+
     /// <summary>The <see cref="Caller"/> of a request that presented no API key.</summary>
     public const string AnonymousCaller = "anonymous";
 }

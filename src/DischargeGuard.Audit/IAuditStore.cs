@@ -43,6 +43,47 @@ public interface IAuditStore : IAsyncDisposable
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
     IAsyncEnumerable<AuditRecord> QueryAsync(AuditQuery query, CancellationToken cancellationToken);
 
+    /// <summary>
+    /// The stage summaries (<see cref="AuditRecord.Stages"/>) of the newest records of one asset, newest first (by
+    /// evaluation time, then id), without reading their request or response bytes: what a trend over the asset's history
+    /// needs.
+    /// </summary>
+    /// <param name="query">
+    /// <see cref="AuditQuery.Asset"/> is required; <see cref="AuditQuery.SiteId"/>, <see cref="AuditQuery.To"/> (before this
+    /// instant, exclusive), the scope lists <see cref="AuditQuery.SiteIn"/> and <see cref="AuditQuery.AssetIn"/> and every
+    /// other filter and the cursor apply as in <see cref="QueryAsync"/>. <see cref="AuditQuery.Limit"/> is the number of
+    /// records N (1 to <see cref="AuditQuery.MaxPageSize"/>; <see cref="AuditQuery.DefaultPageSize"/> when null).
+    /// </param>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    /// <returns>
+    /// At most N entries, one per record (a record stored without stages has an empty list), each with its stages in
+    /// index order.
+    /// </returns>
+    /// <exception cref="ArgumentException">No asset, a bad cursor or verdict, or a limit outside 1 to <see cref="AuditQuery.MaxPageSize"/>.</exception>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
+    Task<IReadOnlyList<AuditStageHistoryEntry>> GetStageHistoryAsync(AuditQuery query, CancellationToken cancellationToken);
+
+    /// <summary>
+    /// Archives a rule set in canonical form under its digest, once: a digest already archived is left as it is (the first
+    /// write wins; the bytes of one digest are the same anyway). Archived rule sets are never changed or deleted, retention
+    /// included, so every stored <see cref="AuditRecord.RuleDigest"/> can be resolved to the rules that decided it.
+    /// </summary>
+    /// <param name="digest">Lower-case hex SHA-256 of <paramref name="canonical"/>, as the rules project computes it (<c>CanonicalForm.Digest</c>).</param>
+    /// <param name="canonical">The canonical UTF-8 JSON bytes (<c>CanonicalForm.OfMerged</c>), 1 byte to 16 MiB. Copied.</param>
+    /// <param name="cancellationToken">Cancels the wait (a write already started completes or rolls back whole).</param>
+    /// <returns>A task that completes when the rule set is durably archived (or was already).</returns>
+    /// <exception cref="ArgumentException">The digest is malformed, or is not the SHA-256 of the bytes: nothing is stored.</exception>
+    /// <exception cref="AuditStoreUnavailableException">The rule set was not stored: the store failed or is closed.</exception>
+    ValueTask ArchiveRuleSetAsync(string digest, ReadOnlyMemory<byte> canonical, CancellationToken cancellationToken);
+
+    /// <summary>The canonical bytes archived under <paramref name="digest"/>, checked against it.</summary>
+    /// <param name="digest">Lower-case hex SHA-256.</param>
+    /// <param name="cancellationToken">Cancels the read.</param>
+    /// <returns>The bytes exactly as archived, or <see langword="null"/> when none is archived under that digest.</returns>
+    /// <exception cref="ArgumentException">The digest is not 64 lower-case hex digits.</exception>
+    /// <exception cref="AuditStoreUnavailableException">The store could not be read, or the stored bytes no longer match the digest.</exception>
+    Task<byte[]?> GetRuleSetAsync(string digest, CancellationToken cancellationToken);
+
     /// <summary>Counts the records evaluated before <paramref name="before"/> (what a retention run would delete).</summary>
     /// <param name="before">The instant (exclusive).</param>
     /// <param name="cancellationToken">Cancels the count.</param>

@@ -9,7 +9,7 @@ namespace DischargeGuard.Audit.Tests;
 /// validation before queueing, append-only tables, group commit, keyset paging and filters, and health.
 /// Each provider runs it through a subclass that supplies a fresh, empty database per test.
 /// </summary>
-public abstract class AuditStoreContract : IAsyncLifetime
+public abstract partial class AuditStoreContract : IAsyncLifetime
 {
     private readonly List<IAuditStore> _stores = [];
 

@@ -60,7 +60,7 @@ public sealed class MigrationTests : IAsyncLifetime
             foreach (var r in records)
             {
                 using var insert = raw.CreateCommand();
-                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditStore.BaseColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL);";
+                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditBackend.BaseColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL);";
                 insert.Parameters.AddWithValue("$id", r.Id.ToString());
                 insert.Parameters.AddWithValue("$at", AuditTime.Format(r.EvaluatedAt));
                 insert.Parameters.AddWithValue("$caller", r.Caller);
@@ -98,6 +98,73 @@ public sealed class MigrationTests : IAsyncLifetime
 
         await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1)), CancellationToken.None);
         Assert.True((await store.VerifyChainAsync(CancellationToken.None)).Intact);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+    }
+
+    [Fact]
+    public async Task Open_WhenFileHasTheSchemaBeforeStages_MigratesKeepsEveryRecordByteIdenticalAndTheChainVerifies()
+    {
+        // A file as the build before stage summaries left it: schema 7 (the old DDL, applied by the same shipped steps),
+        // records chained by its writer's rules (version 1 hashes, checked by the chain trigger).
+        var records = Enumerable.Range(0, 4).Select(i => Sample.Record(at: Sample.Start.AddMinutes(i).AddTicks(i), asset: "C-204B", site: i % 2 == 0 ? "marlow-fen" : null)).ToArray();
+        using (var raw = _folder.OpenRaw())
+        {
+            Assert.Equal(Enumerable.Range(1, 7), AuditSchema.Migrate(raw, targetVersion: 7));
+            var previous = AuditChain.GenesisHash;
+            foreach (var (r, sequence) in records.Select((r, i) => (r, i + 1L)))
+            {
+                var stored = r with { RequestSha256 = AuditDigest.Sha256Hex(r.Request), ResponseSha256 = AuditDigest.Sha256Hex(r.Response) };
+                var hash = AuditChain.RecordHash(sequence, previous, stored);
+                using var insert = raw.CreateCommand();
+                insert.CommandText = "INSERT INTO evaluations (" + SqliteAuditBackend.ChainColumns + ") VALUES ($id, $at, $caller, $asset, $site, $verdict, $digest, $engine, $req, $reqh, $res, $resh, NULL, $seq, $prev, $hash);";
+                insert.Parameters.AddWithValue("$id", r.Id.ToString());
+                insert.Parameters.AddWithValue("$at", AuditTime.Format(r.EvaluatedAt));
+                insert.Parameters.AddWithValue("$caller", r.Caller);
+                insert.Parameters.AddWithValue("$asset", r.Asset);
+                insert.Parameters.AddWithValue("$site", (object?)r.SiteId ?? DBNull.Value);
+                insert.Parameters.AddWithValue("$verdict", r.Verdict);
+                insert.Parameters.AddWithValue("$digest", r.RuleDigest);
+                insert.Parameters.AddWithValue("$engine", r.EngineVersion);
+                insert.Parameters.AddWithValue("$req", r.Request);
+                insert.Parameters.AddWithValue("$reqh", stored.RequestSha256);
+                insert.Parameters.AddWithValue("$res", r.Response);
+                insert.Parameters.AddWithValue("$resh", stored.ResponseSha256);
+                insert.Parameters.AddWithValue("$seq", sequence);
+                insert.Parameters.AddWithValue("$prev", previous);
+                insert.Parameters.AddWithValue("$hash", hash);
+                insert.ExecuteNonQuery();
+                previous = hash;
+            }
+        }
+
+        var store = await _folder.OpenAsync();
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.Equal(AuditSchema.LatestVersion, _folder.Scalar("SELECT max(version) FROM schema_migrations;"));
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(4, verification.Records);
+        Assert.Equal(records.Length, _folder.Scalar("SELECT count(*) FROM evaluations WHERE stages IS NULL;"));
+        foreach (var record in records)
+        {
+            var read = await store.GetAsync(record.Id, CancellationToken.None);
+            Assert.Equal(record.Request, read!.Request);
+            Assert.Equal(record.Response, read.Response);
+            Assert.Equal(record.EvaluatedAt.UtcTicks, read.EvaluatedAt.UtcTicks);
+            Assert.Empty(read.Stages);
+        }
+
+        var history = await store.GetStageHistoryAsync(new AuditQuery { Asset = "C-204B" }, CancellationToken.None);
+        Assert.Equal(records.Reverse().Select(r => r.Id), history.Select(h => h.RecordId));
+        Assert.All(history, h => Assert.Empty(h.Stages));
+
+        // New records carry stages after the old ones, and the whole chain still verifies.
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1), asset: "C-204B") with
+        {
+            Stages = [new AuditStageSummary(0, AuditVerdict.Pass, null, null, 420, 431.5, 101_325, 400_000, null)],
+        }, CancellationToken.None);
+        var after = await store.VerifyChainAsync(CancellationToken.None);
+        Assert.True(after.Intact, after.FirstBreak?.Reason);
+        Assert.Equal(5, after.Records);
         Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
     }
 

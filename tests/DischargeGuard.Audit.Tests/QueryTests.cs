@@ -56,7 +56,7 @@ public sealed class QueryTests : IAsyncLifetime
     [InlineData(null, null, "ix_evaluations_time")]
     public void QueryPlan_WhenFilteredAndPaged_ScansIndexWithoutSorting(string? asset, string? verdict, string index)
     {
-        var plan = SqliteAuditStore.QueryPlan.Build(new AuditQuery
+        var plan = SqliteAuditBackend.QueryPlan.Build(new AuditQuery
         {
             Asset = asset,
             Verdict = verdict,

@@ -1,7 +1,6 @@
 using DischargeGuard.Api.Endpoints;
 using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
-using DischargeGuard.Audit.Sqlite;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
 using DischargeGuard.Evaluation.Validation;
@@ -78,27 +77,19 @@ public static class HostingExtensions
                     + "Set Audit:Provider=postgresql with Audit:ConnectionString, or run one replica.");
             }
 
-            if (settings.Provider == "postgresql")
-            {
-                if (string.IsNullOrWhiteSpace(settings.ConnectionString))
+            // The one place the backend is chosen (Audit:Provider); a relative SQLite path is under the content root.
+            // Opening migrates the schema; it runs once at start-up (the store is resolved eagerly below).
+            var sqlitePath = Path.IsPathRooted(settings.SqlitePath) ? settings.SqlitePath : Path.Combine(builder.Environment.ContentRootPath, settings.SqlitePath);
+            return AuditStore.OpenAsync(
+                new AuditStoreSettings
                 {
-                    throw new InvalidOperationException("Audit:ConnectionString must be set when Audit:Provider is 'postgresql'.");
-                }
-
-                var pgOptions = new DischargeGuard.Audit.Postgres.PostgresAuditStoreOptions
-                {
+                    Provider = settings.Provider,
+                    SqlitePath = sqlitePath,
                     ConnectionString = settings.ConnectionString,
                     MaxBatchSize = settings.MaxBatchSize,
                     MeterFactory = sp.GetRequiredService<System.Diagnostics.Metrics.IMeterFactory>(),
-                };
-                return DischargeGuard.Audit.Postgres.PostgresAuditStore.OpenAsync(pgOptions, CancellationToken.None).GetAwaiter().GetResult();
-            }
-
-            var path = Path.IsPathRooted(settings.SqlitePath) ? settings.SqlitePath : Path.Combine(builder.Environment.ContentRootPath, settings.SqlitePath);
-            var options = new AuditStoreOptions { SqlitePath = path, MaxBatchSize = settings.MaxBatchSize, MeterFactory = sp.GetRequiredService<System.Diagnostics.Metrics.IMeterFactory>() };
-
-            // Opening migrates the schema; it runs once at start-up (the store is resolved eagerly below).
-            return SqliteAuditStore.OpenAsync(options, CancellationToken.None).GetAwaiter().GetResult();
+                },
+                CancellationToken.None).GetAwaiter().GetResult();
         });
         builder.Services.AddSingleton<EvaluationPipeline>();
         builder.Services.AddSingleton<EvaluationRunner>();

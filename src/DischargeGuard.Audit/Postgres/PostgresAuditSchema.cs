@@ -93,6 +93,19 @@ internal static class PostgresAuditSchema
             DROP TRIGGER retention_grants_no_change ON retention_grants;
             """,
             PostgresGuards.CreateSql),
+        new(5, "per-stage summaries stored with each record, and the append-only archive of canonical rule sets by digest", """
+            -- NULL for a record without stages (every record written before this step), which keeps its version 1 hash.
+            -- NOT VALID: the rows already there are all NULL, so the table is not scanned; new rows are checked.
+            ALTER TABLE evaluations ADD COLUMN stages text;
+            ALTER TABLE evaluations ADD CONSTRAINT evaluations_stages_array CHECK (stages IS NULL OR jsonb_typeof(stages::jsonb) = 'array') NOT VALID;
+            CREATE TABLE rule_sets (
+                digest      text        NOT NULL PRIMARY KEY CHECK (digest ~ '^[0-9a-f]{64}$'),
+                canonical   bytea       NOT NULL CHECK (length(canonical) > 0),
+                archived_at timestamptz NOT NULL DEFAULT now(),
+                -- The server checks the digest too: an archived rule set whose bytes and digest disagree cannot be stored.
+                CONSTRAINT rule_sets_digest CHECK (digest = encode(sha256(canonical), 'hex'))
+            );
+            """ + PostgresGuards.RuleSetCreateSql),
     ];
 
     /// <summary>The version a database has after every step.</summary>

@@ -1,6 +1,5 @@
 using System.Globalization;
 using System.Text;
-using DischargeGuard.Audit.Sqlite;
 using Npgsql;
 using NpgsqlTypes;
 
@@ -81,6 +80,48 @@ internal static class PostgresGuards
             """),
     ];
 
+    /// <summary>The rule-set archive's function (migration 5), as <see cref="Functions"/>.</summary>
+    public static readonly IReadOnlyList<(string Name, string Body)> RuleSetFunctions =
+    [
+        ("rule_sets_append_only", """
+
+            BEGIN
+                RAISE EXCEPTION 'archived rule sets are append-only' USING ERRCODE = 'restrict_violation';
+            END;
+
+            """),
+    ];
+
+    /// <summary>The rule-set archive's triggers (migration 5), as <see cref="Triggers"/>.</summary>
+    public static readonly IReadOnlyList<(string Table, string Name, string Function, string When)> RuleSetTriggers =
+    [
+        ("rule_sets", "rule_sets_no_change", "rule_sets_append_only", "BEFORE UPDATE OR DELETE ON rule_sets FOR EACH ROW"),
+        ("rule_sets", "rule_sets_no_truncate", "rule_sets_append_only", "BEFORE TRUNCATE ON rule_sets FOR EACH STATEMENT"),
+    ];
+
+    /// <summary>The rule-set archive's constraints (migration 5): its key, and the digest CHECK against the bytes.</summary>
+    public static readonly IReadOnlyList<string> RuleSetConstraints = ["rule_sets_pkey", "rule_sets_digest"];
+
+    /// <summary>What migration 5 runs after its table: the archive's function and triggers.</summary>
+    public static string RuleSetCreateSql
+    {
+        get
+        {
+            var sql = new StringBuilder();
+            foreach (var (name, body) in RuleSetFunctions)
+            {
+                sql.Append(CultureInfo.InvariantCulture, $"CREATE OR REPLACE FUNCTION {name}() RETURNS trigger LANGUAGE plpgsql AS $fn${body}$fn$;\n");
+            }
+
+            foreach (var (_, name, function, when) in RuleSetTriggers)
+            {
+                sql.Append(CultureInfo.InvariantCulture, $"CREATE TRIGGER {name} {when} EXECUTE FUNCTION {function}();\n");
+            }
+
+            return sql.ToString();
+        }
+    }
+
     /// <summary>(table, trigger, function, definition after the name).</summary>
     public static readonly IReadOnlyList<(string Table, string Name, string Function, string When)> Triggers =
     [
@@ -136,7 +177,7 @@ internal static class PostgresGuards
             }
         }
 
-        foreach (var (name, body) in Functions)
+        foreach (var (name, body) in Functions.Concat(RuleSetFunctions))
         {
             if (!bodies.TryGetValue(name, out var stored))
             {
@@ -165,7 +206,7 @@ internal static class PostgresGuards
             }
         }
 
-        foreach (var (table, name, function, _) in Triggers)
+        foreach (var (table, name, function, _) in Triggers.Concat(RuleSetTriggers))
         {
             if (!triggers.TryGetValue(name, out var found) || found.Table != table || found.Function != function)
             {
@@ -190,7 +231,7 @@ internal static class PostgresGuards
             }
         }
 
-        missing.AddRange(Constraints.Where(c => !constraints.Contains(c)).Select(c => $"constraint {c} (missing)"));
+        missing.AddRange(Constraints.Concat(RuleSetConstraints).Where(c => !constraints.Contains(c)).Select(c => $"constraint {c} (missing)"));
         return missing;
     }
 
@@ -201,14 +242,14 @@ internal static class PostgresGuards
         long sequence = 0;
         Guid? last = null;
         var updates = new List<(Guid Id, long Seq, string Prev, string Hash)>();
-        using (var select = new NpgsqlCommand("SELECT " + PostgresAuditStore.BaseColumns + " FROM evaluations ORDER BY evaluated_at, evaluated_at_tick, id;", connection))
+        using (var select = new NpgsqlCommand("SELECT " + PostgresAuditBackend.BaseColumns + " FROM evaluations ORDER BY evaluated_at, evaluated_at_tick, id;", connection))
         {
             var reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
                 while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
                 {
-                    var record = PostgresAuditStore.ReadRecord(reader);
+                    var record = PostgresAuditBackend.ReadRecord(reader);
                     sequence++;
                     var hash = AuditChain.RecordHash(sequence, previous, record);
                     updates.Add((record.Id, sequence, previous, hash));

@@ -113,6 +113,15 @@ internal static class AuditSchema
             DROP TRIGGER retention_grants_no_delete;
             """,
             "CREATE UNIQUE INDEX ix_evaluations_seq ON evaluations (seq);\n" + string.Join(";\n", SqliteGuards.Triggers.Select(t => t.Sql)) + ";"),
+        new(8, "per-stage summaries stored with each record, and the append-only archive of canonical rule sets by digest", """
+            -- NULL for a record without stages (every record written before this step), which keeps its version 1 hash.
+            ALTER TABLE evaluations ADD COLUMN stages TEXT CHECK (stages IS NULL OR (json_valid(stages) AND json_type(stages) = 'array'));
+            CREATE TABLE rule_sets (
+                digest      TEXT NOT NULL PRIMARY KEY CHECK (length(digest) = 64 AND digest NOT GLOB '*[^0-9a-f]*'),
+                canonical   BLOB NOT NULL CHECK (length(canonical) > 0),
+                archived_at TEXT NOT NULL CHECK (length(archived_at) = 28)
+            ) STRICT;
+            """ + string.Join(";\n", SqliteGuards.RuleSetTriggers.Select(t => t.Sql)) + ";"),
     ];
 
     /// <summary>The version a file has after every step.</summary>

@@ -92,9 +92,34 @@ internal static class SqliteGuards
             """),
     ];
 
+    /// <summary>The rule-set archive's guards (migration 8): archived rule sets are never changed or removed.</summary>
+    public static readonly IReadOnlyList<(string Name, string Sql)> RuleSetTriggers =
+    [
+        ("rule_sets_no_update", """
+            CREATE TRIGGER rule_sets_no_update BEFORE UPDATE ON rule_sets
+            BEGIN
+                SELECT RAISE(ABORT, 'archived rule sets are append-only');
+            END
+            """),
+        ("rule_sets_no_delete", """
+            CREATE TRIGGER rule_sets_no_delete BEFORE DELETE ON rule_sets
+            BEGIN
+                SELECT RAISE(ABORT, 'archived rule sets are append-only');
+            END
+            """),
+        ("rule_sets_no_replace", """
+            CREATE TRIGGER rule_sets_no_replace BEFORE INSERT ON rule_sets
+            WHEN EXISTS (SELECT 1 FROM rule_sets WHERE digest = NEW.digest)
+            BEGIN
+                SELECT RAISE(ABORT, 'archived rule sets are append-only');
+            END
+            """),
+    ];
+
     private static readonly IReadOnlyList<(string Type, string Name)> Objects =
     [
         ("index", "ix_evaluations_seq"),
+        ("table", "rule_sets"),
         ("table", "audit_chain_head"),
         ("table", "retention_grants"),
     ];
@@ -114,7 +139,7 @@ internal static class SqliteGuards
         }
 
         var missing = new List<string>();
-        foreach (var (name, sql) in Triggers)
+        foreach (var (name, sql) in Triggers.Concat(RuleSetTriggers))
         {
             if (!found.TryGetValue(("trigger", name), out var stored))
             {
@@ -149,14 +174,14 @@ internal static class SqliteChainSeal
         var updates = new List<(string Id, long Seq, string Prev, string Hash)>();
         using (var select = connection.CreateCommand())
         {
-            select.CommandText = "SELECT " + SqliteAuditStore.Columns + " FROM evaluations ORDER BY evaluated_at, id;";
+            select.CommandText = "SELECT " + SqliteAuditBackend.ChainColumns + " FROM evaluations ORDER BY evaluated_at, id;";
             using var reader = select.ExecuteReader();
             while (reader.Read())
             {
-                var record = SqliteAuditStore.ReadRecord(reader);
+                var record = SqliteAuditBackend.ReadRecord(reader);
                 sequence++;
                 var hash = AuditChain.RecordHash(sequence, previous, record);
-                updates.Add((SqliteAuditStore.FormatId(record.Id), sequence, previous, hash));
+                updates.Add((SqliteAuditBackend.FormatId(record.Id), sequence, previous, hash));
                 previous = hash;
                 last = record.Id;
             }
@@ -205,7 +230,7 @@ internal static class SqliteChainSeal
         using var head = connection.CreateCommand();
         head.CommandText = "INSERT INTO audit_chain_head (id, seq, record_id, hash) VALUES (1, $seq, $id, $hash);";
         head.Parameters.AddWithValue("$seq", sequence);
-        head.Parameters.AddWithValue("$id", last is { } l ? SqliteAuditStore.FormatId(l) : DBNull.Value);
+        head.Parameters.AddWithValue("$id", last is { } l ? SqliteAuditBackend.FormatId(l) : DBNull.Value);
         head.Parameters.AddWithValue("$hash", previous);
         head.ExecuteNonQuery();
     }

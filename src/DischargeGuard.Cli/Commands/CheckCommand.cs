@@ -242,7 +242,7 @@ internal static class CheckCommand
         _ = DischargeGuard.Rules.Units.UnitVocabulary.Default;
     }
 
-    private static async Task CloseAsync(Task<DischargeGuard.Audit.Sqlite.SqliteAuditStore>? opening)
+    private static async Task CloseAsync(Task<DischargeGuard.Audit.AuditStore>? opening)
     {
         if (opening is null)
         {

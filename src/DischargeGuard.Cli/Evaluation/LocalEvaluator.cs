@@ -1,7 +1,6 @@
 using DischargeGuard.Evaluation;
 using System.Text.Json;
 using DischargeGuard.Audit;
-using DischargeGuard.Audit.Sqlite;
 using DischargeGuard.Cli.Proposals;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
@@ -24,7 +23,7 @@ public sealed class LocalEvaluator : ICaseEvaluator
     private readonly TimeProvider _time;
     private readonly EvaluationPipeline _pipeline = new();
     private readonly EvaluationRequestValidator _validator = new();
-    private Task<SqliteAuditStore>? _store;
+    private Task<AuditStore>? _store;
 
     private LocalEvaluator(RuleSetSnapshot rules, string rulesDirectory, string auditFile, string caller, ApprovedRules approved, TimeProvider time)
     {
@@ -62,12 +61,12 @@ public sealed class LocalEvaluator : ICaseEvaluator
     /// </summary>
     /// <param name="auditFile">The SQLite audit file.</param>
     /// <returns>The opening store.</returns>
-    public static Task<SqliteAuditStore> BeginOpeningAuditFile(string auditFile) =>
-        SqliteAuditStore.OpenAsync(new AuditStoreOptions { SqlitePath = auditFile }, CancellationToken.None);
+    public static Task<AuditStore> BeginOpeningAuditFile(string auditFile) =>
+        AuditStore.OpenAsync(new AuditStoreSettings { Provider = AuditStoreSettings.Sqlite, SqlitePath = auditFile }, CancellationToken.None);
 
     /// <summary>Uses an audit store already being opened (see <see cref="BeginOpeningAuditFile"/>) instead of opening one at the first append.</summary>
     /// <param name="store">The opening store for this evaluator's audit file.</param>
-    public void UseAuditStore(Task<SqliteAuditStore> store) => _store ??= store;
+    public void UseAuditStore(Task<AuditStore> store) => _store ??= store;
 
     /// <inheritdoc />
     public async Task<CaseResult> EvaluateAsync(ProposalCase proposalCase, CancellationToken cancellationToken)

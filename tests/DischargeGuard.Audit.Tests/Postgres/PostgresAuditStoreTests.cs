@@ -53,8 +53,8 @@ public sealed class PostgresAuditStoreTests(PostgresFixture fixture) : IAsyncLif
             await PostgresAuditSchema.MigrateAsync(raw, 3, CancellationToken.None);
             foreach (var r in records)
             {
-                var (at, tick) = PostgresAuditStore.SplitTicks(r.EvaluatedAt);
-                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditStore.BaseColumns + ") VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL);", raw);
+                var (at, tick) = PostgresAuditBackend.SplitTicks(r.EvaluatedAt);
+                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditBackend.BaseColumns + ") VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL);", raw);
                 insert.Parameters.AddWithValue("id", r.Id);
                 insert.Parameters.AddWithValue("at", at);
                 insert.Parameters.AddWithValue("tick", tick);
@@ -91,6 +91,73 @@ public sealed class PostgresAuditStoreTests(PostgresFixture fixture) : IAsyncLif
 
         await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1)), CancellationToken.None);
         Assert.True((await store.VerifyChainAsync(CancellationToken.None)).Intact);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+    }
+
+    [SkippableFact]
+    public async Task Open_WhenDatabaseHasTheSchemaBeforeStages_MigratesKeepsEveryRecordByteIdenticalAndTheChainVerifies()
+    {
+        // A database as the build before stage summaries left it: schema 4 (the old DDL, applied by the same shipped
+        // steps), records chained by its writer's rules (version 1 hashes, checked by the chain trigger).
+        var records = Enumerable.Range(0, 4).Select(i => Sample.Record(at: Sample.Start.AddMinutes(i).AddTicks(i), asset: "C-204B", site: i % 2 == 0 ? "marlow-fen" : null)).ToArray();
+        await using (var raw = await PostgresRaw.OpenAsync(_connectionString))
+        {
+            Assert.Equal(Enumerable.Range(1, 4), await PostgresAuditSchema.MigrateAsync(raw, 4, CancellationToken.None));
+            var previous = AuditChain.GenesisHash;
+            foreach (var (r, sequence) in records.Select((r, i) => (r, i + 1L)))
+            {
+                var stored = r with { RequestSha256 = AuditDigest.Sha256Hex(r.Request), ResponseSha256 = AuditDigest.Sha256Hex(r.Response) };
+                var hash = AuditChain.RecordHash(sequence, previous, stored);
+                var (at, tick) = PostgresAuditBackend.SplitTicks(r.EvaluatedAt);
+                await using var insert = new NpgsqlCommand("INSERT INTO evaluations (" + PostgresAuditBackend.BaseColumns + ", seq, prev_hash, record_hash) VALUES (@id, @at, @tick, @caller, @asset, @site, @verdict, @digest, @engine, @req, @reqh, @res, @resh, NULL, @seq, @prev, @hash);", raw);
+                insert.Parameters.AddWithValue("id", r.Id);
+                insert.Parameters.AddWithValue("at", at);
+                insert.Parameters.AddWithValue("tick", tick);
+                insert.Parameters.AddWithValue("caller", r.Caller);
+                insert.Parameters.AddWithValue("asset", r.Asset);
+                insert.Parameters.Add(new NpgsqlParameter("site", NpgsqlTypes.NpgsqlDbType.Text) { Value = (object?)r.SiteId ?? DBNull.Value });
+                insert.Parameters.AddWithValue("verdict", r.Verdict);
+                insert.Parameters.AddWithValue("digest", r.RuleDigest);
+                insert.Parameters.AddWithValue("engine", r.EngineVersion);
+                insert.Parameters.AddWithValue("req", r.Request);
+                insert.Parameters.AddWithValue("reqh", stored.RequestSha256!);
+                insert.Parameters.AddWithValue("res", r.Response);
+                insert.Parameters.AddWithValue("resh", stored.ResponseSha256!);
+                insert.Parameters.AddWithValue("seq", sequence);
+                insert.Parameters.AddWithValue("prev", previous);
+                insert.Parameters.AddWithValue("hash", hash);
+                await insert.ExecuteNonQueryAsync();
+                previous = hash;
+            }
+        }
+
+        var store = await OpenAsync();
+        var verification = await store.VerifyChainAsync(CancellationToken.None);
+
+        Assert.Equal(PostgresAuditSchema.LatestVersion, await PostgresRaw.ScalarAsync(_connectionString, "SELECT max(version) FROM schema_migrations;"));
+        Assert.True(verification.Intact, verification.FirstBreak?.Reason);
+        Assert.Equal(4, verification.Records);
+        Assert.Equal(records.Length, await PostgresRaw.ScalarAsync(_connectionString, "SELECT count(*) FROM evaluations WHERE stages IS NULL;"));
+        foreach (var record in records)
+        {
+            var read = await store.GetAsync(record.Id, CancellationToken.None);
+            Assert.Equal(record.Request, read!.Request);
+            Assert.Equal(record.Response, read.Response);
+            Assert.Equal(record.EvaluatedAt.UtcTicks, read.EvaluatedAt.UtcTicks);
+            Assert.Empty(read.Stages);
+        }
+
+        var history = await store.GetStageHistoryAsync(new AuditQuery { Asset = "C-204B" }, CancellationToken.None);
+        Assert.Equal(records.Reverse().Select(r => r.Id), history.Select(h => h.RecordId));
+        Assert.All(history, h => Assert.Empty(h.Stages));
+
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1), asset: "C-204B") with
+        {
+            Stages = [new AuditStageSummary(0, AuditVerdict.Pass, null, null, 420, 431.5, 101_325, 400_000, null)],
+        }, CancellationToken.None);
+        var after = await store.VerifyChainAsync(CancellationToken.None);
+        Assert.True(after.Intact, after.FirstBreak?.Reason);
+        Assert.Equal(5, after.Records);
         Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
     }
 
