@@ -142,7 +142,8 @@ public sealed class LayerSelectionEndpointTests(ServiceFactory factory) : IClass
             Assert.Equal("default", chain[0].GetProperty("layer").GetString());
             Assert.Contains("177 °C", chain[0].GetProperty("basis").GetString(), StringComparison.Ordinal);
             Assert.Equal("assets/C-204B.yaml", chain[1].GetProperty("file").GetString());
-            Assert.StartsWith("tightened the limit from 177 °C to 170 °C", chain[1].GetProperty("change").GetString(), StringComparison.Ordinal);
+            // The default states 350 °F (177 °C in its basis) since the stated-limit change.
+            Assert.StartsWith("tightened the limit from 350 °F to 170 °C", chain[1].GetProperty("change").GetString(), StringComparison.Ordinal);
 
             var ratio = body.GetProperty("rules").EnumerateArray().Single(r => r.GetProperty("id").GetString() == "R-RATIO");
             Assert.Equal(4.5, AssertEx.Quantity(ratio.GetProperty("limit"), "1", "ratio limit"), 6);

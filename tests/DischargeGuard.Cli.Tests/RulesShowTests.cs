@@ -17,8 +17,9 @@ public class RulesShowTests
         block = block[..block.IndexOf("\n\n", StringComparison.Ordinal)];
         Assert.Contains("limit 170 °C (upper), warning band 15 K; violation", block, StringComparison.Ordinal);
         Assert.Contains("set by asset:C-204B; basis: asset:C-204B: cylinder manufacturer's", block, StringComparison.Ordinal);
-        Assert.Contains("default (default.yaml): defined the rule → limit 177 °C, warning band 12 K", block, StringComparison.Ordinal);
-        Assert.Contains("asset:C-204B (assets/C-204B.yaml): tightened the limit from 177 °C to 170 °C", block, StringComparison.Ordinal);
+        // The default's limit reads as the file states it, 350 °F (177 °C until the stated-limit change).
+        Assert.Contains("default (default.yaml): defined the rule → limit 350 °F, warning band 12 K", block, StringComparison.Ordinal);
+        Assert.Contains("asset:C-204B (assets/C-204B.yaml): tightened the limit from 350 °F to 170 °C", block, StringComparison.Ordinal);
         Assert.Contains(DischargeGuard.Evaluation.Pipeline.Cautions.DeferToCodes, run.Stdout, StringComparison.Ordinal);
     }
 

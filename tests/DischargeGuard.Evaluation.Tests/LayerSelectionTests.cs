@@ -8,7 +8,7 @@ namespace DischargeGuard.Evaluation.Tests;
 /// <summary>
 /// The layers a request asks for are the layers it gets: a near miss of a layer id is refused, a different id is
 /// accepted and the answer says which layers applied and which close layer did not. Uses the shipped layers of the
-/// invented Marlow Fen station (site marlow-fen, asset C-204B, whose layer tightens R-FIELD-HC from 177 °C to 170 °C).
+/// invented Marlow Fen station (site marlow-fen, asset C-204B, whose layer tightens R-FIELD-HC from 350 °F to 170 °C).
 /// </summary>
 public sealed class LayerSelectionTests
 {
@@ -75,8 +75,9 @@ public sealed class LayerSelectionTests
     {
         var response = Evaluate(MethaneRequest("C-204A"));
 
-        // Without the asset layer the default's 177 °C applies (rules/default.yaml).
-        Assert.Equal(177, FieldLimitCelsius(response), 3);
+        // Without the asset layer the default's 350 °F = 176.67 °C applies (rules/default.yaml; 177 °C until the file
+        // stated the practice in °F).
+        Assert.Equal((350 - 32) * 5.0 / 9, FieldLimitCelsius(response), 2);
         Assert.Equal(["default", "site:marlow-fen"], response.RuleSet.Layers.Select(l => l.Name));
         var unmatched = Assert.Single(response.RuleSet.Unmatched!);
         Assert.Equal("asset", unmatched.Field);

@@ -27,7 +27,8 @@ public sealed class LimitsInForcePageTests(BrowserFixture browser)
         Assert.Contains("cylinder manufacturer", await row.Locator(".limit-basis").First.InnerTextAsync(), StringComparison.Ordinal);
         Assert.DoesNotContain("177", await row.Locator("td").Nth(2).InnerTextAsync(), StringComparison.Ordinal);
         Assert.Equal(2, await row.Locator(".limit-chain li").CountAsync());
-        Assert.Contains("tightened the limit from 177 °C to 170 °C", await row.Locator(".limit-chain li").Nth(1).InnerTextAsync(), StringComparison.Ordinal);
+        // The default states 350 °F since the stated-limit change (177 °C before).
+        Assert.Contains("tightened the limit from 350 °F to 170 °C", await row.Locator(".limit-chain li").Nth(1).InnerTextAsync(), StringComparison.Ordinal);
         Assert.Contains("default ← site:marlow-fen ← asset:C-204B", await page.At("#limits-body .layers-applied").InnerTextAsync(), StringComparison.Ordinal);
         await page.ScreenshotAsync("12-limits-in-force");
         await page.AssertCleanAsync();

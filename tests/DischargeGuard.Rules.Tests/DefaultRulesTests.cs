@@ -20,13 +20,15 @@ public class DefaultRulesTests
         ["R-API618-GEN"] = new(v => Quiet() with { IsentropicInternal = K(v) }, 423.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // 135 °C (275 °F) for hydrogen-rich (MW <= 12): API 618 5th ed. — from memory — verify ((c) high).
         ["R-API618-H2"] = new(v => Quiet() with { IsentropicInternal = K(v), GasMolarMass = MolarMass.FromGramsPerMole(8) }, 408.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
-        // 177 °C (350 °F) practical ceiling for packaged field units — common practice, no single source ((b)).
-        ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // 350 °F (177 °C) practical ceiling for packaged field units — common practice, no single source ((b)). Stated as
+        // 350 °F since the stated-limit change, so 350 °F = (350 − 32)·5/9 °C = 176.67 °C is checked (was 177 °C = 450.15 K).
+        ["R-FIELD-HC"] = new(v => Quiet("recip-packaged-lubricated") with { Estimated = K(v), DeclaredServiceClasses = ["hydrocarbon"] }, (350 - 32) * 5.0 / 9 + 273.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // The stage's own design temperature, here 160 °C as a request would state it (the limit is the input itself;
         // pressure-equipment codes forbid running a part above its design temperature, (a)); warning band 10 K (b).
         ["R-DESIGN-TEMP"] = new(v => Quiet() with { Estimated = K(v), DesignTemperature = C(160) }, 433.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
-        // 350 °F = 176.67 °C: Bloch & Hoefner (1996) p.382 "limit operating temperature to 350 °F" ((a)); the file rounds to 177 °C.
-        ["R-AIR-RECIP"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["air"] }, 450.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
+        // 350 °F = 176.67 °C: Bloch & Hoefner (1996) p.382 "limit operating temperature to 350 °F" ((a)); the file states
+        // 350 °F since the stated-limit change (it rounded to 177 °C = 450.15 K before).
+        ["R-AIR-RECIP"] = new(v => Quiet() with { Estimated = K(v), DeclaredServiceClasses = ["air"] }, (350 - 32) * 5.0 / 9 + 273.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // DIN 51506 VB/VBL 140 °C (284 °F) — from memory — verify ((c) med).
         ["R-LUBE-CLASS"] = new(v => Quiet() with { Estimated = K(v), LubricantId = "mineral-vbl" }, 413.15, LimitDirection.Upper, Severity.Violation, Severity.Warning),
         // AIT 340 °C (low end of the mineral range 340-370 °C — from memory — verify) − 140 K (GAPS GAP.3.1.1: up to 250 °F
@@ -244,7 +246,7 @@ public class DefaultRulesTests
     [Fact]
     public void ProcessStandardLimit_OnAPackagedFieldUnit_DoesNotApply_TheFieldUnitLimitDoes()
     {
-        // Packaged field units (ISO 13631 scope, (a)) take the 177 °C field-unit practice (b), not API 618's 150 °C (c).
+        // Packaged field units (ISO 13631 scope, (a)) take the 350 °F (176.67 °C) field-unit practice (b), not API 618's 150 °C (c).
         var result = Evaluate(Quiet("recip-packaged-lubricated") with { IsentropicInternal = C(160), Estimated = C(170), DeclaredServiceClasses = ["hydrocarbon"] });
         Assert.DoesNotContain(result.Findings, f => f.RuleId is "R-API618-GEN" or "R-API618-H2");
         Assert.Equal(Severity.Warning, result.Find("R-FIELD-HC").Severity);
@@ -365,12 +367,14 @@ public class DefaultRulesTests
     [Fact]
     public void SetPoints_WhenProposalWouldPassFailLimit_CappedAtIt()
     {
-        // Air with a diester (R-AIT 210 °C): the lowest cap on the estimated or measured temperature is R-AIR-RECIP 177 °C
-        // (Bloch & Hoefner p.382). Normal 168 °C → trip 168 + min(16.8, 14) = 182 °C > 177 °C: trip capped at 177 °C; alarm
-        // 168 + min(8.4, 7) = 175 °C, lowered to 177 − 3 K (minimum step) = 174 °C; both stay above normal.
+        // Air with a diester (R-AIT 210 °C): the lowest cap on the estimated or measured temperature is R-AIR-RECIP 350 °F
+        // = 176.67 °C (Bloch & Hoefner p.382; 177 °C before the file stated it in °F). Normal 168 °C → trip
+        // 168 + min(16.8, 14) = 182 °C > 176.67 °C: trip capped at 176.67 °C; alarm 168 + min(8.4, 7) = 175 °C, lowered to
+        // 176.67 − 3 K (minimum step) = 173.67 °C; both stay above normal.
+        const double capCelsius = (350 - 32) * 5.0 / 9;
         var f = Evaluate(Air() with { NormalOperatingDischarge = C(168), LubricantId = "diester-vdl", Estimated = C(168) }).Find("R-SETPOINTS");
-        AssertEx.Close(177.0, f.SetPoints!.Trip.DegreesCelsius, 1e-9, "trip");
-        AssertEx.Close(174.0, f.SetPoints.Alarm.DegreesCelsius, 1e-9, "alarm");
+        AssertEx.Close(capCelsius, f.SetPoints!.Trip.DegreesCelsius, 1e-9, "trip");
+        AssertEx.Close(capCelsius - 3, f.SetPoints.Alarm.DegreesCelsius, 1e-9, "alarm");
         Assert.True(f.SetPoints.Capped);
         Assert.Equal("R-AIR-RECIP", f.SetPoints.CapRuleId);
         Assert.Equal(Severity.Info, f.Severity);
@@ -391,7 +395,7 @@ public class DefaultRulesTests
     [Fact]
     public void SetPoints_WhenLimitLeavesNoRoom_WarnsAndKeepsAlarmAboveNormalAndTripAboveAlarm()
     {
-        // Normal 176 °C against R-AIR-RECIP 177 °C: no room for an alarm and a trip 3 K apart (minimum step, common practice).
+        // Normal 176 °C against R-AIR-RECIP 350 °F (176.67 °C, Bloch & Hoefner p.382): no room for an alarm and a trip 3 K apart (minimum step, common practice).
         var f = Evaluate(Air() with { NormalOperatingDischarge = C(176), LubricantId = "diester-vdl" }).Find("R-SETPOINTS");
         Assert.Equal(Severity.Warning, f.Severity);
         Assert.True(f.SetPoints!.Alarm.DegreesCelsius > 176.0);

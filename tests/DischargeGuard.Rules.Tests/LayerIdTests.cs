@@ -185,16 +185,17 @@ public sealed class RuleChainTests
     {
         var rule = Repo.Shipped.Resolve("marlow-fen", "C-204B").RulesById["R-FIELD-HC"];
 
-        // rules/assets/C-204B.yaml: 170 °C, band 15 K; rules/default.yaml: 177 °C, band 12 K.
+        // rules/assets/C-204B.yaml: 170 °C, band 15 K; rules/default.yaml: 350 °F (177 °C in the basis), band 12 K. The
+        // default's limit reads as the file states it (350 °F, not 176.667 °C) since the stated-limit change.
         Assert.Equal("170 °C", Model.LimitText.Of(rule));
         Assert.Equal("asset:C-204B", rule.LimitLayer);
         Assert.StartsWith("asset:C-204B: cylinder manufacturer's stated maximum", rule.Basis, StringComparison.Ordinal);
         Assert.DoesNotContain("177", rule.Basis, StringComparison.Ordinal);
         Assert.Equal(["default", "asset:C-204B"], rule.Chain.Select(c => c.Layer));
         Assert.Equal("defined the rule", rule.Chain[0].Change);
-        Assert.Equal("177 °C", rule.Chain[0].Limit);
+        Assert.Equal("350 °F", rule.Chain[0].Limit);
         Assert.Contains("177 °C", rule.Chain[0].Basis, StringComparison.Ordinal);
-        Assert.Equal("tightened the limit from 177 °C to 170 °C; widened the warning band from 12 K to 15 K", rule.Chain[1].Change);
+        Assert.Equal("tightened the limit from 350 °F to 170 °C; widened the warning band from 12 K to 15 K", rule.Chain[1].Change);
         Assert.Equal("15 K", rule.Chain[1].WarningBand);
     }
 

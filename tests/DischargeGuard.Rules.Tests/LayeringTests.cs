@@ -146,17 +146,31 @@ public class LayeringTests
     }
 
     [Fact]
-    public void Digest_WhenSameContentInOtherUnits_IsUnchanged()
+    public void Digest_WhenOnlyTheUnitSpellingDiffers_IsUnchanged()
     {
-        // 145 °C = 293 °F exactly (°F = 1.8·°C + 32).
+        // degC and ℃ are spellings of °C (docs/units.md): the same reading, so the same digest.
         var a = Merge(Site("  - rule: R-API618-GEN\n    limit: 145 °C"));
-        var b = Merge(Site("  - rule: R-API618-GEN\n    limit: 293 °F"));
+        var b = Merge(Site("  - rule: R-API618-GEN\n    limit: 145 degC"));
         var c = Merge(Site("  - rule: R-API618-GEN\n    limit: 144 °C"));
         Assert.Equal(a.Digest, b.Digest);
         Assert.NotEqual(a.Digest, c.Digest);
         Assert.NotEqual(a.Digest, Repo.Defaults.Digest);
         Assert.Equal(["default", "site:test-site"], a.Layers.Select(l => l.Name));
         Assert.All(a.Layers, l => Assert.Equal(64, l.Digest.Length));
+    }
+
+    [Fact]
+    public void Digest_WhenTheSameLimitIsStatedInOtherUnits_Changes()
+    {
+        // 145 °C = 293 °F exactly (°F = 1.8·°C + 32): the check is the same, but answers show the limit as stated, so
+        // the digest that names what an answer rests on changes with the stated form.
+        var celsius = Merge(Site("  - rule: R-API618-GEN\n    limit: 145 °C"));
+        var fahrenheit = Merge(Site("  - rule: R-API618-GEN\n    limit: 293 °F"));
+        var both = Merge(Site("  - rule: R-API618-GEN\n    limit: 145 °C (293 °F)"));
+        Assert.Equal(3, new[] { celsius.Digest, fahrenheit.Digest, both.Digest }.Distinct().Count());
+        AssertEx.Close(418.15, celsius.RulesById["R-API618-GEN"].Limit!.Absolute!.Value, 1e-9, "145 °C in K");
+        AssertEx.Close(418.15, fahrenheit.RulesById["R-API618-GEN"].Limit!.Absolute!.Value, 1e-9, "293 °F in K");
+        Assert.Equal([new StatedValue(293, "°F")], fahrenheit.RulesById["R-API618-GEN"].Limit!.AsStated);
     }
 
     [Fact]

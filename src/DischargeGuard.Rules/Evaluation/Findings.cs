@@ -55,6 +55,12 @@ public sealed record Finding
     public Reading? Value { get; init; }
     /// <summary>The effective (violation, or warning-only) limit.</summary>
     public Reading? Limit { get; init; }
+    /// <summary>
+    /// The limit as its rule file states it, for display in the unit the source gives: (150, "°C") and (300, "°F") for
+    /// <c>150 °C (300 °F)</c>, the first being the value <see cref="Limit"/> holds in SI. Empty when the limit is derived
+    /// (from a lubricant, a material, an input, the estimate) or a ratio.
+    /// </summary>
+    public IReadOnlyList<StatedValue> LimitAsStated { get; init; } = [];
     /// <summary>limit − value for upper limits, value − limit for lower limits: positive inside, negative beyond.</summary>
     public Reading? Margin { get; init; }
     /// <summary>Upper or lower limit.</summary>

@@ -853,6 +853,8 @@ public static class RuleEngine
             Quantity = quantity,
             Value = value,
             Limit = limit,
+            // The rule's own list, not a copy: a finding allocates nothing for it and equal findings stay equal.
+            LimitAsStated = rule.Limit!.Source == LimitSource.Absolute ? rule.Limit.AsStated : [],
             Margin = marginReading,
             Direction = rule.Direction,
             Basis = rule.Basis,

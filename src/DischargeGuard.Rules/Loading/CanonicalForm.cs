@@ -8,8 +8,10 @@ namespace DischargeGuard.Rules.Loading;
 
 /// <summary>
 /// The normalised form a digest is taken over: JSON with entries sorted by id, quantities in SI (kelvin,
-/// plain ratios) written round-trip, no comments or layout. So <c>150 °C</c> and <c>302 °F</c> give the same
-/// merged digest, and re-indenting or re-commenting a file changes nothing.
+/// plain ratios) written round-trip, no comments or layout, so re-indenting or re-commenting a file changes nothing.
+/// A limit's stated readings (<see cref="RuleLimit.AsStated"/>: number and unit symbol as written) are part of it,
+/// because answers show them: <c>150 °C</c> and <c>302 °F</c> check the same value but read differently, so their
+/// digests differ, while <c>150 degC</c> and <c>150 °C</c> (one unit, two spellings) give the same digest.
 /// </summary>
 public static class CanonicalForm
 {
@@ -320,6 +322,21 @@ public static class CanonicalForm
             WriteNum(w, "plusK", l.PlusKelvin);
             WriteNum(w, "atLeastK", l.AtLeastKelvin);
             WriteNum(w, "fractionOfPredicted", l.FractionOfPredicted);
+            if (l.AsStated.Count > 0)
+            {
+                // Written only when there are readings, so ratio and derived limits keep their digests.
+                w.WriteStartArray("stated");
+                foreach (var v in l.AsStated)
+                {
+                    w.WriteStartObject();
+                    WriteNum(w, "value", v.Value);
+                    w.WriteString("unit", v.Unit);
+                    w.WriteEndObject();
+                }
+
+                w.WriteEndArray();
+            }
+
             w.WriteEndObject();
         }
         else

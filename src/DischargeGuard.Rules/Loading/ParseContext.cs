@@ -1,7 +1,9 @@
 using System.Globalization;
+using System.Text.RegularExpressions;
 using DischargeGuard.Rules.Model;
 using DischargeGuard.Rules.Units;
 using UnitsNet;
+using UnitsNet.Units;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
 
@@ -222,6 +224,130 @@ internal sealed class Context
         Add(RuleFileErrorKind.BadUnit, s, path, error!.ToString());
         return null;
     }
+
+    /// <summary>Largest relative difference between a stated value and the source's equivalent in parentheses (compared in kelvin).</summary>
+    public const double StatedEquivalentTolerance = 0.01;
+
+    // "<quantity>" or "<quantity> (<quantity>)": the second is the source's own equivalent in the other unit system.
+    private static readonly Regex StatedPair = new(@"^(?<first>[^()]*?)\s*\((?<second>[^()]*)\)$", RegexOptions.CultureInvariant, TimeSpan.FromSeconds(1));
+
+    /// <summary>
+    /// Reads an absolute temperature or a temperature difference written as one quantity (<c>350 °F</c>) or as one with
+    /// the source's own equivalent in the other unit system in parentheses (<c>150 °C (300 °F)</c>). The first is the
+    /// value used; both are kept as stated. The pair must span the two unit systems (K/°C and °F/°R) and agree within
+    /// <see cref="StatedEquivalentTolerance"/> of the first, compared in kelvin.
+    /// </summary>
+    public (IQuantity Quantity, StatedValue[] Stated)? StatedQuantity(MapView m, string key, string path, QuantityKind kind, bool required = false)
+    {
+        var s = Scalar(m, key, path, required);
+        if (s is null)
+        {
+            return null;
+        }
+
+        var text = s.Value!.Trim();
+        if (text.IndexOfAny(['(', ')']) < 0)
+        {
+            return Reading(s, path, text, kind, text) is { } single ? (single.Quantity, [single.Stated]) : null;
+        }
+
+        var match = StatedPair.Match(text);
+        if (!match.Success || match.Groups["first"].Value.Length == 0)
+        {
+            Add(RuleFileErrorKind.BadValue, s, path,
+                $"'{text}' is not a {Name(kind)}: write one quantity ('350 °F'), or the value used followed by the source's own equivalent in the other unit system in one pair of parentheses ('150 °C (300 °F)').");
+            return null;
+        }
+
+        var firstText = match.Groups["first"].Value;
+        var secondText = match.Groups["second"].Value.Trim();
+        if (Reading(s, path, firstText, kind, text) is not { } first)
+        {
+            return null;
+        }
+
+        if (secondText.Length > 0 && secondText.All(c => char.IsAsciiDigit(c) || c is '.' or '-' or '+' or 'e' or 'E'))
+        {
+            Add(RuleFileErrorKind.BadUnit, s, path,
+                $"'{text}': the value in parentheses has no unit; write the source's equivalent with its unit, e.g. '{firstText} ({secondText} {OtherSystemExample(first.Token)})'.");
+            return null;
+        }
+
+        if (Reading(s, path, secondText, kind, text) is not { } second)
+        {
+            return null;
+        }
+
+        if (IsMetric(first.Token) == IsMetric(second.Token))
+        {
+            Add(RuleFileErrorKind.BadValue, s, path,
+                $"'{text}': both units are {(IsMetric(first.Token) ? "metric (K, °C)" : "US customary (°F, °R)")}; the value in parentheses is the source's own equivalent in the other unit system ({(IsMetric(first.Token) ? "°F or °R" : "K or °C")}), given only where the source gives it.");
+            return null;
+        }
+
+        var a = Kelvins(first.Quantity);
+        var b = Kelvins(second.Quantity);
+        var relative = a == 0 ? (b == 0 ? 0 : double.PositiveInfinity) : Math.Abs(b - a) / Math.Abs(a);
+        if (relative > StatedEquivalentTolerance)
+        {
+            Add(RuleFileErrorKind.BadValue, s, path, string.Create(CultureInfo.InvariantCulture,
+                $"'{text}': {second.Stated} ({b:0.##} K) is {relative * 100:0.##} % away from {first.Stated} ({a:0.##} K); the source's equivalent in parentheses must be within {StatedEquivalentTolerance * 100:0} % of the value used (compared in kelvin). Check both numbers against the source."));
+            return null;
+        }
+
+        return (first.Quantity, [first.Stated, second.Stated]);
+    }
+
+    private (IQuantity Quantity, UnitToken Token, StatedValue Stated)? Reading(YamlScalarNode s, string path, string part, QuantityKind kind, string whole)
+    {
+        if (!Units.TryParse(part, kind, out var q, out var error))
+        {
+            Add(RuleFileErrorKind.BadUnit, s, path, part.Trim() == whole ? error!.ToString() : $"In '{whole}': {error}");
+            return null;
+        }
+
+        if (kind == QuantityKind.Temperature && ((Temperature)q!.Quantity).Kelvins < 0)
+        {
+            Add(RuleFileErrorKind.BadValue, s, path, part.Trim() == whole ? "The temperature is below absolute zero." : $"In '{whole}': '{part.Trim()}' is below absolute zero.");
+            return null;
+        }
+
+        // The number as written: every temperature token has scale 1, so the quantity's value is the written number.
+        return (q!.Quantity, q.Token, new StatedValue((double)q.Quantity.Value, Symbol(q.Token.Unit)));
+    }
+
+    private static string Name(QuantityKind kind) => kind == QuantityKind.Temperature ? "temperature" : "temperature difference";
+
+    private static bool IsMetric(UnitToken token) => token.Unit is TemperatureUnit.Kelvin or TemperatureUnit.DegreeCelsius
+        or TemperatureDeltaUnit.Kelvin or TemperatureDeltaUnit.DegreeCelsius;
+
+    private static string OtherSystemExample(UnitToken token) => (IsMetric(token), token.Kind) switch
+    {
+        (true, QuantityKind.Temperature) => "°F",
+        (true, _) => "Δ°F",
+        (false, QuantityKind.Temperature) => "°C",
+        _ => "K",
+    };
+
+    private static double Kelvins(IQuantity q) => q switch
+    {
+        Temperature t => t.Kelvins,
+        TemperatureDelta d => d.Kelvins,
+        _ => throw new ArgumentOutOfRangeException(nameof(q), q, "Only temperatures and temperature differences are stated in two units."),
+    };
+
+    private static string Symbol(Enum unit) => unit switch
+    {
+        TemperatureUnit.Kelvin => "K",
+        TemperatureUnit.DegreeCelsius => "°C",
+        TemperatureUnit.DegreeFahrenheit => "°F",
+        TemperatureUnit.DegreeRankine => "°R",
+        TemperatureDeltaUnit.Kelvin => "K",
+        TemperatureDeltaUnit.DegreeCelsius => "Δ°C",
+        TemperatureDeltaUnit.DegreeFahrenheit => "Δ°F",
+        TemperatureDeltaUnit.DegreeRankine => "Δ°R",
+        _ => unit.ToString(),
+    };
 
     public Temperature? Temperature(MapView m, string key, string path) =>
         Quantity(m, key, path, QuantityKind.Temperature) is Temperature t ? t : null;

@@ -787,9 +787,11 @@ public static class RuleFileParser
                 case QuantityDimension.Ratio:
                     return ctx.Number(parent, "limit", path, required: true) is { } r ? new RuleLimit(LimitSource.Absolute, r) : null;
                 case QuantityDimension.TemperatureDifference:
-                    return ctx.Quantity(parent, "limit", path, QuantityKind.TemperatureDifference, required: true) is TemperatureDelta d ? new RuleLimit(LimitSource.Absolute, d.Kelvins) : null;
+                    return ctx.StatedQuantity(parent, "limit", path, QuantityKind.TemperatureDifference, required: true) is { Quantity: TemperatureDelta d } sd
+                        ? new RuleLimit(LimitSource.Absolute, d.Kelvins) { AsStated = sd.Stated } : null;
                 default:
-                    return ctx.Temperature(parent, "limit", path) is { } t ? new RuleLimit(LimitSource.Absolute, t.Kelvins) : null;
+                    return ctx.StatedQuantity(parent, "limit", path, QuantityKind.Temperature) is { Quantity: Temperature t } st
+                        ? new RuleLimit(LimitSource.Absolute, t.Kelvins) { AsStated = st.Stated } : null;
             }
         }
 

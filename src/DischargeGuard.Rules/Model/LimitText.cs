@@ -8,7 +8,11 @@ namespace DischargeGuard.Rules.Model;
 /// </summary>
 public static class LimitText
 {
-    /// <summary>The limit of a rule in force, e.g. "170 °C", "4.5", "lubricant.autoignitionTemperature − 140 K − 50 K".</summary>
+    /// <summary>
+    /// The limit of a rule in force, e.g. "150 °C (300 °F)", "350 °F", "4.5", "lubricant.autoignitionTemperature − 140 K − 50 K".
+    /// An absolute limit reads as its rule file states it (<see cref="RuleLimit.AsStated"/>), so a source's 350 °F is not
+    /// shown as 176.667 °C.
+    /// </summary>
     /// <param name="rule">The rule.</param>
     /// <returns>The text.</returns>
     public static string Of(RuleDefinition rule)
@@ -31,12 +35,26 @@ public static class LimitText
 
         return limit.Source switch
         {
+            LimitSource.Absolute when Stated(limit) is { } stated => stated,
             LimitSource.Absolute when Value(limit, dimension) is { } v => Number(v.Value) + (v.Unit == "1" ? string.Empty : " " + v.Unit),
             LimitSource.GreaterOfFixedAndFractionOfPredicted =>
                 $"greater of {Number(limit.AtLeastKelvin)} K and {Number(limit.FractionOfPredicted * 100)} % of the estimated discharge temperature in K",
             _ => Formula(limit),
         };
     }
+
+    /// <summary>
+    /// A limit's stated readings as text, the source's equivalent in parentheses: "150 °C (300 °F)", "350 °F"; null when
+    /// the limit has none (derived limits, ratios).
+    /// </summary>
+    /// <param name="limit">The limit, or null.</param>
+    /// <returns>The text, or null.</returns>
+    public static string? Stated(RuleLimit? limit) => limit?.AsStated switch
+    {
+        null or [] => null,
+        [var used] => used.ToString(),
+        var readings => readings[0] + " (" + string.Join(", ", readings.Skip(1)) + ")",
+    };
 
     /// <summary>An absolute limit as a number and unit (°C, K or "1" for a ratio); null for other forms.</summary>
     /// <param name="limit">The limit.</param>

@@ -238,6 +238,42 @@ public sealed record RuleLimit(LimitSource Source, double? Absolute = null, doub
 {
     /// <summary>The offset from the base value (for comparisons between two limits from the same source).</summary>
     public double Offset => Source == LimitSource.Absolute ? Absolute ?? 0 : PlusKelvin - DeratingForPressureKelvin - MarginKelvin;
+
+    /// <summary>
+    /// The limit as the rule file states it, for display: first the reading whose value <see cref="Absolute"/> holds in
+    /// SI, then, when the file gives one, the source's own equivalent in the other unit system (<c>150 °C (300 °F)</c>
+    /// gives (150, "°C") and (300, "°F")). Empty for derived limits and ratios. Never used by a check.
+    /// </summary>
+    public IReadOnlyList<StatedValue> AsStated { get; init; } = [];
+
+    /// <summary>Value equality, the stated readings compared element by element.</summary>
+    /// <param name="other">The other limit.</param>
+    /// <returns>Whether both are the same limit stated the same way.</returns>
+    public bool Equals(RuleLimit? other) =>
+        other is not null && Source == other.Source && Nullable.Equals(Absolute, other.Absolute)
+        && DeratingForPressureKelvin.Equals(other.DeratingForPressureKelvin) && MarginKelvin.Equals(other.MarginKelvin)
+        && PlusKelvin.Equals(other.PlusKelvin) && AtLeastKelvin.Equals(other.AtLeastKelvin)
+        && FractionOfPredicted.Equals(other.FractionOfPredicted) && AsStated.SequenceEqual(other.AsStated);
+
+    /// <inheritdoc />
+    public override int GetHashCode() =>
+        HashCode.Combine(Source, Absolute, DeratingForPressureKelvin, MarginKelvin, PlusKelvin, AtLeastKelvin, FractionOfPredicted, AsStated.Count);
+}
+
+/// <summary>
+/// A number with the unit a rule file states it in, as its source gives it (e.g. 300 and "°F"), for display. Checks
+/// never read it: they use the SI value of the limit.
+/// </summary>
+/// <param name="Value">The number as written, in <paramref name="Unit"/>.</param>
+/// <param name="Unit">
+/// The unit's symbol: "K", "°C", "°F" or "°R" for an absolute temperature; "K", "Δ°C", "Δ°F" or "Δ°R" for a temperature
+/// difference (ASCII spellings such as degF are normalised to these).
+/// </param>
+public sealed record StatedValue(double Value, string Unit)
+{
+    /// <summary>The reading as text, invariant culture: "300 °F".</summary>
+    /// <returns>The text.</returns>
+    public override string ToString() => Value.ToString("R", CultureInfo.InvariantCulture) + " " + Unit;
 }
 
 /// <summary>One set-point step: normal + min(fraction × normal in °C, atMost).</summary>
