@@ -139,8 +139,8 @@ public static class ResponseMapper
                     : new SpecificWorkDto(u.SpecificEnergy(r.SpecificIsentropicWork), u.SpecificEnergy(r.SpecificActualWork))
                 : null,
             Power = (used?.Power ?? r.Power) is { } power ? u.Power(power) : null,
-            Governing = o.Governing is { Limit: { } limit } g
-                ? new GoverningDto(g.RuleId, g.Quantity.ToName(), u.Reading(limit), g.Margin is { } m ? u.Reading(m) : null)
+            Governing = o.Governing is { Limit: not null } g
+                ? new GoverningDto(g.RuleId, g.Quantity.ToName(), LimitOf(g, u)!, g.Margin is { } m ? u.Reading(m) : null)
                 : null,
             Envelope = EnvelopeOf(o, barometer, u, full),
             RealGas = full && o.RealGas is { } realGas ? RealGasOf(o, realGas, u) : null,
@@ -229,7 +229,7 @@ public static class ResponseMapper
     private static LimitEnvelopeDto LimitOf(LimitEnvelope l, StageOutcome o, OutputUnitSystem u) => new(
         l.Finding.RuleId,
         l.Finding.Quantity.ToName(),
-        u.Reading(l.Finding.Limit!.Value),
+        LimitOf(l.Finding, u)!,
         l.MaxDischargePressure is { } p ? Math.Round(p.Pascals / o.SuctionPressure.Pascals, 4) : null,
         l.MaxDischargePressure is { } p2 ? u.PressureAbsolute(p2) : null,
         l.Status switch
@@ -289,6 +289,29 @@ public static class ResponseMapper
                 : null);
     }
 
+    /// <summary>
+    /// A finding's limit in the unit its source gives: the rule file's stated value in the answer's unit system where the
+    /// source gives one ("150 °C (300 °F)" answers 300 °F in imperial units, not 302 °F), else the source's own unit, else
+    /// the SI value converted. Verdicts and margins are computed from the SI value whatever is shown.
+    /// </summary>
+    internal static QuantityDto? LimitOf(Finding f, OutputUnitSystem u)
+    {
+        if (f.Limit is not { } limit)
+        {
+            return null;
+        }
+
+        if (f.LimitAsStated.Count == 0)
+        {
+            return u.Reading(limit);
+        }
+
+        var stated = f.LimitAsStated.FirstOrDefault(v => IsImperial(v.Unit) == u.Imperial) ?? f.LimitAsStated[0];
+        return new QuantityDto(stated.Value, stated.Unit);
+    }
+
+    private static bool IsImperial(string unit) => unit is "°F" or "°R" or "Δ°F" or "Δ°R";
+
     private static FindingDto FindingOf(Finding f, OutputUnitSystem u, bool full) => new()
     {
         RuleId = f.RuleId,
@@ -296,7 +319,7 @@ public static class ResponseMapper
         Severity = f.Severity.ToString().ToLowerInvariant(),
         Quantity = f.Quantity.ToName(),
         Value = (full || f.Severity != Severity.Pass) && f.Value is { } v ? u.Reading(v) : null,
-        Limit = f.Limit is { } l ? u.Reading(l) : null,
+        Limit = LimitOf(f, u),
         Margin = f.Margin is { } m ? u.Reading(m) : null,
         Basis = full ? f.Basis : null,
         Layer = full || f.Layer != "default" ? f.Layer : null,
