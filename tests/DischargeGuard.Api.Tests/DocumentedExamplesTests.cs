@@ -24,6 +24,9 @@ public sealed partial class DocumentedExamplesTests(ServiceFactory factory) : IC
     [GeneratedRegex(@"curl -s '?http://127\.0\.0\.1:5080(?<path>/v1/rules[^\s'`]*)'?`")]
     private static partial Regex CurlGet();
 
+    /// <summary>The README's first curl body: the one-stage example a new user runs first.</summary>
+    internal static string ReadmeOneStageBody() => CurlPost().Match(Readme).Groups["body"].Value;
+
     public static TheoryData<string> ReadmeBodies()
     {
         var data = new TheoryData<string>();

@@ -5,7 +5,8 @@ using Swashbuckle.AspNetCore.SwaggerGen;
 
 namespace DischargeGuard.Api.Infrastructure;
 
-/// <summary>The OpenAPI document: generated from the endpoint signatures, with the quantity shape and an invented example.</summary>
+/// <summary>The OpenAPI document: generated from the endpoint signatures, with shared quantity and vocabulary components, stable
+/// schema names and an invented example.</summary>
 internal static class OpenApiSetup
 {
     // An invented scenario: Harrow Basin Gas Co., site kestrel-ridge, booster K-101A.
@@ -47,24 +48,12 @@ internal static class OpenApiSetup
                 + "Results are screening aids: the manufacturer's limits, the applicable design standard and local codes take precedence, "
                 + "and a licensed engineer must review any change.",
         });
-        options.MapType<QuantityInput>(() => new OpenApiSchema
-        {
-            Description = "A quantity: \"<number> <unit>\" (invariant decimal point) or {\"value\": <number>, \"unit\": \"<unit>\"}; see docs/units.md.",
-            OneOf =
-            [
-                new OpenApiSchema { Type = JsonSchemaType.String, Examples = [JsonValue.Create("1.5 barg")] },
-                new OpenApiSchema
-                {
-                    Type = JsonSchemaType.Object,
-                    Required = new HashSet<string> { "value", "unit" },
-                    Properties = new Dictionary<string, IOpenApiSchema>
-                    {
-                        ["value"] = new OpenApiSchema { Type = JsonSchemaType.Number },
-                        ["unit"] = new OpenApiSchema { Type = JsonSchemaType.String },
-                    },
-                },
-            ],
-        });
+        // Relative: the document is served by the service it describes, wherever that is deployed.
+        options.AddServer(new OpenApiServer { Url = "/", Description = "The service serving this document." });
+        options.CustomSchemaIds(OpenApiSchemaNames.Of);
+        options.SchemaFilter<QuantitySchemaFilter>();
+        options.SchemaFilter<VocabularySchemaFilter>();
+        options.SchemaFilter<CatalogueIdSchemaFilter>();
         options.AddSecurityDefinition(Security.AuthOptions.Scheme, new OpenApiSecurityScheme
         {
             Type = SecuritySchemeType.ApiKey,
