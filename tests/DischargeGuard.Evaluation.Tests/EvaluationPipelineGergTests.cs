@@ -198,7 +198,7 @@ public class EvaluationPipelineGergTests
             Assert.Equal(Aga8GasC[id], response.Gas.Composition[id], 1e-9);
         }
 
-        AssertEx.Within(nistZ, stage.Properties.ZSuction, 1.5e-6, "Z at suction (GERG-2008, NIST AGA8.XLS)");
+        AssertEx.Within(nistZ, stage.Properties!.ZSuction, 1.5e-6, "Z at suction (GERG-2008, NIST AGA8.XLS)");
 
         // The stage answer is the Thermo GERG-2008 stage solve of the same catalogue mixture.
         var direct = RealGasStageSolver.Solve(

@@ -495,7 +495,7 @@ internal static partial class BatchApi
         {
             if (chunk.Results[i].Record is { } record)
             {
-                chunk.Appends[i] = c.Audit.AppendAsync(record, c.Http.RequestAborted).AsTask();
+                chunk.Appends[i] = c.Runner.AppendAsync(c.Audit, chunk.Results[i], c.Http.RequestAborted);
             }
         }
     }

@@ -5,6 +5,7 @@ using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Evaluation.Service;
 using DischargeGuard.Rules.Provider;
 using FluentValidation;
 using Microsoft.AspNetCore.Mvc;
@@ -14,11 +15,11 @@ namespace DischargeGuard.Api.Endpoints;
 
 /// <summary>
 /// One evaluation from request bytes to an audit record and its answer, the same for a single post, a batch item and a
-/// replay: read, validate, evaluate, serialise. Appending the record is the caller's step (a batch appends many at once).
+/// replay, through the Evaluation library's <see cref="EvaluationService"/>, with the host's own guards around it (key
+/// scope, storage, quotas, record size). Appending the record is the caller's step (a batch appends many at once).
 /// </summary>
 internal sealed class EvaluationRunner(
-    EvaluationPipeline pipeline,
-    IValidator<EvaluationRequest> validator,
+    EvaluationService evaluations,
     TimeProvider time,
     StorageQuota quota,
     StorageGuard storage,
@@ -49,10 +50,9 @@ internal sealed class EvaluationRunner(
             return (null, RunResult.Refused(ItemProblems.Invalid(new Dictionary<string, string[]> { [string.Empty] = ["Each item is an evaluation request object."] }, "The request body could not be read.")));
         }
 
-        var validation = validator.Validate(request);
-        return validation.IsValid
-            ? (request, null)
-            : (null, RunResult.Refused(ItemProblems.Invalid(Problems.ErrorsOf(validation.Errors), "The request has invalid fields.")));
+        return evaluations.Validate(request) is { } invalid
+            ? (null, RunResult.Refused(ItemProblems.Invalid(invalid.Errors, invalid.Title)))
+            : (request, null);
     }
 
     /// <summary>Evaluates a request that has been read and validated.</summary>
@@ -83,16 +83,16 @@ internal sealed class EvaluationRunner(
 
         var now = time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
-        var outcome = pipeline.Evaluate(request, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages, Detail = detail });
-        if (outcome.Problem is { } problem)
+        var evaluated = evaluations.Evaluate(request, requestBytes, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages, Detail = detail }, caller, replayOf);
+        if (evaluated.Problem is { } problem)
         {
             return RunResult.Refused(problem.Kind == ProblemKind.InvalidRequest
                 ? ItemProblems.Invalid(problem.Errors, problem.Title, problem.Code)
                 : ItemProblems.Unprocessable(problem));
         }
 
-        var response = outcome.Response!;
-        var record = EvaluationRecords.Of(request, requestBytes, response, EvaluationRecords.ResponseBytes(response), caller, replayOf);
+        var response = evaluated.Response!;
+        var record = evaluated.Record!;
 
         // What the record would store is known only now; nothing has been recorded yet.
         var bytes = StoredBytes(record);
@@ -106,7 +106,22 @@ internal sealed class EvaluationRunner(
             return RunResult.Refused(ItemProblems.QuotaExceeded(caller, spent, limit, untilTomorrow));
         }
 
-        return new RunResult(StatusCodes.Status200OK, record, response, null);
+        return new RunResult(StatusCodes.Status200OK, record, response, null) { Result = evaluated.Result };
+    }
+
+    /// <summary>
+    /// Appends an evaluated item's record, after archiving the rule set it used (once per digest), so the record can be
+    /// explained in full from the store alone; completes when the record is durable.
+    /// </summary>
+    /// <exception cref="AuditStoreUnavailableException">The store could not archive or append.</exception>
+    public async Task AppendAsync(IAuditStore audit, RunResult run, CancellationToken cancellationToken)
+    {
+        if (run.Result is { } result)
+        {
+            await evaluations.ArchiveRuleSetAsync(audit, result, cancellationToken).ConfigureAwait(false);
+        }
+
+        await audit.AppendAsync(run.Record!, cancellationToken).ConfigureAwait(false);
     }
 
     /// <summary>The bytes a record stores against its caller's quota and the per-record cap: request plus response.</summary>
@@ -136,6 +151,9 @@ internal sealed class EvaluationRunner(
 /// <param name="Problem">Why it was refused (otherwise).</param>
 internal sealed record RunResult(int Status, AuditRecord? Record, EvaluationResponse? Response, ProblemDetails? Problem)
 {
+    /// <summary>The result in SI (on 200).</summary>
+    public DischargeGuard.Evaluation.Pipeline.EvaluationResult? Result { get; init; }
+
     public static RunResult Refused(ProblemDetails problem) => new(problem.Status!.Value, null, null, problem);
 }
 
@@ -218,21 +236,14 @@ internal sealed record AssetHistory(IReadOnlyList<IReadOnlyList<DischargeGuard.R
 }
 
 /// <summary>
-/// Reads an asset's history from the audit store for trend rules. The store is asked every time (another replica may
-/// have recorded since), but each stored answer is parsed only once per process: a record never changes, so its samples
-/// are kept by id. Parsing the newest 50 answers of about 19 KB each on every evaluation had cut the throughput of
-/// evaluations with a measurement to a quarter (docs/benchmarks.md).
+/// Reads an asset's history from the audit store for trend rules: the store is asked every time (another replica may
+/// have recorded since), and it answers from each record's per-stage SI summary without reading the answers.
 /// </summary>
-internal sealed class HistoryReader(IAuditStore audit) : IDisposable
+internal sealed class HistoryReader(IAuditStore audit)
 {
-    /// <summary>Records whose samples are kept (a few hundred bytes each at most).</summary>
-    public const int CachedRecords = 100_000;
-
-    private readonly MemoryCache _samples = new(new MemoryCacheOptions { SizeLimit = CachedRecords });
-
     /// <summary>
-    /// The newest stored answers for the request's asset (and site), before <paramref name="before"/> when given, or null
-    /// when the request has no measurement a trend could use.
+    /// The asset's history for trend rules from the store's per-stage SI summaries (never from stored answers), before
+    /// <paramref name="before"/> when given; null when the request has no measurement a trend could use.
     /// </summary>
     /// <exception cref="AuditStoreUnavailableException">The store could not be read.</exception>
     /// <param name="request">The request being evaluated.</param>
@@ -241,32 +252,7 @@ internal sealed class HistoryReader(IAuditStore audit) : IDisposable
     /// <param name="cancellationToken">Cancels the read.</param>
     public async Task<AssetHistory?> LoadAsync(EvaluationRequest request, DateTimeOffset? before, KeyScope scope, CancellationToken cancellationToken)
     {
-        if (!AssetHistory.IsUseful(request))
-        {
-            return null;
-        }
-
-        var samples = new List<IReadOnlyList<StageSample>>(EvaluationHistory.MaxEvaluations);
-        var query = scope.Narrow(new AuditQuery { Asset = request.Asset, SiteId = request.Site?.Id, To = before, Limit = EvaluationHistory.MaxEvaluations });
-        await foreach (var record in audit.QueryAsync(query, cancellationToken).ConfigureAwait(false))
-        {
-            samples.Add(SamplesOf(record));
-        }
-
-        return new AssetHistory(EvaluationHistory.Merge(samples, request.Stages!.Count));
-    }
-
-    public void Dispose() => _samples.Dispose();
-
-    private IReadOnlyList<StageSample> SamplesOf(AuditRecord record)
-    {
-        if (_samples.TryGetValue(record.Id, out IReadOnlyList<StageSample>? known) && known is not null)
-        {
-            return known;
-        }
-
-        var parsed = EvaluationHistory.SamplesOf(record.Response);
-        _samples.Set(record.Id, parsed, new MemoryCacheEntryOptions { Size = 1 });
-        return parsed;
+        var stages = await EvaluationService.HistoryAsync(audit, request, scope.Narrow, before, cancellationToken).ConfigureAwait(false);
+        return stages is null ? null : new AssetHistory(stages);
     }
 }

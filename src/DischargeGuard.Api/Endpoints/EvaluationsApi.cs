@@ -140,7 +140,7 @@ public static partial class EvaluationsApi
         try
         {
             using var wait = ServiceTelemetry.Source.StartActivity("audit.commit-wait");
-            await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+            await runner.AppendAsync(audit, result, http.RequestAborted).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {

@@ -74,7 +74,7 @@ internal static partial class ReplayApi
             {
                 using (ServiceTelemetry.Source.StartActivity("audit.commit-wait"))
                 {
-                    await audit.AppendAsync(record, http.RequestAborted).ConfigureAwait(false);
+                    await runner.AppendAsync(audit, result, http.RequestAborted).ConfigureAwait(false);
                 }
             }
             catch (AuditStoreUnavailableException)

@@ -92,6 +92,7 @@ public static class HostingExtensions
                 CancellationToken.None).GetAwaiter().GetResult();
         });
         builder.Services.AddSingleton<EvaluationPipeline>();
+        builder.Services.AddSingleton<DischargeGuard.Evaluation.Service.EvaluationService>();
         builder.Services.AddSingleton<EvaluationRunner>();
         builder.Services.AddSingleton<HistoryReader>();
         builder.Services.AddOptions<QuotaOptions>().BindConfiguration(QuotaOptions.SectionName).ValidateDataAnnotations()

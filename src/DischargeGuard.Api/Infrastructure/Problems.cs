@@ -65,23 +65,6 @@ internal static class Problems
             type: TypeUri(NotFound),
             extensions: new Dictionary<string, object?> { ["code"] = NotFound });
 
-    // FluentValidation writes "Stages[0].Suction.Pressure"; the contract's paths are camelCase like the JSON.
-    public static string CamelPath(string path)
-    {
-        if (string.IsNullOrEmpty(path))
-        {
-            return path;
-        }
-
-        var parts = path.Split('.');
-        for (var i = 0; i < parts.Length; i++)
-        {
-            if (parts[i].Length > 0 && char.IsUpper(parts[i][0]) && !(i > 0 && parts[i - 1] == "composition"))
-            {
-                parts[i] = char.ToLowerInvariant(parts[i][0]) + parts[i][1..];
-            }
-        }
-
-        return string.Join('.', parts);
-    }
+    // FluentValidation writes "Stages[0].Suction.Pressure"; the contract's paths are camelCase like the JSON (one translator, shared with the gate).
+    public static string CamelPath(string path) => DischargeGuard.Evaluation.Pipeline.ContractPaths.FromValidator(path);
 }

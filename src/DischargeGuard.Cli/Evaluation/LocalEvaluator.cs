@@ -4,6 +4,7 @@ using DischargeGuard.Audit;
 using DischargeGuard.Cli.Proposals;
 using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Evaluation.Pipeline;
+using DischargeGuard.Evaluation.Service;
 using DischargeGuard.Evaluation.Validation;
 using DischargeGuard.Rules.Provider;
 
@@ -21,8 +22,7 @@ public sealed class LocalEvaluator : ICaseEvaluator
     private readonly string _caller;
     private readonly ApprovedRules _approved;
     private readonly TimeProvider _time;
-    private readonly EvaluationPipeline _pipeline = new();
-    private readonly EvaluationRequestValidator _validator = new();
+    private readonly EvaluationService _service = new(new EvaluationPipeline(), new EvaluationRequestValidator());
     private Task<AuditStore>? _store;
 
     private LocalEvaluator(RuleSetSnapshot rules, string rulesDirectory, string auditFile, string caller, ApprovedRules approved, TimeProvider time)
@@ -73,13 +73,15 @@ public sealed class LocalEvaluator : ICaseEvaluator
     {
         ArgumentNullException.ThrowIfNull(proposalCase);
         var request = proposalCase.Request ?? throw new ArgumentException("The case has no request.", nameof(proposalCase));
-        var validation = _validator.Validate(request);
-        if (!validation.IsValid)
+        if (_service.Validate(request) is { } invalidRequest)
         {
             var invalid = new CaseResult(proposalCase, ExitCodes.InvalidInput);
-            foreach (var f in validation.Errors)
+            foreach (var (path, messages) in invalidRequest.Errors)
             {
-                invalid.Errors.Add(proposalCase.ErrorAt(DocPath.FromPropertyName(f.PropertyName), f.ErrorMessage));
+                foreach (var m in messages)
+                {
+                    invalid.Errors.Add(proposalCase.ErrorAt(path, m));
+                }
             }
 
             return invalid;
@@ -92,10 +94,25 @@ public sealed class LocalEvaluator : ICaseEvaluator
             return refused;
         }
 
+        // The same service as the server's: history from this audit file's stage summaries, so the trend rule answers here
+        // as it would there; the same record, and the same bytes, as the service writes.
+        IReadOnlyList<IReadOnlyList<DischargeGuard.Rules.Evaluation.DeviationSample>>? history;
+        AuditStore store;
+        try
+        {
+            _store ??= BeginOpeningAuditFile(_auditFile);
+            store = await _store.ConfigureAwait(false);
+            history = await EvaluationService.HistoryAsync(store, request, q => q, null, cancellationToken).ConfigureAwait(false);
+        }
+        catch (AuditStoreUnavailableException ex)
+        {
+            return Unavailable(proposalCase, ex);
+        }
+
         var now = _time.GetUtcNow();
         var id = Guid.CreateVersion7(now);
-        var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(id, now) { Detail = AnswerDetail.Full });
-        if (outcome.Problem is { } problem)
+        var evaluated = _service.Evaluate(request, proposalCase.RequestJson, _rules, new EvaluationContext(id, now) { Detail = AnswerDetail.Full, History = history }, _caller);
+        if (evaluated.Problem is { } problem)
         {
             var invalid = new CaseResult(proposalCase, ExitCodes.InvalidInput);
             foreach (var (path, messages) in problem.Errors)
@@ -114,25 +131,27 @@ public sealed class LocalEvaluator : ICaseEvaluator
             return invalid;
         }
 
-        var response = outcome.Response!;
-        // The same record, and the same bytes, as the service writes (no reflection on this path).
-        var body = EvaluationRecords.ResponseBytes(response);
-        var record = EvaluationRecords.Of(request, proposalCase.RequestJson, response, body, _caller);
+        var response = evaluated.Response!;
+        var body = evaluated.Record!.Response;
         try
         {
-            _store ??= BeginOpeningAuditFile(_auditFile);
-            var store = await _store.ConfigureAwait(false);
-            await store.AppendAsync(record, cancellationToken).ConfigureAwait(false);
+            await _service.ArchiveRuleSetAsync(store, evaluated.Result!, cancellationToken).ConfigureAwait(false);
+            await store.AppendAsync(evaluated.Record, cancellationToken).ConfigureAwait(false);
         }
         catch (AuditStoreUnavailableException ex)
         {
-            // No record, no result: the answer is withheld exactly as the service withholds it (503).
-            var unavailable = new CaseResult(proposalCase, ExitCodes.ServiceUnavailable);
-            unavailable.Messages.Add($"The local audit file {_auditFile} could not record the evaluation, so no result is reported: {ex.Message}");
-            return unavailable;
+            return Unavailable(proposalCase, ex);
         }
 
         return new CaseResult(proposalCase, ExitCodes.OfVerdict(response.Verdict)) { Response = response, ResponseJson = body, EvaluatedBy = "local" };
+    }
+
+    // No record, no result: the answer is withheld exactly as the service withholds it (503).
+    private CaseResult Unavailable(ProposalCase proposalCase, AuditStoreUnavailableException ex)
+    {
+        var unavailable = new CaseResult(proposalCase, ExitCodes.ServiceUnavailable);
+        unavailable.Messages.Add($"The local audit file {_auditFile} could not record the evaluation, so no result is reported: {ex.Message}");
+        return unavailable;
     }
 
     // A refused resolution (a near miss of a layer id, an asset with another site) has no digest: the pipeline names it

@@ -215,24 +215,6 @@ internal static class DocPath
         return s.StartsWith('.') ? s[1..] : s;
     }
 
-    /// <summary>FluentValidation's "Stages[0].Suction.Pressure" in the contract's camelCase ("stages[0].suction.pressure").</summary>
-    public static string FromPropertyName(string path)
-    {
-        if (string.IsNullOrEmpty(path))
-        {
-            return path;
-        }
-
-        var parts = path.Split('.');
-        for (var i = 0; i < parts.Length; i++)
-        {
-            // Composition keys are species names ("CH4"), not member names: they keep their case.
-            if (parts[i].Length > 0 && char.IsUpper(parts[i][0]) && !(i > 0 && string.Equals(parts[i - 1], "composition", StringComparison.Ordinal)))
-            {
-                parts[i] = char.ToLowerInvariant(parts[i][0]) + parts[i][1..];
-            }
-        }
-
-        return string.Join('.', parts);
-    }
+    /// <summary>FluentValidation's "Stages[0].Suction.Pressure" in the contract's camelCase ("stages[0].suction.pressure"), by the service's own translator.</summary>
+    public static string FromPropertyName(string path) => DischargeGuard.Evaluation.Pipeline.ContractPaths.FromValidator(path);
 }

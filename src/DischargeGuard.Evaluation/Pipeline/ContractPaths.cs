@@ -8,17 +8,41 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// is spelt, how a Thermo error's member maps to the field the caller typed, and the two refusals (400 and 422) keyed by
 /// such a path.
 /// </summary>
-internal static class ContractPaths
+public static class ContractPaths
 {
+    /// <summary>
+    /// A validator's member path (<c>Stages[0].Suction.Pressure</c>) as the contract spells it
+    /// (<c>stages[0].suction.pressure</c>): camelCase like the JSON, except composition keys, which are species names.
+    /// The service's problems and the gate's messages both name fields through this.
+    /// </summary>
+    public static string FromValidator(string path)
+    {
+        if (string.IsNullOrEmpty(path))
+        {
+            return path;
+        }
+
+        var parts = path.Split('.');
+        for (var i = 0; i < parts.Length; i++)
+        {
+            if (parts[i].Length > 0 && char.IsUpper(parts[i][0]) && !(i > 0 && string.Equals(parts[i - 1], "composition", StringComparison.Ordinal)))
+            {
+                parts[i] = char.ToLowerInvariant(parts[i][0]) + parts[i][1..];
+            }
+        }
+
+        return string.Join('.', parts);
+    }
+
     /// <summary>The path of stage <paramref name="index"/>: <c>stages[i]</c>.</summary>
-    public static string Stage(int index) => string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
+    internal static string Stage(int index) => string.Create(CultureInfo.InvariantCulture, $"stages[{index}]");
 
     /// <summary>A malformed field, or one that names something unknown (400).</summary>
-    public static RequestProblemException Invalid(string path, string message) =>
+    internal static RequestProblemException Invalid(string path, string message) =>
         RequestProblemException.Field(ProblemKind.InvalidRequest, "invalid-request", "The request has invalid fields.", path, message);
 
     /// <summary>A well-formed field that is physically impossible or outside the data's range (422).</summary>
-    public static RequestProblemException Unprocessable(string path, string message) =>
+    internal static RequestProblemException Unprocessable(string path, string message) =>
         RequestProblemException.Field(ProblemKind.Unprocessable, "out-of-range", "The request is physically impossible or outside the data's valid range.", path, message);
 
     /// <summary>
@@ -27,7 +51,7 @@ internal static class ContractPaths
     /// </summary>
     /// <param name="member">The member Thermo named, or null.</param>
     /// <param name="stages">The request's stages (a cooled stage's suction comes from its cooler's fields).</param>
-    public static string FromThermoMember(string? member, IReadOnlyList<StageInput> stages)
+    internal static string FromThermoMember(string? member, IReadOnlyList<StageInput> stages)
     {
         if (member is null)
         {
