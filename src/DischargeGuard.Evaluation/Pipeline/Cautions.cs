@@ -13,7 +13,7 @@ public static class Cautions
 
     /// <summary>Added when a stage's temperatures come from the ideal gas.</summary>
     public const string IdealGas =
-        "Stages marked ideal-gas are computed as an ideal gas with temperature-dependent specific heats; the Peng-Robinson real-gas answer is given beside each of them for comparison.";
+        "Stages marked ideal-gas are computed as an ideal gas with temperature-dependent specific heats; ?detail=full gives the Peng-Robinson real-gas answer beside each of them for comparison.";
 
     /// <summary>Added when a stage's temperatures come from the Peng-Robinson real gas.</summary>
     public const string RealGas =
@@ -21,7 +21,7 @@ public static class Cautions
 
     /// <summary>Added when a stage's temperatures come from GERG-2008.</summary>
     public const string Gerg2008 =
-        "Stages marked gerg-2008 use the GERG-2008 reference equation for natural gases and related mixtures (ISO 20765-2; in its normal range Z typically within 0.1 % for natural gas, larger uncertainty in its extended range); Peng-Robinson is shown beside it as a second opinion. Confirm critical cases with the manufacturer's data.";
+        "Stages marked gerg-2008 use the GERG-2008 reference equation for natural gases and related mixtures (ISO 20765-2; in its normal range Z typically within 0.1 % for natural gas, larger uncertainty in its extended range); ?detail=full shows Peng-Robinson beside it as a second opinion. Confirm critical cases with the manufacturer's data.";
 
     /// <summary>Added when a discharge pressure is high enough that real-gas effects may matter.</summary>
     public const string HighPressure =

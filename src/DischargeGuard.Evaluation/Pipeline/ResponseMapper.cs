@@ -290,9 +290,9 @@ public static class ResponseMapper
     }
 
     /// <summary>
-    /// A finding's limit in the unit its source gives: the rule file's stated value in the answer's unit system where the
-    /// source gives one ("150 °C (300 °F)" answers 300 °F in imperial units, not 302 °F), else the source's own unit, else
-    /// the SI value converted. Verdicts and margins are computed from the SI value whatever is shown.
+    /// A finding's limit as its source gives it: the rule file's stated figure in the answer's unit system where the source
+    /// gives one ("150 °C (300 °F)" answers 300 °F in imperial units, not 302 °F; "350 °F" answers 350 °F), else the value
+    /// checked, converted. Verdicts and margins are computed from the SI value whatever is shown.
     /// </summary>
     internal static QuantityDto? LimitOf(Finding f, OutputUnitSystem u)
     {
@@ -301,13 +301,10 @@ public static class ResponseMapper
             return null;
         }
 
-        if (f.LimitAsStated.Count == 0)
-        {
-            return u.Reading(limit);
-        }
-
-        var stated = f.LimitAsStated.FirstOrDefault(v => IsImperial(v.Unit) == u.Imperial) ?? f.LimitAsStated[0];
-        return new QuantityDto(stated.Value, stated.Unit);
+        // One unit system per answer (clients and charts read every temperature on one scale): the source's own figure
+        // where it gives one in the answer's system, else the value checked, converted.
+        var stated = f.LimitAsStated.FirstOrDefault(v => IsImperial(v.Unit) == u.Imperial && v.Unit is not ("K" or "°R"));
+        return stated is null ? u.Reading(limit) : new QuantityDto(stated.Value, stated.Unit);
     }
 
     private static bool IsImperial(string unit) => unit is "°F" or "°R" or "Δ°F" or "Δ°R";
