@@ -6,9 +6,9 @@ namespace DischargeGuard.Evaluation.Contract;
 
 /// <summary>
 /// A quantity as a caller writes it: either the string <c>"&lt;number&gt; &lt;unit&gt;"</c> (invariant decimal point,
-/// e.g. <c>"1.5 barg"</c>) or the object <c>{"value": 1.5, "unit": "barg"}</c>. Parsing into a physical quantity is the
-/// validators' and the pipeline's job (through the one unit vocabulary), so the error can name the field and list the
-/// accepted units.
+/// e.g. <c>"1.5 barg"</c>) or the object <c>{"value": 1.5, "unit": "barg"}</c>. It is parsed once, through the one unit
+/// vocabulary (<see cref="Parse"/>): the validator's parse is kept on the instance and the binder reuses it, so the
+/// error can name the field and list the accepted units without the text being read twice.
 /// </summary>
 [JsonConverter(typeof(QuantityInputJsonConverter))]
 public sealed record QuantityInput
@@ -18,6 +18,39 @@ public sealed record QuantityInput
 
     /// <summary>The text form, e.g. <c>"35 °C"</c>. The object form is turned into <c>"value unit"</c> with the invariant culture.</summary>
     public string Text { get; }
+
+    // The last parse: (vocabulary, kind, result, error), replaced whole so a reader never sees half of it.
+    private ParseMemo? _memo;
+
+    /// <summary>
+    /// Parses the text as a quantity of <paramref name="kind"/> with <paramref name="units"/>, once: a second call with the
+    /// same vocabulary and kind returns the first call's result.
+    /// </summary>
+    /// <param name="units">The unit vocabulary.</param>
+    /// <param name="kind">The kind of quantity expected.</param>
+    /// <param name="result">The parsed quantity.</param>
+    /// <param name="error">What was wrong.</param>
+    /// <returns>Whether the text reads as such a quantity.</returns>
+    public bool Parse(Rules.Units.UnitVocabulary units, Rules.Units.QuantityKind kind, out Rules.Units.ParsedQuantity? result, out Rules.Units.UnitParseError? error)
+    {
+        ArgumentNullException.ThrowIfNull(units);
+        if (_memo is { } m && ReferenceEquals(m.Units, units) && m.Kind == kind)
+        {
+            result = m.Result;
+            error = m.Error;
+            return m.Result is not null;
+        }
+
+        var ok = units.TryParse(Text, kind, out result, out error);
+        _memo = new ParseMemo(units, kind, result, error);
+        return ok;
+    }
+
+    /// <summary>Two quantities are equal when their text is (the parse kept on an instance is not part of its value).</summary>
+    public bool Equals(QuantityInput? other) => other is not null && string.Equals(Text, other.Text, StringComparison.Ordinal);
+
+    /// <inheritdoc/>
+    public override int GetHashCode() => StringComparer.Ordinal.GetHashCode(Text);
 
     /// <summary>Creates a quantity from a number and a unit token.</summary>
     public static QuantityInput Of(double value, string unit) =>
@@ -86,3 +119,5 @@ public sealed class QuantityInputJsonConverter : JsonConverter<QuantityInput>
         writer.WriteStringValue(value.Text);
     }
 }
+
+internal sealed record ParseMemo(Rules.Units.UnitVocabulary Units, Rules.Units.QuantityKind Kind, Rules.Units.ParsedQuantity? Result, Rules.Units.UnitParseError? Error);

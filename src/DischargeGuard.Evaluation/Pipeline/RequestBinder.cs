@@ -95,7 +95,7 @@ internal sealed class RequestBinder(UnitVocabulary units)
         {
             try
             {
-                drop = units.TryParse(dropText.Text, QuantityKind.Fraction, out var fraction, out _)
+                drop = dropText.Parse(units, QuantityKind.Fraction, out var fraction, out _)
                     ? PressureDrop.OfUpstream(((Ratio)fraction!.Quantity).DecimalFractions)
                     : PressureDrop.Absolute((Pressure)Parse(dropText, QuantityKind.PressureDifference, path + ".intercooler.pressureDrop").Quantity);
             }
@@ -455,7 +455,7 @@ internal sealed class RequestBinder(UnitVocabulary units)
     }
 
     private ParsedQuantity Parse(QuantityInput q, QuantityKind kind, string path) =>
-        units.TryParse(q.Text, kind, out var parsed, out var error)
+        q.Parse(units, kind, out var parsed, out var error)
             ? parsed!
             : throw Invalid(path, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
 }

@@ -105,7 +105,7 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
             {
                 foreach (var (field, q) in new[] { ("suction.pressure", stage.Suction?.Pressure), ("discharge.pressure", stage.Discharge?.Pressure) })
                 {
-                    if (q is not null && units.TryParse(q.Text, QuantityKind.Pressure, out var parsed, out _) && parsed!.Basis == PressureBasis.Gauge)
+                    if (q is not null && q.Parse(units, QuantityKind.Pressure, out var parsed, out _) && parsed!.Basis == PressureBasis.Gauge)
                     {
                         context.AddFailure(
                             path + "." + field,
@@ -253,7 +253,7 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
             c.RuleFor(x => x.OutletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.OutletTemperature is not null);
             c.RuleFor(x => x.Approach).Quantity(units, QuantityKind.TemperatureDifference).When(x => x.Approach is not null);
             c.RuleFor(x => x.CoolantTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.CoolantTemperature is not null);
-            c.RuleFor(x => x.PressureDrop).Must(q => q is null || units.TryParse(q.Text, QuantityKind.PressureDifference, out _, out _) || units.TryParse(q.Text, QuantityKind.Fraction, out _, out _))
+            c.RuleFor(x => x.PressureDrop).Must(q => q is null || q.Parse(units, QuantityKind.PressureDifference, out _, out _) || q.Parse(units, QuantityKind.Fraction, out _, out _))
                 .WithMessage(q => $"'{q.PressureDrop?.Text}' is neither a pressure difference nor a percentage. Accepted units: {string.Join(", ", units.AcceptedTokens(QuantityKind.PressureDifference))}, or % of the upstream pressure.");
         }).When(x => x.Intercooler is not null);
         RuleFor(x => x.Discharge).NotNull().WithMessage("Give the discharge pressure with its basis (e.g. \"6.8 barg\").");
@@ -329,7 +329,7 @@ public static class QuantityRuleExtensions
                 return;
             }
 
-            if (!units.TryParse(q.Text, kind, out var parsed, out var error))
+            if (!q.Parse(units, kind, out var parsed, out var error))
             {
                 context.AddFailure($"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
                 return;
