@@ -37,7 +37,8 @@ public static class HumidEnvelopeSolver
                 var sc = c with { SuctionTemperature = Temperature.FromKelvins(t1) };
                 if (realGas)
                 {
-                    var r = RealGasStageSolver.Solve(RealGasMixture.Create(trial), sc);
+                    // Each trial is a new composition: built on the species list's cached constants, not cached itself.
+                    var r = RealGasStageSolver.Solve(RealGasMixture.ForComposition(trial), sc);
                     return Pick(quantity, r.IsentropicDischargeTemperature, r.EstimatedDischargeTemperature, r.EstimatedUpperBound);
                 }
 
@@ -75,17 +76,19 @@ public static class HumidEnvelopeSolver
                 $"Already exceeded even at the lowest suction temperature ({lo - 273.15:0.#} °C) at this relative humidity ({rh:0.###})."));
         }
 
-        // Bisection with a regula-falsi step: f(lo) < 0; a trial above the limit or without an answer (steam, liquid) is "high".
+        // Illinois (regula falsi halving the stale end's value): f(lo) < 0; a trial above the limit or without an answer
+        // (steam, liquid) is "high", and without a value there the next step bisects.
         var fHi = At(hi) - tLim;
         if (fHi is { } fh0 && fh0 < 0)
         {
             return new(EnvelopeStatus.NotReachableInRange, null, "The limit is not reached below the limit itself at this humidity.");
         }
 
+        var side = 0;
         for (var i = 0; i < MaxIterations && hi - lo > 1e-7; i++)
         {
             var x = fHi is { } fh && fh - fl > 0 ? hi - (fh * (hi - lo) / (fh - fl)) : 0.5 * (lo + hi);
-            if (!(x > lo + (0.01 * (hi - lo)) && x < hi - (0.01 * (hi - lo))))
+            if (!(x > lo && x < hi))
             {
                 x = 0.5 * (lo + hi);
             }
@@ -95,17 +98,35 @@ public static class HumidEnvelopeSolver
             {
                 lo = x;
                 fl = v;
+                if (side == -1 && fHi is { } stale)
+                {
+                    fHi = stale / 2;
+                }
+
+                side = -1;
             }
             else
             {
                 hi = x;
                 fHi = fx;
+                if (side == 1)
+                {
+                    fl /= 2;
+                }
+
+                side = 1;
+            }
+
+            if (fx is { } exact && Math.Abs(exact) <= 1e-9)
+            {
+                return new(EnvelopeStatus.Found, Temperature.FromKelvins(x), HeldNote(rh));
             }
         }
 
-        return new(EnvelopeStatus.Found, Temperature.FromKelvins(0.5 * (lo + hi)), string.Create(CultureInfo.InvariantCulture,
-            $"Relative humidity held at {rh:0.###} as the suction temperature moves."));
+        return new(EnvelopeStatus.Found, Temperature.FromKelvins(0.5 * (lo + hi)), HeldNote(rh));
     }
+
+    private static string HeldNote(double rh) => string.Create(CultureInfo.InvariantCulture, $"Relative humidity held at {rh:0.###} as the suction temperature moves.");
 
     private static double Pick(TemperatureQuantity quantity, Temperature isentropic, Temperature estimated, Temperature upper) => quantity switch
     {
