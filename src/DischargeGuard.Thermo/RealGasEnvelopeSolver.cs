@@ -49,6 +49,21 @@ public static class RealGasEnvelopeSolver
         var c = conditions;
         double? At(double p2) => TemperatureAt(gas, c with { DischargePressure = Pressure.FromPascals(p2) }, quantity);
         var lo = p1 * 1.0001;
+
+        // Bracket near the ideal-gas answer first (the real gas moves it by a few per cent at most where a stage is
+        // near-ideal), so the search needs a handful of stage solves instead of sixty. The stage temperature rises with
+        // the discharge pressure, so a bracket there also settles that the lowest ratio is below the limit.
+        var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
+        if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
+            && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
+            && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
+            && At(guess.Pascals * 1.05) is { } tAbove && tAbove >= tLim)
+        {
+            // The values at the bracket's ends are handed on, not solved again.
+            var bracketed = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(guess.Pascals * 0.95), Math.Log(guess.Pascals * 1.05), tBelow - tLim, tAbove - tLim);
+            return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(bracketed)), FoundNote);
+        }
+
         if (At(lo) is not { } tLo)
         {
             return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
@@ -59,37 +74,21 @@ public static class RealGasEnvelopeSolver
             return new(EnvelopeStatus.AlreadyExceeded, null, ExceededNote);
         }
 
-        // Bracket near the ideal-gas answer first (the real gas moves it by a few per cent at most where a stage is
-        // near-ideal), so the search needs a handful of stage solves instead of sixty.
-        double hi;
-        double? tHi;
-        var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
-        if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
-            && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
-            && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
-            && At(guess.Pascals * 1.05) is { } tAbove && tAbove >= tLim)
+        // The highest pressure the model answers at (its ceiling, or below it where the state leaves the vapour region).
+        var hi = gas.MaximumPressurePascals;
+        var tHi = At(hi);
+        for (var k = 0; tHi is null && k < 40 && hi > lo * 1.01; k++)
         {
-            lo = guess.Pascals * 0.95;
-            hi = guess.Pascals * 1.05;
-        }
-        else
-        {
-            // The highest pressure the model answers at (its ceiling, or below it where the state leaves the vapour region).
-            hi = gas.MaximumPressurePascals;
+            hi = Math.Sqrt(hi * lo);
             tHi = At(hi);
-            for (var k = 0; tHi is null && k < 40 && hi > lo * 1.01; k++)
-            {
-                hi = Math.Sqrt(hi * lo);
-                tHi = At(hi);
-            }
-
-            if (tHi is null || tHi < tLim)
-            {
-                return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
-            }
         }
 
-        var p = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(lo), Math.Log(hi));
+        if (tHi is not { } th || th < tLim)
+        {
+            return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
+        }
+
+        var p = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(lo), Math.Log(hi), tLo - tLim, th - tLim);
         return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(p)), FoundNote);
     }
 
@@ -126,24 +125,29 @@ public static class RealGasEnvelopeSolver
         }
 
         var idealT1 = EnvelopeSolver.MaxSuctionTemperature(gas.IdealGas, conditions, quantity, limit);
+        double? fLo = tLo - tLim;
+        double? fHi = null;
         if (idealT1.Status == EnvelopeStatus.Found && idealT1.Value is { } g
             && g.Kelvins - 5 > lo && g.Kelvins + 5 < hi
             && At(g.Kelvins - 5) is { } below && below < tLim && At(g.Kelvins + 5) is { } above && above >= tLim)
         {
             lo = g.Kelvins - 5;
             hi = g.Kelvins + 5;
+            fLo = below - tLim;
+            fHi = above - tLim;
         }
 
-        var t1 = Solve(x => At(x) - tLim, lo, hi);
+        var t1 = Solve(x => At(x) - tLim, lo, hi, fLo, fHi ?? At(hi) - tLim);
         return new(EnvelopeStatus.Found, Temperature.FromKelvins(t1), FoundNote);
     }
 
     // Illinois (regula falsi with halving of the stale end's value) on f with f(lo) < 0 ≤ f(hi); a point where the model
     // gives no answer counts as above the limit (it lies beyond the vapour region). Stops at 1e-7 relative width or 1e-9 K.
-    private static double Solve(Func<double, double?> f, double lo, double hi)
+    // The values at the ends are the caller's (it has solved them already).
+    private static double Solve(Func<double, double?> f, double lo, double hi, double? valueAtLo, double? valueAtHi)
     {
-        var fLo = f(lo) ?? -1;
-        var fHi = f(hi) ?? 1;
+        var fLo = valueAtLo ?? -1;
+        var fHi = valueAtHi ?? 1;
         var side = 0;
         for (var i = 0; i < MaxHalvings; i++)
         {
