@@ -1,4 +1,5 @@
 using System.Globalization;
+using DischargeGuard.Thermo.Core;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -12,6 +13,10 @@ public static class HumidEnvelopeSolver
 {
     private const int MaxIterations = 200;
 
+    // The secant's stop: 1e-7 K in the discharge temperature (the bracketed search stops at a 1e-7 K wide bracket).
+    private const double SecantToleranceKelvin = 1e-7;
+    private const int SecantSteps = 8;
+
     /// <summary>
     /// The highest suction temperature at which <paramref name="quantity"/> reaches <paramref name="limit"/>, the
     /// relative humidity of <paramref name="gas"/> at the stage's suction held fixed.
@@ -22,7 +27,11 @@ public static class HumidEnvelopeSolver
     /// <param name="limit">The limit.</param>
     /// <param name="realGas">True to solve each trial with Peng-Robinson, false for the ideal gas.</param>
     /// <returns>The suction temperature, or why there is none.</returns>
-    public static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas)
+    public static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas) =>
+        MaxSuctionTemperature(gas, conditions, quantity, limit, realGas, fastPath: true);
+
+    /// <summary>As the public overload; <paramref name="fastPath"/> false runs the bracketed search alone (tests compare the two).</summary>
+    internal static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas, bool fastPath)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var rh = HumidGas.RelativeHumidity(gas, conditions.SuctionTemperature, conditions.SuctionPressure);
@@ -58,6 +67,19 @@ public static class HumidEnvelopeSolver
 
         var lo = Math.Max(WaterSaturation.MinimumKelvin, dry.MinimumKelvin);
         var hi = Math.Min(tLim, Math.Min(dry.MaximumKelvin, WaterSaturation.CriticalKelvin));
+
+        // Fast path: secant from the stage's own suction temperature, its first step taking the discharge temperature as
+        // proportional to the suction temperature (as it nearly is at a fixed ratio). The discharge temperature rises
+        // with the suction temperature, so a root inside [lo, hi] is the one the bracketed search below would find;
+        // where the secant gives up, that search runs as before.
+        double? At2(double t1) => At(t1) - tLim;
+        var t0 = conditions.SuctionTemperature.Kelvins;
+        if (fastPath && t0 >= lo && t0 <= hi && At(t0) is { } tAtStart && tAtStart > 0
+            && SecantRoot.TryFind(At2, t0, tAtStart - tLim, t0 * tLim / tAtStart, lo, hi, SecantToleranceKelvin, SecantSteps, out var root))
+        {
+            return new(EnvelopeStatus.Found, Temperature.FromKelvins(root), HeldNote(rh));
+        }
+
         var fLo = At(lo) - tLim;
         for (var k = 0; fLo is null && k < 60 && lo < hi - 0.5; k++)
         {

@@ -1,3 +1,4 @@
+using DischargeGuard.Thermo.Core;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -13,6 +14,11 @@ public static class RealGasEnvelopeSolver
 {
     private const int MaxHalvings = 60;
     private const double RelativeWidth = 1e-7;
+
+    // The secant's stop: 1e-7 K in the stage temperature, well inside what the bracketed search's 1e-7 relative width in
+    // ln P leaves (≈ 1e-4 K); a handful of steps, or the bracketed search takes over.
+    private const double SecantToleranceKelvin = 1e-7;
+    private const int SecantSteps = 6;
 
     private const string FoundNote = "Solved (a bracketed search on the real-gas stage) for the point where the temperature reaches the limit.";
     private const string ExceededNote = "The temperature already exceeds the limit at the lowest pressure ratio searched.";
@@ -36,7 +42,8 @@ public static class RealGasEnvelopeSolver
     public static EnvelopeResult<Temperature> MaxSuctionTemperature(Gerg2008Mixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
         MaxSuctionTemperatureCore(gas, conditions, quantity, limit);
 
-    private static EnvelopeResult<Pressure> MaxDischargePressureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
+    // fastPath false runs the bracketed search alone (tests compare the two).
+    internal static EnvelopeResult<Pressure> MaxDischargePressureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool fastPath = true)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var p1 = conditions.SuctionPressure.Pascals;
@@ -54,6 +61,21 @@ public static class RealGasEnvelopeSolver
         // near-ideal), so the search needs a handful of stage solves instead of sixty. The stage temperature rises with
         // the discharge pressure, so a bracket there also settles that the lowest ratio is below the limit.
         var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
+        if (fastPath && idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } start
+            && start.Pascals * 1.05 <= gas.MaximumPressurePascals && start.Pascals * 0.95 > lo
+            && At(start.Pascals) is { } tStart)
+        {
+            // Fast path: secant in ln P from the ideal-gas answer, its first step along the ideal gas's slope, inside the
+            // same ±5 % window; where it gives up the bracketed search below runs as before.
+            var x0 = Math.Log(start.Pascals);
+            var slope = IdealSlopePerLogPressure(gas.IdealGas, conditions, quantity, start.Pascals);
+            if (slope > 0
+                && SecantRoot.TryFind(x => At(Math.Exp(x)) - tLim, x0, tStart - tLim, x0 - ((tStart - tLim) / slope), Math.Log(start.Pascals * 0.95), Math.Log(start.Pascals * 1.05), SecantToleranceKelvin, SecantSteps, out var root))
+            {
+                return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(root)), FoundNote);
+            }
+        }
+
         if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
             && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
             && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
@@ -194,6 +216,27 @@ public static class RealGasEnvelopeSolver
 
         return 0.5 * (lo + hi);
     }
+
+    // d(T)/d(ln P2) of the ideal-gas stage at p2 (a forward difference over 0.1 %), K; NaN where it has no answer.
+    private static double IdealSlopePerLogPressure(GasMixture ideal, in StageConditions conditions, TemperatureQuantity quantity, double p2Pascals)
+    {
+        var p1 = conditions.SuctionPressure.Pascals;
+        var t1 = conditions.SuctionTemperature.Kelvins;
+        if (!StageSolver.TrySolveCore(ideal, t1, p2Pascals / p1, conditions.Efficiency, out var a)
+            || !StageSolver.TrySolveCore(ideal, t1, p2Pascals * 1.001 / p1, conditions.Efficiency, out var b))
+        {
+            return double.NaN;
+        }
+
+        return (Pick(b, quantity) - Pick(a, quantity)) / Math.Log(1.001);
+    }
+
+    private static double Pick(in StageSolver.StageNumbers n, TemperatureQuantity quantity) => quantity switch
+    {
+        TemperatureQuantity.Isentropic => n.T2s,
+        TemperatureQuantity.Estimated => n.T2,
+        _ => n.T2High,
+    };
 
     // The stage's temperature, or null where the model gives none (liquid or two-phase, outside its range).
     private static double? TemperatureAt(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity)

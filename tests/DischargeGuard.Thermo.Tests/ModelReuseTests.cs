@@ -124,4 +124,82 @@ public sealed class ModelReuseTests
             Assert.Equal(expected[k], RealGasMixture.Create(gases[k]).StateAt(Temperature.FromKelvins(400), Pressure.FromBars(5)));
         });
     }
+
+    [Theory]
+    [InlineData(false)]
+    [InlineData(true)]
+    public void HumidMaxSuctionTemperature_FastPathOverASweep_GivesTheBracketedAnswer(bool realGas)
+    {
+        // Humid air 0.1–1.0 RH, suction 0–60 °C, 1.2 bar(a) to ratios 2–6, limits 120–220 °C, all three quantities: the
+        // secant's answer must be the bracketed search's within its 1e-7 K bracket (plus the secant's 1e-7 K stop),
+        // with the same status.
+        var checkedFound = 0;
+        foreach (var rh in new[] { 0.1, 0.6, 1.0 })
+        {
+            foreach (var celsius in new[] { 0.0, 30, 60 })
+            {
+                foreach (var ratio in new[] { 2.0, 4, 6 })
+                {
+                    var gas = HumidAir(rh, celsius);
+                    var c = new StageConditions(Pressure.FromBars(1.2), Temperature.FromDegreesCelsius(celsius), Pressure.FromBars(1.2 * ratio), StageEfficiency.Isentropic(0.8, 0.03));
+                    foreach (var limitC in new[] { 120.0, 170, 220 })
+                    {
+                        foreach (var q in new[] { TemperatureQuantity.Isentropic, TemperatureQuantity.Estimated, TemperatureQuantity.EstimatedUpperBound })
+                        {
+                            var limit = Temperature.FromDegreesCelsius(limitC);
+                            var fast = HumidEnvelopeSolver.MaxSuctionTemperature(gas, c, q, limit, realGas, fastPath: true);
+                            var slow = HumidEnvelopeSolver.MaxSuctionTemperature(gas, c, q, limit, realGas, fastPath: false);
+                            Assert.Equal(slow.Status, fast.Status);
+                            if (slow.Value is { } s0)
+                            {
+                                AssertEx.Within(s0.Kelvins, fast.Value!.Value.Kelvins, 1e-6, $"RH {rh}, {celsius} °C, ratio {ratio}, {limitC} °C, {q}");
+                                checkedFound++;
+                            }
+                        }
+                    }
+                }
+            }
+        }
+
+        Assert.True(checkedFound > 100, $"only {checkedFound} found answers compared");
+    }
+
+    [Fact]
+    public void RealGasMaxDischargePressure_FastPathOverASweep_GivesTheBracketedAnswer()
+    {
+        // Peng-Robinson and GERG-2008 on humid air and a natural gas, suction 1–40 bar(a), limits 100–220 °C: the secant's
+        // pressure must be the bracketed search's within its 1e-7 relative width in ln P (≈ 2e-6 relative in P).
+        var naturalGas = GasCatalog.Default.CreateMixture(
+            [new("CH4", 0.89), new("C2H6", 0.05), new("C3H8", 0.02), new("n-C4H10", 0.01), new("N2", 0.02), new("CO2", 0.01)],
+            CompositionBasis.Mole);
+        var checkedFound = 0;
+        foreach (var gas in new[] { HumidAir(0.6, 35), naturalGas })
+        {
+            IRealGasModel[] models = [RealGasMixture.Create(gas), Gerg2008Mixture.Create(gas)];
+            foreach (var model in models)
+            {
+                foreach (var bar in new[] { 1.0, 10, 40 })
+                {
+                    var c = new StageConditions(Pressure.FromBars(bar), Temperature.FromDegreesCelsius(35), Pressure.FromBars(bar * 2), StageEfficiency.Isentropic(0.8, 0.03));
+                    foreach (var limitC in new[] { 100.0, 150, 220 })
+                    {
+                        foreach (var q in new[] { TemperatureQuantity.Isentropic, TemperatureQuantity.Estimated, TemperatureQuantity.EstimatedUpperBound })
+                        {
+                            var limit = Temperature.FromDegreesCelsius(limitC);
+                            var fast = RealGasEnvelopeSolver.MaxDischargePressureCore(model, c, q, limit, fastPath: true);
+                            var slow = RealGasEnvelopeSolver.MaxDischargePressureCore(model, c, q, limit, fastPath: false);
+                            Assert.Equal(slow.Status, fast.Status);
+                            if (slow.Value is { } s0)
+                            {
+                                AssertEx.WithinRelative(s0.Pascals, fast.Value!.Value.Pascals, 2e-6, $"{model.GetType().Name} {bar} bar, {limitC} °C, {q}");
+                                checkedFound++;
+                            }
+                        }
+                    }
+                }
+            }
+        }
+
+        Assert.True(checkedFound > 60, $"only {checkedFound} found answers compared");
+    }
 }
