@@ -66,6 +66,8 @@ internal static class EvaluationBreakdown
         var pipeline = new EvaluationPipeline();
         var validator = new EvaluationRequestValidator();
         var context = new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch);
+        var cpu = Process.GetCurrentProcess().TotalProcessorTime;
+        var bytes = GC.GetAllocatedBytesForCurrentThread();
         var sw = Stopwatch.StartNew();
         var n = 0;
         while (sw.Elapsed.TotalSeconds < seconds)
@@ -76,7 +78,9 @@ internal static class EvaluationBreakdown
             n++;
         }
 
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{n} requests, {sw.Elapsed.TotalMicroseconds / n:0.0} µs each"));
+        cpu = Process.GetCurrentProcess().TotalProcessorTime - cpu;
+        bytes = GC.GetAllocatedBytesForCurrentThread() - bytes;
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{n} requests: {sw.Elapsed.TotalMicroseconds / n:0.0} µs wall, {cpu.TotalMicroseconds / n:0.0} µs process CPU, {bytes / n} B allocated each"));
     }
 
     private static void Time<T>(string name, int iterations, Func<T> action)
