@@ -11,7 +11,8 @@ namespace DischargeGuard.Bench;
 [MemoryDiagnoser]
 public class PipelineBenchmarks
 {
-    private const string Body = """
+    /// <summary>The one-stage request (the README's example shape; method auto by default).</summary>
+    internal const string Body = """
     {"asset":"K-101A","site":{"id":"kestrel-ridge","elevation":"350 m"},"gas":{"preset":"dry-air","relativeHumidity":0.6},
      "stages":[{"suction":{"pressure":"0.2 barg","temperature":"35 °C"},"discharge":{"pressure":"2.6 barg"},
        "efficiency":{"isentropic":0.80,"uncertainty":0.03},
@@ -24,6 +25,7 @@ public class PipelineBenchmarks
     private readonly EvaluationRequestValidator _validator = new();
     private RuleSetSnapshot _rules = null!;
     private byte[] _utf8 = [];
+    private long _calls;
 
     [GlobalSetup]
     public void Setup()
@@ -36,6 +38,20 @@ public class PipelineBenchmarks
     public int EvaluateOneStage()
     {
         var request = JsonSerializer.Deserialize<EvaluationRequest>(_utf8, EvaluationJson.Options)!;
+        _validator.Validate(request);
+        var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch));
+        return JsonSerializer.SerializeToUtf8Bytes(outcome.Response!, EvaluationJson.Options).Length;
+    }
+
+    /// <summary>
+    /// The same request with a relative humidity that differs in the last digits at every call, so no per-composition
+    /// model or result is ever reused: the figure for a stream of requests that never repeat a gas.
+    /// </summary>
+    [Benchmark(Description = "one-stage request, a new gas composition every call (no reuse)")]
+    public int EvaluateOneStageNewGas()
+    {
+        var request = JsonSerializer.Deserialize<EvaluationRequest>(_utf8, EvaluationJson.Options)!;
+        request = request with { Gas = request.Gas! with { RelativeHumidity = 0.6 + ((++_calls % 1_000_000) * 1e-9) } };
         _validator.Validate(request);
         var outcome = _pipeline.Evaluate(request, _rules, new EvaluationContext(Guid.CreateVersion7(), DateTimeOffset.UnixEpoch));
         return JsonSerializer.SerializeToUtf8Bytes(outcome.Response!, EvaluationJson.Options).Length;

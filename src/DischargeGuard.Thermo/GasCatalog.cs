@@ -21,6 +21,9 @@ public sealed class GasCatalog
     private readonly FrozenDictionary<string, Species> _byKey;
     private readonly FrozenDictionary<string, GasPreset> _presets;
 
+    // A preset's mixture is immutable and the same every time: built once per preset, not per request.
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<string, GasMixture> _presetMixtures = new(StringComparer.Ordinal);
+
     private GasCatalog(IReadOnlyList<Species> species, IReadOnlyList<GasPreset> presets, string about)
     {
         Species = species;
@@ -73,7 +76,7 @@ public sealed class GasCatalog
         return _presets.TryGetValue(id.Trim(), out preset!);
     }
 
-    /// <summary>The mixture of a preset.</summary>
+    /// <summary>The mixture of a preset (one immutable instance per preset).</summary>
     /// <exception cref="ArgumentOutOfRangeException">The preset is unknown; the message lists the known ones.</exception>
     public GasMixture Preset(string id)
     {
@@ -82,7 +85,7 @@ public sealed class GasCatalog
             throw new ArgumentOutOfRangeException(nameof(id), id, $"Unknown gas preset '{id}'. Known presets: {string.Join(", ", Presets.Select(p => p.Id))}.");
         }
 
-        return CreateMixture(preset.MoleFractions, CompositionBasis.Mole);
+        return _presetMixtures.GetOrAdd(preset.Id, static (_, state) => state.Catalog.CreateMixture(state.Preset.MoleFractions, CompositionBasis.Mole), (Catalog: this, Preset: preset));
     }
 
     /// <summary>

@@ -32,6 +32,7 @@ public sealed class GasMixture
         SpecificGasConstantJoulesPerKilogramKelvin = ThermoConstants.MolarGasConstantJoulesPerMoleKelvin / molarMass;
         MinimumKelvin = minK;
         MaximumKelvin = maxK;
+        CompositionHash = Core.CompositionKey.HashOf(components);
         foreach (var c in components)
         {
             if (c.Species.Id == "H2O")
@@ -40,6 +41,12 @@ public sealed class GasMixture
             }
         }
     }
+
+    /// <summary>The components as a span (the per-composition model caches compare them).</summary>
+    internal ReadOnlySpan<MixtureComponent> ComponentSpan => _components;
+
+    /// <summary>Hash of the species instances and the mole fractions' bits (<see cref="Core.CompositionKey"/>).</summary>
+    internal int CompositionHash { get; }
 
     /// <summary>Mole fraction of water vapour (0 for a dry gas); kept as a field because trains ask for it per stage.</summary>
     public double WaterMoleFraction { get; }
@@ -149,8 +156,21 @@ public sealed class GasMixture
     /// <summary>A mixture with water vapour at mole fraction <paramref name="waterMoleFraction"/> replacing part of this (dry) gas.</summary>
     internal GasMixture WithWaterFraction(Species water, double waterMoleFraction)
     {
-        var species = new List<Species>();
-        var moles = new List<double>();
+        // Plain loops, no LINQ: the humid envelope builds one of these per trial suction temperature.
+        var n = 0;
+        foreach (var c in _components)
+        {
+            if (c.Species != water)
+            {
+                n++;
+            }
+        }
+
+        var withWater = waterMoleFraction > 0;
+        var species = new Species[withWater ? n + 1 : n];
+        var moles = new double[species.Length];
+        var k = 0;
+        var dry = 0.0;
         foreach (var c in _components)
         {
             if (c.Species == water)
@@ -158,45 +178,74 @@ public sealed class GasMixture
                 continue;
             }
 
-            species.Add(c.Species);
-            moles.Add(c.MoleFraction);
+            species[k] = c.Species;
+            moles[k] = c.MoleFraction;
+            dry += c.MoleFraction;
+            k++;
         }
 
-        var dry = moles.Sum();
-        for (var i = 0; i < moles.Count; i++)
+        for (var i = 0; i < n; i++)
         {
             moles[i] = moles[i] / dry * (1 - waterMoleFraction);
         }
 
-        if (waterMoleFraction > 0)
+        if (withWater)
         {
-            species.Add(water);
-            moles.Add(waterMoleFraction);
+            species[n] = water;
+            moles[n] = waterMoleFraction;
         }
 
-        return FromAmounts(species.ToArray(), moles.ToArray());
+        return FromAmounts(species, moles);
     }
 
     internal static GasMixture FromAmounts(Species[] species, double[] moles)
     {
-        var total = moles.Sum();
-        var order = Enumerable.Range(0, species.Length).OrderByDescending(i => moles[i]).ToArray();
-        var x = order.Select(i => moles[i] / total).ToArray();
-        var sp = order.Select(i => species[i]).ToArray();
-        var molarMass = 0.0;
-        for (var i = 0; i < sp.Length; i++)
+        var count = species.Length;
+        if (count == 0)
         {
+            throw new InvalidOperationException("A mixture needs at least one species.");
+        }
+
+        var total = 0.0;
+        for (var i = 0; i < count; i++)
+        {
+            total += moles[i];
+        }
+
+        // Largest amount first, ties in their given order (a stable insertion sort of the indices).
+        Span<int> order = count <= 64 ? stackalloc int[count] : new int[count];
+        for (var i = 0; i < count; i++)
+        {
+            var j = i;
+            while (j > 0 && moles[order[j - 1]] < moles[i])
+            {
+                order[j] = order[j - 1];
+                j--;
+            }
+
+            order[j] = i;
+        }
+
+        var x = new double[count];
+        var sp = new Species[count];
+        var molarMass = 0.0;
+        for (var i = 0; i < count; i++)
+        {
+            x[i] = moles[order[i]] / total;
+            sp[i] = species[order[i]];
             molarMass += x[i] * sp[i].MolarMassKilogramsPerMole;
         }
 
-        var components = new MixtureComponent[sp.Length];
-        for (var i = 0; i < sp.Length; i++)
+        var components = new MixtureComponent[count];
+        var minK = double.NegativeInfinity;
+        var maxK = double.PositiveInfinity;
+        for (var i = 0; i < count; i++)
         {
             components[i] = new MixtureComponent(sp[i], x[i], x[i] * sp[i].MolarMassKilogramsPerMole / molarMass);
+            minK = Math.Max(minK, sp[i].MinimumKelvin);
+            maxK = Math.Min(maxK, sp[i].MaximumKelvin);
         }
 
-        var minK = sp.Max(s => s.MinimumKelvin);
-        var maxK = sp.Min(s => s.MaximumKelvin);
         if (minK >= maxK)
         {
             throw new InvalidCompositionException("The species' data ranges do not overlap.");
@@ -208,23 +257,24 @@ public sealed class GasMixture
             mixingEntropyOverR -= xi * Math.Log(xi);
         }
 
-        var breaks = new SortedSet<double> { minK, maxK };
+        // Segment edges: the common range's ends and every range start inside it, sorted, each once.
+        var edgeList = new List<double>(8) { minK, maxK };
         foreach (var s in sp)
         {
             foreach (var r in s.Ranges)
             {
-                if (r.LowKelvin > minK && r.LowKelvin < maxK)
+                if (r.LowKelvin > minK && r.LowKelvin < maxK && !edgeList.Contains(r.LowKelvin))
                 {
-                    breaks.Add(r.LowKelvin);
+                    edgeList.Add(r.LowKelvin);
                 }
             }
         }
 
-        var edges = breaks.ToArray();
-        var segments = new MixedSegment[edges.Length - 1];
+        edgeList.Sort();
+        var segments = new MixedSegment[edgeList.Count - 1];
         for (var k = 0; k < segments.Length; k++)
         {
-            var mid = 0.5 * (edges[k] + edges[k + 1]);
+            var mid = 0.5 * (edgeList[k] + edgeList[k + 1]);
             double a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0, a6 = 0, a7 = mixingEntropyOverR;
             for (var i = 0; i < sp.Length; i++)
             {
@@ -238,7 +288,7 @@ public sealed class GasMixture
                 a7 += x[i] * r.A7;
             }
 
-            segments[k] = new MixedSegment(edges[k + 1], a1, a2, a3, a4, a5, a6, a7);
+            segments[k] = new MixedSegment(edgeList[k + 1], a1, a2, a3, a4, a5, a6, a7);
         }
 
         return new GasMixture(components, segments, molarMass, minK, maxK);

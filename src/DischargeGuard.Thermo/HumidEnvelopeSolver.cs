@@ -1,4 +1,5 @@
 using System.Globalization;
+using DischargeGuard.Thermo.Core;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -12,6 +13,10 @@ public static class HumidEnvelopeSolver
 {
     private const int MaxIterations = 200;
 
+    // The secant's stop: 1e-7 K in the discharge temperature (the bracketed search stops at a 1e-7 K wide bracket).
+    private const double SecantToleranceKelvin = 1e-7;
+    private const int SecantSteps = 8;
+
     /// <summary>
     /// The highest suction temperature at which <paramref name="quantity"/> reaches <paramref name="limit"/>, the
     /// relative humidity of <paramref name="gas"/> at the stage's suction held fixed.
@@ -22,7 +27,11 @@ public static class HumidEnvelopeSolver
     /// <param name="limit">The limit.</param>
     /// <param name="realGas">True to solve each trial with Peng-Robinson, false for the ideal gas.</param>
     /// <returns>The suction temperature, or why there is none.</returns>
-    public static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas)
+    public static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas) =>
+        MaxSuctionTemperature(gas, conditions, quantity, limit, realGas, fastPath: true);
+
+    /// <summary>As the public overload; <paramref name="fastPath"/> false runs the bracketed search alone (tests compare the two).</summary>
+    internal static EnvelopeResult<Temperature> MaxSuctionTemperature(GasMixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool realGas, bool fastPath)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var rh = HumidGas.RelativeHumidity(gas, conditions.SuctionTemperature, conditions.SuctionPressure);
@@ -37,7 +46,8 @@ public static class HumidEnvelopeSolver
                 var sc = c with { SuctionTemperature = Temperature.FromKelvins(t1) };
                 if (realGas)
                 {
-                    var r = RealGasStageSolver.Solve(RealGasMixture.Create(trial), sc);
+                    // Each trial is a new composition: built on the species list's cached constants, not cached itself.
+                    var r = RealGasStageSolver.Solve(RealGasMixture.ForComposition(trial), sc);
                     return Pick(quantity, r.IsentropicDischargeTemperature, r.EstimatedDischargeTemperature, r.EstimatedUpperBound);
                 }
 
@@ -57,6 +67,19 @@ public static class HumidEnvelopeSolver
 
         var lo = Math.Max(WaterSaturation.MinimumKelvin, dry.MinimumKelvin);
         var hi = Math.Min(tLim, Math.Min(dry.MaximumKelvin, WaterSaturation.CriticalKelvin));
+
+        // Fast path: secant from the stage's own suction temperature, its first step taking the discharge temperature as
+        // proportional to the suction temperature (as it nearly is at a fixed ratio). The discharge temperature rises
+        // with the suction temperature, so a root inside [lo, hi] is the one the bracketed search below would find;
+        // where the secant gives up, that search runs as before.
+        double? At2(double t1) => At(t1) - tLim;
+        var t0 = conditions.SuctionTemperature.Kelvins;
+        if (fastPath && t0 >= lo && t0 <= hi && At(t0) is { } tAtStart && tAtStart > 0
+            && SecantRoot.TryFind(At2, t0, tAtStart - tLim, t0 * tLim / tAtStart, lo, hi, SecantToleranceKelvin, SecantSteps, out var root))
+        {
+            return new(EnvelopeStatus.Found, Temperature.FromKelvins(root), HeldNote(rh));
+        }
+
         var fLo = At(lo) - tLim;
         for (var k = 0; fLo is null && k < 60 && lo < hi - 0.5; k++)
         {
@@ -75,17 +98,19 @@ public static class HumidEnvelopeSolver
                 $"Already exceeded even at the lowest suction temperature ({lo - 273.15:0.#} °C) at this relative humidity ({rh:0.###})."));
         }
 
-        // Bisection with a regula-falsi step: f(lo) < 0; a trial above the limit or without an answer (steam, liquid) is "high".
+        // Illinois (regula falsi halving the stale end's value): f(lo) < 0; a trial above the limit or without an answer
+        // (steam, liquid) is "high", and without a value there the next step bisects.
         var fHi = At(hi) - tLim;
         if (fHi is { } fh0 && fh0 < 0)
         {
             return new(EnvelopeStatus.NotReachableInRange, null, "The limit is not reached below the limit itself at this humidity.");
         }
 
+        var side = 0;
         for (var i = 0; i < MaxIterations && hi - lo > 1e-7; i++)
         {
             var x = fHi is { } fh && fh - fl > 0 ? hi - (fh * (hi - lo) / (fh - fl)) : 0.5 * (lo + hi);
-            if (!(x > lo + (0.01 * (hi - lo)) && x < hi - (0.01 * (hi - lo))))
+            if (!(x > lo && x < hi))
             {
                 x = 0.5 * (lo + hi);
             }
@@ -95,17 +120,35 @@ public static class HumidEnvelopeSolver
             {
                 lo = x;
                 fl = v;
+                if (side == -1 && fHi is { } stale)
+                {
+                    fHi = stale / 2;
+                }
+
+                side = -1;
             }
             else
             {
                 hi = x;
                 fHi = fx;
+                if (side == 1)
+                {
+                    fl /= 2;
+                }
+
+                side = 1;
+            }
+
+            if (fx is { } exact && Math.Abs(exact) <= 1e-9)
+            {
+                return new(EnvelopeStatus.Found, Temperature.FromKelvins(x), HeldNote(rh));
             }
         }
 
-        return new(EnvelopeStatus.Found, Temperature.FromKelvins(0.5 * (lo + hi)), string.Create(CultureInfo.InvariantCulture,
-            $"Relative humidity held at {rh:0.###} as the suction temperature moves."));
+        return new(EnvelopeStatus.Found, Temperature.FromKelvins(0.5 * (lo + hi)), HeldNote(rh));
     }
+
+    private static string HeldNote(double rh) => string.Create(CultureInfo.InvariantCulture, $"Relative humidity held at {rh:0.###} as the suction temperature moves.");
 
     private static double Pick(TemperatureQuantity quantity, Temperature isentropic, Temperature estimated, Temperature upper) => quantity switch
     {

@@ -144,13 +144,18 @@ public static class PhaseStability
     public static PhaseCheck Check(GasMixture gasWithWater, Temperature temperature, Pressure pressure) =>
         Prepare(gasWithWater).Check(temperature, pressure);
 
-    /// <summary>The reusable phase model of a gas (water is split off here); immutable and thread-safe.</summary>
+    /// <summary>
+    /// The reusable phase model of a gas (water is split off here); immutable and thread-safe. One prepared for the same
+    /// composition (same species, mole fractions equal bit for bit) may be returned.
+    /// </summary>
     /// <exception cref="InvalidCompositionException">A species has no Peng-Robinson constants.</exception>
     public static PhaseStabilityModel Prepare(GasMixture gasWithWater)
     {
         ArgumentNullException.ThrowIfNull(gasWithWater);
-        return new PhaseStabilityModel(gasWithWater);
+        return Models.GetOrAdd(new CompositionKey(gasWithWater), gasWithWater, static g => new PhaseStabilityModel(g));
     }
+
+    private static readonly ModelCache<CompositionKey, PhaseStabilityModel> Models = new(128);
 
     /// <summary>
     /// Peng-Robinson saturation pressure of a pure species at <paramref name="temperature"/> (equal fugacities of the
@@ -191,13 +196,17 @@ public static class PhaseStability
 
 /// <summary>
 /// The phase model of one gas: its water fraction and the Peng-Robinson model of its water-free part, built once by
-/// <see cref="PhaseStability.Prepare"/>. Immutable and thread-safe. Method: see <see cref="PhaseStability"/>.
+/// <see cref="PhaseStability.Prepare"/>. Immutable in all it answers (it remembers its last few dew points) and
+/// thread-safe. Method: see <see cref="PhaseStability"/>.
 /// </summary>
 public sealed class PhaseStabilityModel
 {
+    private const int DewMemoSize = 8;
+
     private readonly PhaseEquilibrium? _dry;
     private readonly string[] _ids;
     private readonly GasMixture _gas;
+    private volatile (double PressurePascals, HydrocarbonDewPoint DewPoint)[] _dewMemo = [];
 
     internal PhaseStabilityModel(GasMixture gasWithWater)
     {
@@ -328,12 +337,30 @@ public sealed class PhaseStabilityModel
 
     private HydrocarbonDewPoint MixtureDew(double pPascals)
     {
+        // The dew point depends on the composition and the pressure only, and the model is shared by every request on
+        // this gas (PhaseStability.Prepare keeps it): the last few pressures' answers are kept, matched bit for bit.
+        var memo = _dewMemo;
+        foreach (var (p, dew) in memo)
+        {
+            if (BitConverter.DoubleToInt64Bits(p) == BitConverter.DoubleToInt64Bits(pPascals))
+            {
+                return dew;
+            }
+        }
+
         var s = _dry!.UpperDewPoint(pPascals, PhaseStability.DewPointToleranceKelvin);
-        return s.Outcome switch
+        var found = s.Outcome switch
         {
             DewPointOutcome.Found => new HydrocarbonDewPoint(DewPointStatus.Found, s.TemperatureKelvin),
             DewPointOutcome.AboveCricondenbar => new HydrocarbonDewPoint(DewPointStatus.AboveCricondenbar, double.NaN),
             _ => new HydrocarbonDewPoint(DewPointStatus.NoneAboveSearchFloor, double.NaN),
         };
+
+        // Copy on write: readers see an old or a new array, never a torn one; a lost update only costs a search.
+        var next = new (double, HydrocarbonDewPoint)[Math.Min(memo.Length + 1, DewMemoSize)];
+        next[0] = (pPascals, found);
+        Array.Copy(memo, 0, next, 1, next.Length - 1);
+        _dewMemo = next;
+        return found;
     }
 }

@@ -1,3 +1,4 @@
+using DischargeGuard.Thermo.Core;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -13,6 +14,11 @@ public static class RealGasEnvelopeSolver
 {
     private const int MaxHalvings = 60;
     private const double RelativeWidth = 1e-7;
+
+    // The secant's stop: 1e-7 K in the stage temperature, well inside what the bracketed search's 1e-7 relative width in
+    // ln P leaves (≈ 1e-4 K); a handful of steps, or the bracketed search takes over.
+    private const double SecantToleranceKelvin = 1e-7;
+    private const int SecantSteps = 6;
 
     private const string FoundNote = "Solved (a bracketed search on the real-gas stage) for the point where the temperature reaches the limit.";
     private const string ExceededNote = "The temperature already exceeds the limit at the lowest pressure ratio searched.";
@@ -36,7 +42,8 @@ public static class RealGasEnvelopeSolver
     public static EnvelopeResult<Temperature> MaxSuctionTemperature(Gerg2008Mixture gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit) =>
         MaxSuctionTemperatureCore(gas, conditions, quantity, limit);
 
-    private static EnvelopeResult<Pressure> MaxDischargePressureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit)
+    // fastPath false runs the bracketed search alone (tests compare the two).
+    internal static EnvelopeResult<Pressure> MaxDischargePressureCore(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity, Temperature limit, bool fastPath = true)
     {
         ArgumentNullException.ThrowIfNull(gas);
         var p1 = conditions.SuctionPressure.Pascals;
@@ -49,6 +56,36 @@ public static class RealGasEnvelopeSolver
         var c = conditions;
         double? At(double p2) => TemperatureAt(gas, c with { DischargePressure = Pressure.FromPascals(p2) }, quantity);
         var lo = p1 * 1.0001;
+
+        // Bracket near the ideal-gas answer first (the real gas moves it by a few per cent at most where a stage is
+        // near-ideal), so the search needs a handful of stage solves instead of sixty. The stage temperature rises with
+        // the discharge pressure, so a bracket there also settles that the lowest ratio is below the limit.
+        var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
+        if (fastPath && idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } start
+            && start.Pascals * 1.05 <= gas.MaximumPressurePascals && start.Pascals * 0.95 > lo
+            && At(start.Pascals) is { } tStart)
+        {
+            // Fast path: secant in ln P from the ideal-gas answer, its first step along the ideal gas's slope, inside the
+            // same ±5 % window; where it gives up the bracketed search below runs as before.
+            var x0 = Math.Log(start.Pascals);
+            var slope = IdealSlopePerLogPressure(gas.IdealGas, conditions, quantity, start.Pascals);
+            if (slope > 0
+                && SecantRoot.TryFind(x => At(Math.Exp(x)) - tLim, x0, tStart - tLim, x0 - ((tStart - tLim) / slope), Math.Log(start.Pascals * 0.95), Math.Log(start.Pascals * 1.05), SecantToleranceKelvin, SecantSteps, out var root))
+            {
+                return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(root)), FoundNote);
+            }
+        }
+
+        if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
+            && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
+            && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
+            && At(guess.Pascals * 1.05) is { } tAbove && tAbove >= tLim)
+        {
+            // The values at the bracket's ends are handed on, not solved again.
+            var bracketed = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(guess.Pascals * 0.95), Math.Log(guess.Pascals * 1.05), tBelow - tLim, tAbove - tLim);
+            return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(bracketed)), FoundNote);
+        }
+
         if (At(lo) is not { } tLo)
         {
             return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
@@ -59,37 +96,21 @@ public static class RealGasEnvelopeSolver
             return new(EnvelopeStatus.AlreadyExceeded, null, ExceededNote);
         }
 
-        // Bracket near the ideal-gas answer first (the real gas moves it by a few per cent at most where a stage is
-        // near-ideal), so the search needs a handful of stage solves instead of sixty.
-        double hi;
-        double? tHi;
-        var idealBound = EnvelopeSolver.MaxDischargePressure(gas.IdealGas, conditions, quantity, limit);
-        if (idealBound.Status == EnvelopeStatus.Found && idealBound.Value is { } guess
-            && guess.Pascals * 1.05 <= gas.MaximumPressurePascals && guess.Pascals * 0.95 > lo
-            && At(guess.Pascals * 0.95) is { } tBelow && tBelow < tLim
-            && At(guess.Pascals * 1.05) is { } tAbove && tAbove >= tLim)
+        // The highest pressure the model answers at (its ceiling, or below it where the state leaves the vapour region).
+        var hi = gas.MaximumPressurePascals;
+        var tHi = At(hi);
+        for (var k = 0; tHi is null && k < 40 && hi > lo * 1.01; k++)
         {
-            lo = guess.Pascals * 0.95;
-            hi = guess.Pascals * 1.05;
-        }
-        else
-        {
-            // The highest pressure the model answers at (its ceiling, or below it where the state leaves the vapour region).
-            hi = gas.MaximumPressurePascals;
+            hi = Math.Sqrt(hi * lo);
             tHi = At(hi);
-            for (var k = 0; tHi is null && k < 40 && hi > lo * 1.01; k++)
-            {
-                hi = Math.Sqrt(hi * lo);
-                tHi = At(hi);
-            }
-
-            if (tHi is null || tHi < tLim)
-            {
-                return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
-            }
         }
 
-        var p = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(lo), Math.Log(hi));
+        if (tHi is not { } th || th < tLim)
+        {
+            return new(EnvelopeStatus.NotReachableInRange, null, NotReachedNote);
+        }
+
+        var p = Solve(x => At(Math.Exp(x)) - tLim, Math.Log(lo), Math.Log(hi), tLo - tLim, th - tLim);
         return new(EnvelopeStatus.Found, Pressure.FromPascals(Math.Exp(p)), FoundNote);
     }
 
@@ -126,24 +147,29 @@ public static class RealGasEnvelopeSolver
         }
 
         var idealT1 = EnvelopeSolver.MaxSuctionTemperature(gas.IdealGas, conditions, quantity, limit);
+        double? fLo = tLo - tLim;
+        double? fHi = null;
         if (idealT1.Status == EnvelopeStatus.Found && idealT1.Value is { } g
             && g.Kelvins - 5 > lo && g.Kelvins + 5 < hi
             && At(g.Kelvins - 5) is { } below && below < tLim && At(g.Kelvins + 5) is { } above && above >= tLim)
         {
             lo = g.Kelvins - 5;
             hi = g.Kelvins + 5;
+            fLo = below - tLim;
+            fHi = above - tLim;
         }
 
-        var t1 = Solve(x => At(x) - tLim, lo, hi);
+        var t1 = Solve(x => At(x) - tLim, lo, hi, fLo, fHi ?? At(hi) - tLim);
         return new(EnvelopeStatus.Found, Temperature.FromKelvins(t1), FoundNote);
     }
 
     // Illinois (regula falsi with halving of the stale end's value) on f with f(lo) < 0 ≤ f(hi); a point where the model
     // gives no answer counts as above the limit (it lies beyond the vapour region). Stops at 1e-7 relative width or 1e-9 K.
-    private static double Solve(Func<double, double?> f, double lo, double hi)
+    // The values at the ends are the caller's (it has solved them already).
+    private static double Solve(Func<double, double?> f, double lo, double hi, double? valueAtLo, double? valueAtHi)
     {
-        var fLo = f(lo) ?? -1;
-        var fHi = f(hi) ?? 1;
+        var fLo = valueAtLo ?? -1;
+        var fHi = valueAtHi ?? 1;
         var side = 0;
         for (var i = 0; i < MaxHalvings; i++)
         {
@@ -190,6 +216,27 @@ public static class RealGasEnvelopeSolver
 
         return 0.5 * (lo + hi);
     }
+
+    // d(T)/d(ln P2) of the ideal-gas stage at p2 (a forward difference over 0.1 %), K; NaN where it has no answer.
+    private static double IdealSlopePerLogPressure(GasMixture ideal, in StageConditions conditions, TemperatureQuantity quantity, double p2Pascals)
+    {
+        var p1 = conditions.SuctionPressure.Pascals;
+        var t1 = conditions.SuctionTemperature.Kelvins;
+        if (!StageSolver.TrySolveCore(ideal, t1, p2Pascals / p1, conditions.Efficiency, out var a)
+            || !StageSolver.TrySolveCore(ideal, t1, p2Pascals * 1.001 / p1, conditions.Efficiency, out var b))
+        {
+            return double.NaN;
+        }
+
+        return (Pick(b, quantity) - Pick(a, quantity)) / Math.Log(1.001);
+    }
+
+    private static double Pick(in StageSolver.StageNumbers n, TemperatureQuantity quantity) => quantity switch
+    {
+        TemperatureQuantity.Isentropic => n.T2s,
+        TemperatureQuantity.Estimated => n.T2,
+        _ => n.T2High,
+    };
 
     // The stage's temperature, or null where the model gives none (liquid or two-phase, outside its range).
     private static double? TemperatureAt(IRealGasModel gas, in StageConditions conditions, TemperatureQuantity quantity)

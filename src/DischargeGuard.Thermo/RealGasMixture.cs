@@ -18,11 +18,17 @@ public sealed class RealGasMixture : IRealGasModel
 
     private readonly PengRobinsonMixture _eos;
     private readonly double _waterFraction;
+    private readonly CriticalConstants[] _constants;
+    private readonly SpeciesPair[] _defaulted;
+    private readonly BinaryInteraction[] _used;
 
     private RealGasMixture(GasMixture idealGas, PengRobinsonMixture eos, CriticalConstants[] constants, SpeciesPair[] defaulted, BinaryInteraction[] used)
     {
         IdealGas = idealGas;
         _eos = eos;
+        _constants = constants;
+        _defaulted = defaulted;
+        _used = used;
         Constants = constants;
         DefaultedPairs = defaulted;
         Interactions = used;
@@ -81,11 +87,47 @@ public sealed class RealGasMixture : IRealGasModel
 
     RealGasPoint IRealGasModel.Evaluate(double tKelvin, double pPascals) => Evaluate(tKelvin, pPascals);
 
-    /// <summary>The real-gas mixture of <paramref name="gas"/> with the embedded data (<see cref="PengRobinsonData.Default"/>).</summary>
-    /// <exception cref="InvalidCompositionException">A species has no critical constants in the data.</exception>
-    public static RealGasMixture Create(GasMixture gas) => Create(gas, PengRobinsonData.Default);
+    // Models with the embedded data, by exact composition (a batch on one gas builds its model once), and the
+    // composition-independent part by species list (a gas whose fractions move, as in the humid envelope, reuses it).
+    private static readonly ModelCache<CompositionKey, RealGasMixture> ByComposition = new(128);
+    private static readonly ModelCache<SpeciesListKey, RealGasMixture> BySpecies = new(64);
 
-    /// <summary>The real-gas mixture of <paramref name="gas"/> with the given data.</summary>
+    /// <summary>
+    /// The real-gas mixture of <paramref name="gas"/> with the embedded data (<see cref="PengRobinsonData.Default"/>).
+    /// Models are immutable, so one prepared for the same composition (same species, mole fractions equal bit for bit)
+    /// may be returned; its <see cref="IdealGas"/> is then a mixture of that same composition.
+    /// </summary>
+    /// <exception cref="InvalidCompositionException">A species has no critical constants in the data.</exception>
+    public static RealGasMixture Create(GasMixture gas)
+    {
+        ArgumentNullException.ThrowIfNull(gas);
+        return ByComposition.GetOrAdd(new CompositionKey(gas), gas, static g => ForComposition(g));
+    }
+
+    /// <summary>
+    /// The model of <paramref name="gas"/> with the embedded data, built on the cached composition-independent constants
+    /// of its species list and not itself cached: for trial compositions that are used once.
+    /// </summary>
+    /// <exception cref="InvalidCompositionException">A species has no critical constants in the data.</exception>
+    internal static RealGasMixture ForComposition(GasMixture gas)
+    {
+        var template = BySpecies.GetOrAdd(new SpeciesListKey(gas), gas, static g => Create(g, PengRobinsonData.Default));
+        if (new CompositionKey(template.IdealGas).Equals(new CompositionKey(gas)))
+        {
+            return template;
+        }
+
+        var components = gas.ComponentSpan;
+        Span<double> x = components.Length <= 64 ? stackalloc double[components.Length] : new double[components.Length];
+        for (var i = 0; i < components.Length; i++)
+        {
+            x[i] = components[i].MoleFraction;
+        }
+
+        return new RealGasMixture(gas, template._eos.WithMoleFractions(x), template._constants, template._defaulted, template._used);
+    }
+
+    /// <summary>The real-gas mixture of <paramref name="gas"/> with the given data (not cached).</summary>
     /// <exception cref="InvalidCompositionException">A species has no critical constants in the data.</exception>
     public static RealGasMixture Create(GasMixture gas, PengRobinsonData data)
     {

@@ -125,6 +125,54 @@ internal sealed class PengRobinsonMixture
         }
     }
 
+    // Shares every composition-independent array of the template; only x, the quadratic form m and b are recomputed.
+    private PengRobinsonMixture(PengRobinsonMixture template, ReadOnlySpan<double> moleFractions)
+    {
+        var n = template.Count;
+        Count = n;
+        R = template.R;
+        _tc = template._tc;
+        _pc = template._pc;
+        _omega = template._omega;
+        _sqrtTc = template._sqrtTc;
+        _kappa = template._kappa;
+        _bmC = template._bmC;
+        _bmD = template._bmD;
+        _bostonMathias = template._bostonMathias;
+        _bi = template._bi;
+        _q = template._q;
+        _x = moleFractions.ToArray();
+        _m = new double[n * n];
+        double b = 0;
+        for (var i = 0; i < n; i++)
+        {
+            b += _x[i] * _bi[i];
+        }
+
+        B = b;
+        for (var i = 0; i < n; i++)
+        {
+            for (var j = 0; j < n; j++)
+            {
+                _m[(i * n) + j] = _x[i] * _x[j] * _q[(i * n) + j];
+            }
+        }
+    }
+
+    /// <summary>
+    /// The same components at other mole fractions (same order), reusing every composition-independent constant; the
+    /// result is bit for bit the mixture the full constructor would build.
+    /// </summary>
+    public PengRobinsonMixture WithMoleFractions(ReadOnlySpan<double> moleFractions)
+    {
+        if (moleFractions.Length != Count)
+        {
+            throw new ArgumentException("One mole fraction per component.", nameof(moleFractions));
+        }
+
+        return new PengRobinsonMixture(this, moleFractions);
+    }
+
     /// <summary>Number of components.</summary>
     public int Count { get; }
 
