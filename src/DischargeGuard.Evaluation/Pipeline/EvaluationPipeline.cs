@@ -151,7 +151,7 @@ public sealed class EvaluationPipeline
         var idealDischarge = StagePhases.AtDischarge(phaseModel, s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
         var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
             ? RealGasStage.NotComputed("The real gas was not computed: the discharge state lies inside the two-phase region.")
-            : RealGasChoice.Decide(s, conditions, input.Method, i, m => FromThermoMember(m, input.Request.Stages!));
+            : RealGasChoice.Decide(s, conditions, input.Method, i, m => FromThermoMember(m, input.Request.Stages!), secondOpinion: context.Detail == AnswerDetail.Full);
         if (realGas.Result is { } rgr)
         {
             facts = facts with { RealGasCorrection = TemperatureDelta.FromKelvins(Math.Abs(rgr.DifferenceFromIdealGas.Kelvins)) };

@@ -75,18 +75,19 @@ internal static class RealGasChoice
     /// <param name="method">The normalized request method (<see cref="GasModels.Normalize"/>).</param>
     /// <param name="index">The stage index, for field paths.</param>
     /// <param name="mapMember">Maps a Thermo member name to the request's field path.</param>
-    public static RealGasStage Decide(TrainStageResult s, in StageConditions conditions, string method, int index, Func<string?, string> mapMember)
+    /// <param name="secondOpinion">Whether to compute Peng-Robinson beside GERG-2008 where GERG-2008 decides (the full answer shows it; nothing the verdict reads depends on it).</param>
+    public static RealGasStage Decide(TrainStageResult s, in StageConditions conditions, string method, int index, Func<string?, string> mapMember, bool secondOpinion = true)
     {
         if (method == GasModels.Gerg2008)
         {
-            return Gerg(s, conditions, index, required: true)!;
+            return Gerg(s, conditions, index, required: true, secondOpinion)!;
         }
 
         if (method == GasModels.Auto && Gerg2008.AreAllComponents(s.Gas)
             && Gerg2008.IsInNormalRange(s.Stage.SuctionTemperature, s.Stage.SuctionPressure)
             && s.Stage.DischargePressure.Pascals <= Gerg2008.NormalMaximumPressurePascals)
         {
-            var gerg = Gerg(s, conditions, index, required: false);
+            var gerg = Gerg(s, conditions, index, required: false, secondOpinion);
             if (gerg is not null)
             {
                 return gerg;
@@ -115,7 +116,7 @@ internal static class RealGasChoice
 
     // GERG-2008 decides. required (method gerg-2008): outside the extended range, a species it does not cover, or a
     // state it cannot solve is a 422 on `method`. Not required (auto): any of those returns null and Peng-Robinson follows.
-    private static RealGasStage? Gerg(TrainStageResult s, StageConditions conditions, int index, bool required)
+    private static RealGasStage? Gerg(TrainStageResult s, StageConditions conditions, int index, bool required, bool secondOpinion)
     {
         var missing = s.Gas.Components.Select(c => c.Species.Id).Where(id => !Gerg2008.IsComponent(id)).ToArray();
         if (missing.Length > 0)
@@ -159,18 +160,23 @@ internal static class RealGasChoice
             : string.Create(CultureInfo.InvariantCulture,
                 $"A state of this stage lies outside GERG-2008's normal range ({Gerg2008.NormalMinimumKelvin:0}–{Gerg2008.NormalMaximumKelvin:0} K, up to {Gerg2008.NormalMaximumPressurePascals / 1e6:0} MPa) but inside its extended range, where its uncertainty is larger (Kunz & Wagner 2012).");
 
-        // Peng-Robinson as a second opinion; its failure is a note, never an error, since GERG-2008 decides.
-        var pr = RealGasMixture.Create(s.Gas);
+        // Peng-Robinson as a second opinion (only where the answer shows it); its failure is a note, never an error, since
+        // GERG-2008 decides.
+        RealGasMixture? pr = null;
         RealGasStageResult? prResult = null;
         RealGasAssessment? assessment = null;
-        try
+        if (secondOpinion)
         {
-            assessment = RealGasCriteria.Assess(pr, t1, p1, s.Stage.EstimatedDischargeTemperature, p2);
-            prResult = RealGasStageSolver.Solve(pr, conditions);
-        }
-        catch (ThermoInputException ex)
-        {
-            note = (note is null ? "" : note + " ") + "The Peng-Robinson second opinion could not be computed: " + ex.Reason;
+            pr = RealGasMixture.Create(s.Gas);
+            try
+            {
+                assessment = RealGasCriteria.Assess(pr, t1, p1, s.Stage.EstimatedDischargeTemperature, p2);
+                prResult = RealGasStageSolver.Solve(pr, conditions);
+            }
+            catch (ThermoInputException ex)
+            {
+                note = (note is null ? "" : note + " ") + "The Peng-Robinson second opinion could not be computed: " + ex.Reason;
+            }
         }
 
         var reason = required
