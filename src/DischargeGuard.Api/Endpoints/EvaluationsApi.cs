@@ -155,7 +155,7 @@ public static partial class EvaluationsApi
         if (logger.IsEnabled(LogLevel.Information))
         {
             var response = result.Response!;
-            var margin = GoverningMargin(response);
+            var margin = GoverningMargin(record);
             var elapsedMs = Stopwatch.GetElapsedTime(started).TotalMilliseconds;
             LogEvaluated(logger, record.Id, record.Asset, response.Verdict, margin, response.RuleSet.Digest, record.Caller, elapsedMs);
         }
@@ -178,8 +178,9 @@ public static partial class EvaluationsApi
         return Problems.AuditStoreUnavailable();
     }
 
-    internal static double? GoverningMargin(EvaluationResponse response) =>
-        response.Stages.Select(s => s.Governing?.Margin?.Value).Where(m => m is not null).DefaultIfEmpty(null).Min();
+    // The smallest governing margin in kelvin, from the record's SI summary (whatever units the answer was written in).
+    internal static double? GoverningMargin(AuditRecord record) =>
+        record.Stages.Select(s => s.MarginKelvin).Where(m => m is not null).DefaultIfEmpty(null).Min();
 
     internal static async Task<Results<Utf8JsonResult<StoredEvaluation>, ProblemHttpResult>> GetEvaluation(
         Guid id, ClaimsPrincipal user, ApiKeyRegistry keys, IAuditStore audit, CancellationToken cancellationToken)

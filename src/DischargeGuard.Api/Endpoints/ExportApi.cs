@@ -1,6 +1,5 @@
 using System.Globalization;
 using System.Text;
-using System.Text.Json;
 using DischargeGuard.Api.Infrastructure;
 using DischargeGuard.Api.Infrastructure.Security;
 using DischargeGuard.Audit;
@@ -18,10 +17,9 @@ internal static class ExportApi
     internal static readonly string[] Header =
     [
         "evaluation_id", "evaluated_at_utc", "asset", "site", "caller", "verdict", "rule_digest", "engine_version", "replay_of",
-        "stage_index", "stage_verdict", "suction_pressure_kPa_abs", "suction_temperature_degC", "discharge_pressure_kPa_abs",
-        "isentropic_discharge_temperature_degC", "estimated_discharge_temperature_degC", "estimated_upper_bound_degC",
-        "measured_discharge_temperature_degC", "governing_rule", "governing_quantity", "governing_limit_degC", "governing_margin_K",
-        "governing_limit_ratio", "governing_margin_ratio",
+        "stage_index", "stage_verdict", "suction_pressure_kPa_abs", "discharge_pressure_kPa_abs",
+        "isentropic_discharge_temperature_degC", "estimated_discharge_temperature_degC", "measured_discharge_temperature_degC",
+        "governing_rule", "governing_margin_K",
     ];
 
     // Rows are written to the response in pieces of about this many characters.
@@ -31,7 +29,7 @@ internal static class ExportApi
         group.MapGet("/export", ExportAsync)
             .WithName("ExportEvaluations")
             .WithSummary("Recorded evaluations as CSV, one row per stage, newest first; the same filters as the list. Streamed.")
-            .WithDescription("Metric values; each column name carries its unit (degC, kPa_abs, K for differences, ratio). "
+            .WithDescription("Metric values from each record's per-stage SI summary; each column name carries its unit (degC, kPa_abs, K for differences). "
                 + "Text cells that a spreadsheet would read as a formula (starting with = + - @, tab or carriage return) are prefixed with an apostrophe.")
             .Produces<string>(StatusCodes.Status200OK, "text/csv")
             .ProducesValidationProblem()
@@ -117,7 +115,7 @@ internal static class ExportApi
             record.ReplayOf?.ToString("D", CultureInfo.InvariantCulture) ?? string.Empty,
         };
 
-        var stages = StageRows(record.Response);
+        var stages = StageRows(record);
         if (stages.Count == 0)
         {
             AppendRow(sb, [.. common, .. new string[Header.Length - common.Length]], header: false);
@@ -130,84 +128,24 @@ internal static class ExportApi
         }
     }
 
-    // The stage columns from a stored response, converted to the export's metric units.
-    private static List<string[]> StageRows(byte[] response)
-    {
-        var rows = new List<string[]>();
-        try
+    // The stage columns from the record's per-stage SI summary (never from the answer's JSON, whatever units it was
+    // written in); a record stored before summaries existed gets its row without stage values.
+    private static List<string?[]> StageRows(AuditRecord record) =>
+        record.Stages.Select(s => new string?[]
         {
-            using var doc = JsonDocument.Parse(response);
-            if (!doc.RootElement.TryGetProperty("stages", out var stages) || stages.ValueKind != JsonValueKind.Array)
-            {
-                return rows;
-            }
+            s.Index.ToString(CultureInfo.InvariantCulture),
+            s.Verdict,
+            Number(s.SuctionPressurePascal / 1000),
+            Number(s.DischargePressurePascal / 1000),
+            Number(s.IsentropicKelvin - 273.15),
+            Number(s.EstimatedKelvin - 273.15),
+            Number(s.MeasuredKelvin - 273.15),
+            s.GoverningRuleId,
+            Number(s.MarginKelvin),
+        }).ToList();
 
-            foreach (var s in stages.EnumerateArray())
-            {
-                var governing = s.TryGetProperty("governing", out var g) ? g : default;
-                var quantity = Text(governing, "quantity");
-                var isRatio = quantity == "pressureRatio";
-                rows.Add(
-                [
-                    s.TryGetProperty("index", out var ix) ? ix.GetRawText() : string.Empty,
-                    Text(s, "verdict"),
-                    Metric(Path(s, "suction", "pressureAbsolute")),
-                    Metric(Path(s, "suction", "temperature")),
-                    Metric(Path(s, "discharge", "pressureAbsolute")),
-                    Metric(Path(s, "dischargeTemperature", "isentropic")),
-                    Metric(Path(s, "dischargeTemperature", "estimated")),
-                    Metric(Path(s, "dischargeTemperature", "estimatedUpperBound")),
-                    Metric(Path(s, "measured", "dischargeTemperature")),
-                    Text(governing, "ruleId"),
-                    quantity,
-                    isRatio ? string.Empty : Metric(Path(governing, "limit")),
-                    isRatio ? string.Empty : Metric(Path(governing, "margin")),
-                    isRatio ? Metric(Path(governing, "limit")) : string.Empty,
-                    isRatio ? Metric(Path(governing, "margin")) : string.Empty,
-                ]);
-            }
-        }
-        catch (JsonException)
-        {
-            // Not a document this engine wrote: the record still gets its row, without stage values.
-        }
-
-        return rows;
-    }
-
-    private static JsonElement Path(JsonElement e, params string[] names)
-    {
-        foreach (var name in names)
-        {
-            if (e.ValueKind != JsonValueKind.Object || !e.TryGetProperty(name, out e))
-            {
-                return default;
-            }
-        }
-
-        return e;
-    }
-
-    private static string Text(JsonElement e, string name) =>
-        e.ValueKind == JsonValueKind.Object && e.TryGetProperty(name, out var v) && v.ValueKind == JsonValueKind.String ? v.GetString()! : string.Empty;
-
-    // {"value", "unit"} in the answer's units → the export's: °C, kPa (absolute), K, or a plain ratio.
-    private static string Metric(JsonElement q)
-    {
-        if (q.ValueKind != JsonValueKind.Object || !q.TryGetProperty("value", out var v) || !v.TryGetDouble(out var value))
-        {
-            return string.Empty;
-        }
-
-        var metric = Text(q, "unit") switch
-        {
-            "°F" => (value - 32) / 1.8,
-            "Δ°F" => value / 1.8,
-            "psia" => value * 6.894757293168361,
-            _ => value, // °C, K, kPa, and "1" for ratios
-        };
-        return Math.Round(metric, 3).ToString("0.###", CultureInfo.InvariantCulture);
-    }
+    private static string Number(double? value) =>
+        value is { } v ? Math.Round(v, 3).ToString("0.###", CultureInfo.InvariantCulture) : string.Empty;
 
     internal static void AppendRow(StringBuilder sb, IReadOnlyList<string?> cells, bool header)
     {

@@ -75,9 +75,9 @@ public sealed class ServiceTelemetry
     /// <param name="endpoint">single, batch or replay.</param>
     internal void Answered(RunResult result, string endpoint)
     {
-        if (result.Response is { } response)
+        if (result.Response is { } response && result.Record is { } record)
         {
-            Evaluated(response, endpoint);
+            Evaluated(response, record, endpoint);
         }
         else
         {
@@ -86,14 +86,18 @@ public sealed class ServiceTelemetry
     }
 
     /// <summary>Counts a committed evaluation and records each stage's governing margin.</summary>
-    internal void Evaluated(EvaluationResponse response, string endpoint)
+    internal void Evaluated(EvaluationResponse response, Audit.AuditRecord record, string endpoint)
     {
         _evaluations.Add(1, new("dischargeguard.verdict", response.Verdict), new("dischargeguard.endpoint", endpoint));
-        foreach (var stage in response.Stages)
+
+        // Margins from the record's SI summary (kelvin whatever units the answer was written in); the quantity's name is
+        // unit-free and read from the answer.
+        foreach (var stage in record.Stages)
         {
-            if (stage.Governing is { Margin: { Unit: "K" } margin } governing)
+            if (stage.MarginKelvin is { } margin)
             {
-                _margin.Record(margin.Value, new("dischargeguard.quantity", governing.Quantity), new("dischargeguard.verdict", stage.Verdict));
+                var quantity = stage.Index < response.Stages.Count ? response.Stages[stage.Index].Governing?.Quantity : null;
+                _margin.Record(margin, new("dischargeguard.quantity", quantity ?? "unknown"), new("dischargeguard.verdict", stage.Verdict));
             }
         }
     }
