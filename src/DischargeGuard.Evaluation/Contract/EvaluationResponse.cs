@@ -378,7 +378,7 @@ public sealed record FindingDto
     /// <summary>The quantity checked.</summary>
     public required string Quantity { get; init; }
 
-    /// <summary>The checked value (in the compact answer for every finding but a pass, whose value is its limit less its margin).</summary>
+    /// <summary>The checked value.</summary>
     public QuantityDto? Value { get; init; }
 
     /// <summary>The effective limit.</summary>
@@ -396,7 +396,7 @@ public sealed record FindingDto
     /// <summary>Why a layer loosened the limit, when it did.</summary>
     public string? LoosenedReason { get; init; }
 
-    /// <summary>The outcome in words, which defers to local codes and the manufacturer (in the compact answer for every finding but a pass).</summary>
+    /// <summary>The outcome in words (a pass says by how much; beyond the limit, what to do), which defers to local codes and the manufacturer.</summary>
     public string? Message { get; init; }
 
     /// <summary>Extra explanation (e.g. how a derated limit was formed).</summary>

@@ -315,13 +315,13 @@ public static class ResponseMapper
         Title = f.Title,
         Severity = f.Severity.ToString().ToLowerInvariant(),
         Quantity = f.Quantity.ToName(),
-        Value = (full || f.Severity != Severity.Pass) && f.Value is { } v ? u.Reading(v) : null,
+        Value = f.Value is { } v ? u.Reading(v) : null,
         Limit = LimitOf(f, u),
         Margin = f.Margin is { } m ? u.Reading(m) : null,
         Basis = full ? f.Basis : null,
         Layer = full || f.Layer != "default" ? f.Layer : null,
         LoosenedReason = f.LoosenedReason,
-        Message = full || f.Severity != Severity.Pass ? f.Message : null,
+        Message = f.Message,
         Note = full ? f.Note : null,
         SetPoints = f.SetPoints is { } sp
             ? new SetPointsDto(u.Temperature(sp.Normal), u.Temperature(sp.Alarm), u.Temperature(sp.Trip), sp.Capped ? sp.CapRuleId : null)
