@@ -51,14 +51,8 @@ internal static class QueryParameters
             return errors;
         }
 
-        foreach (var parameter in handler.GetParameters())
+        foreach (var (name, type) in QueryParametersOf(handler))
         {
-            if (parameter.GetCustomAttribute<FromQueryAttribute>() is not { } query)
-            {
-                continue;
-            }
-
-            var name = query.Name ?? parameter.Name!;
             if (!http.Request.Query.TryGetValue(name, out var values))
             {
                 continue;
@@ -66,7 +60,7 @@ internal static class QueryParameters
 
             // The framework reads a repeated parameter as its values joined by commas; an empty one as absent.
             var raw = values.ToString();
-            if (raw.Length > 0 && Check(name, Nullable.GetUnderlyingType(parameter.ParameterType) ?? parameter.ParameterType, raw) is { } message)
+            if (raw.Length > 0 && Check(name, type, raw) is { } message)
             {
                 errors[name] = [message];
             }
@@ -74,6 +68,16 @@ internal static class QueryParameters
 
         return errors;
     }
+
+    // A handler's query parameters (name, type without Nullable), read by reflection once per handler.
+    private static readonly System.Collections.Concurrent.ConcurrentDictionary<MethodInfo, (string Name, Type Type)[]> Handlers = new();
+
+    private static (string Name, Type Type)[] QueryParametersOf(MethodInfo handler) =>
+        Handlers.GetOrAdd(handler, static h => h.GetParameters()
+            .Select(p => (Parameter: p, Query: p.GetCustomAttribute<FromQueryAttribute>()))
+            .Where(p => p.Query is not null)
+            .Select(p => (p.Query!.Name ?? p.Parameter.Name!, Nullable.GetUnderlyingType(p.Parameter.ParameterType) ?? p.Parameter.ParameterType))
+            .ToArray());
 
     /// <summary>Why <paramref name="raw"/> is not acceptable for the parameter <paramref name="name"/> of type <paramref name="type"/>, or null.</summary>
     public static string? Check(string name, Type type, string raw)
