@@ -1,4 +1,3 @@
-using System.Globalization;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -147,7 +146,7 @@ public static class TrainSolver
             {
                 if (s.Intercooler is not null)
                 {
-                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler"), null, "The first stage takes its suction directly; it cannot have an intercooler.");
+                    throw ThermoErrors.OutOfRange(i, "Intercooler", null, "The first stage takes its suction directly; it cannot have an intercooler.");
                 }
 
                 (p1, t1) = RequireSuction(s, i);
@@ -156,14 +155,14 @@ public static class TrainSolver
             {
                 if (s.SuctionPressure is not null || s.SuctionTemperature is not null)
                 {
-                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler"), null, "A later stage gives either an intercooler or its own suction, never both.");
+                    throw ThermoErrors.OutOfRange(i, "Intercooler", null, "A later stage gives either an intercooler or its own suction, never both.");
                 }
 
                 p1 = cooler.PressureDrop.Downstream(previousDischarge);
                 t1 = cooler.GasOutletKelvin;
                 if (!(p1 > 0))
                 {
-                    throw ThermoErrors.OutOfRange(Member(i, "Intercooler.PressureDrop"), p1, "The cooler's pressure drop leaves no positive suction pressure.");
+                    throw ThermoErrors.OutOfRange(i, "Intercooler.PressureDrop", p1, "The cooler's pressure drop leaves no positive suction pressure.");
                 }
             }
             else if (s.SuctionPressure is null && s.SuctionTemperature is null)
@@ -177,7 +176,7 @@ public static class TrainSolver
                 (p1, t1) = RequireSuction(s, i);
                 if (p1 > previousDischarge * (1 + 1e-12))
                 {
-                    throw ThermoErrors.OutOfRange(Member(i, "SuctionPressure"), p1, "A later stage's suction pressure cannot exceed the previous stage's discharge pressure.");
+                    throw ThermoErrors.OutOfRange(i, "SuctionPressure", p1, "A later stage's suction pressure cannot exceed the previous stage's discharge pressure.");
                 }
             }
 
@@ -187,7 +186,7 @@ public static class TrainSolver
             if (gas.WaterMoleFraction >= 1 && t1 >= WaterSaturation.MinimumKelvin && t1 <= WaterSaturation.CriticalKelvin && WaterSaturation.SaturationPressurePascals(t1) < p1)
             {
                 // All water, below its saturation: nothing would be left to compress (the drop-out needs a dry part).
-                throw ThermoErrors.OutOfRange(Member(i, "SuctionTemperature"), t1, "The gas is all water vapour and at this suction it lies below its saturation temperature: it would condense entirely.");
+                throw ThermoErrors.OutOfRange(i, "SuctionTemperature", t1, "The gas is all water vapour and at this suction it lies below its saturation temperature: it would condense entirely.");
             }
 
             gas = DropOutWater(gas, t1, p1, out var massFraction);
@@ -207,7 +206,7 @@ public static class TrainSolver
             }
             catch (ThermoInputException ex)
             {
-                throw ex.WithPrefix(Member(i, null));
+                throw ex.ForStage(i);
             }
 
             destination[i] = new TrainStageResult(i, gas, result, condensate, stageFlow);
@@ -267,22 +266,16 @@ public static class TrainSolver
         return gas.WithWaterFraction(GasCatalog.Default.Water, waterLeft / (dry + waterLeft));
     }
 
-    // Built only on the error path, so a successful solve allocates no strings.
-    private static string Member(int index, string? member) =>
-        member is null
-            ? string.Create(CultureInfo.InvariantCulture, $"stages[{index}]")
-            : string.Create(CultureInfo.InvariantCulture, $"stages[{index}].{member}");
-
     private static (double P, double T) RequireSuction(in TrainStage s, int i)
     {
         if (s.SuctionPressure is not { } p)
         {
-            throw ThermoErrors.OutOfRange(Member(i, "SuctionPressure"), null, "This stage needs its suction pressure (or, for a later stage, an intercooler).");
+            throw ThermoErrors.OutOfRange(i, "SuctionPressure", null, "This stage needs its suction pressure (or, for a later stage, an intercooler).");
         }
 
         if (s.SuctionTemperature is not { } t)
         {
-            throw ThermoErrors.OutOfRange(Member(i, "SuctionTemperature"), null, "This stage needs its suction temperature (or, for a later stage, an intercooler).");
+            throw ThermoErrors.OutOfRange(i, "SuctionTemperature", null, "This stage needs its suction temperature (or, for a later stage, an intercooler).");
         }
 
         return (p.Pascals, t.Kelvins);

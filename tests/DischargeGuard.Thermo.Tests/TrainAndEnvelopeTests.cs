@@ -75,6 +75,8 @@ public sealed class TrainAndEnvelopeTests
         ];
         var ex = Assert.Throws<ThermoInputException>(() => TrainSolver.Solve(Air, stages));
         Assert.Equal("stages[1].Intercooler", ex.ParamName);
+        Assert.Equal(1, ex.StageIndex);
+        Assert.Equal("Intercooler", ex.Member);
     }
 
     [Fact]
@@ -87,6 +89,11 @@ public sealed class TrainAndEnvelopeTests
         ];
         var ex = Assert.Throws<ThermoInputException>(() => TrainSolver.Solve(Air, stages));
         Assert.Equal("stages[1].DischargePressure", ex.ParamName);
+        Assert.Equal(1, ex.StageIndex);
+        Assert.Equal(nameof(StageConditions.DischargePressure), ex.Member);
+
+        // The offending value travels with the error (SI: the stage's 300 kPa discharge, in pascals).
+        Assert.Equal(300_000d, Assert.IsType<double>(ex.ActualValue));
     }
 
     [Fact]

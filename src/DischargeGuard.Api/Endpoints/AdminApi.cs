@@ -108,14 +108,14 @@ internal static partial class AdminApi
         var cutoff = request.DeleteBefore!.Value.ToUniversalTime();
         if (cutoff > latest)
         {
-            return Problems.Unprocessable(new Evaluation.Pipeline.RequestProblem(
+            return Problems.AsResult(Problems.Unprocessable(new Evaluation.Pipeline.RequestProblem(
                 Evaluation.Pipeline.ProblemKind.Unprocessable,
                 "retention-too-recent",
                 "The cut-off is more recent than the service's minimum retention.",
                 new Dictionary<string, string[]>
                 {
                     ["deleteBefore"] = [string.Create(CultureInfo.InvariantCulture, $"Records are kept at least {minimumDays} days: the cut-off must be {latest:yyyy'-'MM'-'dd'T'HH':'mm':'ss'Z'} or earlier.")],
-                }));
+                })));
         }
 
         var admin = EvaluationsApi.CallerOf(http);

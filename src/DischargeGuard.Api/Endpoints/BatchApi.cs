@@ -78,7 +78,7 @@ internal static partial class BatchApi
         var ndjsonIn = IsMediaType(contentType, Ndjson);
         if (!ndjsonIn && !IsMediaType(contentType, "application/json"))
         {
-            return UnsupportedMediaType();
+            return UnsupportedMediaType(http.Request.ContentType);
         }
 
         IAsyncEnumerable<BatchItem> items;
@@ -330,7 +330,7 @@ internal static partial class BatchApi
                 if (index == MaxItems)
                 {
                     // The limit is known only when reached: answer this item with it and read no further.
-                    yield return new BatchItem(index, default, RunResult.Refused(ItemProblems.OverLimit(MaxItems)));
+                    yield return new BatchItem(index, default, RunResult.Refused(Problems.BatchOverLimit(MaxItems, item: true)));
                     yield break;
                 }
 
@@ -465,7 +465,7 @@ internal static partial class BatchApi
             }
             catch (AuditStoreUnavailableException)
             {
-                chunk.Results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
+                chunk.Results[i] = RunResult.Refused(Problems.AuditStoreUnavailable(item: true));
                 chunk.Requests[i] = null;
             }
         }
@@ -506,7 +506,7 @@ internal static partial class BatchApi
     {
         LogItemFailed(c.Logger, index, e.GetType().Name, e.Message);
         LogItemFailedDetail(c.Logger, e, index);
-        return RunResult.Refused(ItemProblems.Internal());
+        return RunResult.Refused(Problems.Unexpected(item: true));
     }
 
     // Each item is answered only once its record is committed; one the store refused is that item's 503.
@@ -527,11 +527,11 @@ internal static partial class BatchApi
             }
             catch (AuditStoreUnavailableException)
             {
-                chunk.Results[i] = RunResult.Refused(ItemProblems.AuditUnavailable());
+                chunk.Results[i] = RunResult.Refused(Problems.AuditStoreUnavailable(item: true));
             }
             catch (ArgumentException)
             {
-                chunk.Results[i] = RunResult.Refused(ItemProblems.Internal());
+                chunk.Results[i] = RunResult.Refused(Problems.Unexpected(item: true));
             }
         }
 
@@ -643,25 +643,13 @@ internal static partial class BatchApi
 
     private static IResult BodyProblem(string field, string message, int status = StatusCodes.Status400BadRequest) =>
         status == StatusCodes.Status413PayloadTooLarge
-            ? TypedResults.Problem(detail: message, statusCode: status, title: "The request body is too large.", type: Problems.TypeUri(Problems.PayloadTooLarge),
-                extensions: new Dictionary<string, object?> { ["code"] = Problems.PayloadTooLarge })
-            : Problems.Validation(new Dictionary<string, string[]> { [field] = [message] }, Problems.InvalidRequest, "The batch body could not be read.");
+            ? Problems.AsResult(Problems.TooLarge(message))
+            : Problems.AsResult(Problems.UnreadableBody(field, message, "The batch body could not be read."));
 
-    private static ProblemHttpResult TooManyItems() =>
-        TypedResults.Problem(
-            detail: $"A batch holds at most {MaxItems} evaluations; split it. Nothing was evaluated or stored.",
-            statusCode: StatusCodes.Status413PayloadTooLarge,
-            title: "The batch has more items than one batch may hold.",
-            type: Problems.TypeUri(Problems.PayloadTooLarge),
-            extensions: new Dictionary<string, object?> { ["code"] = Problems.PayloadTooLarge });
+    private static ProblemHttpResult TooManyItems() => Problems.AsResult(Problems.BatchOverLimit(MaxItems, item: false));
 
-    private static ProblemHttpResult UnsupportedMediaType() =>
-        TypedResults.Problem(
-            detail: "Send the batch as application/json ({\"evaluations\": [ … ]}) or as application/x-ndjson (one request per line).",
-            statusCode: StatusCodes.Status415UnsupportedMediaType,
-            title: "Unsupported media type.",
-            type: Problems.TypeUri(Problems.InvalidRequest),
-            extensions: new Dictionary<string, object?> { ["code"] = Problems.InvalidRequest });
+    private static ProblemHttpResult UnsupportedMediaType(string? received) =>
+        Problems.AsResult((ProblemDetails)Problems.WrongContentType(received, "application/json ({\"evaluations\": [ … ]}) or application/x-ndjson (one request per line)"));
 
     [LoggerMessage(EventId = 20, Level = LogLevel.Information,
         Message = "Batch of {Items} by {Caller}: {Ok} evaluated, {Invalid} invalid, {Unprocessable} out of range, {Unavailable} not recorded, {Other} other, {DurationMs:0.0} ms ({EvaluateMs:0.0} ms evaluating, {CommitWaitMs:0.0} ms waiting for commits)")]

@@ -38,20 +38,16 @@ internal sealed class EvaluationRunner(
         }
         catch (JsonException e)
         {
-            var errors = new Dictionary<string, string[]>(StringComparer.Ordinal)
-            {
-                [ProblemExceptionHandler.JsonPathToField(e.Path)] = [ProblemExceptionHandler.CleanJsonMessage(e)],
-            };
-            return (null, RunResult.Refused(ItemProblems.Invalid(errors, "The request body could not be read.")));
+            return (null, RunResult.Refused(Problems.UnreadableBody(e)));
         }
 
         if (request is null)
         {
-            return (null, RunResult.Refused(ItemProblems.Invalid(new Dictionary<string, string[]> { [string.Empty] = ["Each item is an evaluation request object."] }, "The request body could not be read.")));
+            return (null, RunResult.Refused(Problems.UnreadableBody(string.Empty, "Each item is an evaluation request object.")));
         }
 
         return evaluations.Validate(request) is { } invalid
-            ? (null, RunResult.Refused(ItemProblems.Invalid(invalid.Errors, invalid.Title)))
+            ? (null, RunResult.Refused(Problems.InvalidFields(invalid.Errors, invalid.Title)))
             : (request, null);
     }
 
@@ -61,7 +57,7 @@ internal sealed class EvaluationRunner(
         // A key bound to sites (and assets) evaluates only inside them: refused before anything is computed or stored.
         if (scope is not null && !scope.MayPost(request.Asset, request.Site?.Id))
         {
-            return RunResult.Refused(ItemProblems.OutOfScope(request.Asset, request.Site?.Id));
+            return RunResult.Refused(Problems.OutOfScope(request.Asset, request.Site?.Id));
         }
 
         // Refused before evaluating when the store is nearly full or the key's quota is already spent.
@@ -73,12 +69,12 @@ internal sealed class EvaluationRunner(
 
         if (room.Level == StorageLevel.Full)
         {
-            return RunResult.Refused(ItemProblems.StorageLow(room.Description, service.Value.RetryAfterSeconds));
+            return RunResult.Refused(Problems.StorageNearlyFull(room.Description, service.Value.RetryAfterSeconds));
         }
 
         if (!quota.TryReserve(caller, 0, out var spent, out var limit, out var untilTomorrow) || spent >= limit)
         {
-            return RunResult.Refused(ItemProblems.QuotaExceeded(caller, spent, limit, untilTomorrow));
+            return RunResult.Refused(Problems.StorageQuotaSpent(caller, spent, limit, untilTomorrow));
         }
 
         var now = time.GetUtcNow();
@@ -86,9 +82,7 @@ internal sealed class EvaluationRunner(
         var evaluated = evaluations.Evaluate(request, requestBytes, snapshot, new EvaluationContext(id, now, curve) { History = history?.Stages, Detail = detail }, caller, replayOf);
         if (evaluated.Problem is { } problem)
         {
-            return RunResult.Refused(problem.Kind == ProblemKind.InvalidRequest
-                ? ItemProblems.Invalid(problem.Errors, problem.Title, problem.Code)
-                : ItemProblems.Unprocessable(problem));
+            return RunResult.Refused(Problems.Refusal(problem));
         }
 
         var response = evaluated.Response!;
@@ -98,12 +92,12 @@ internal sealed class EvaluationRunner(
         var bytes = StoredBytes(record);
         if (bytes > quotas.Value.MaxRecordBytes)
         {
-            return RunResult.Refused(ItemProblems.RecordTooLarge(bytes, quotas.Value.MaxRecordBytes));
+            return RunResult.Refused(Problems.RecordOverLimit(bytes, quotas.Value.MaxRecordBytes));
         }
 
         if (!quota.TryReserve(caller, bytes, out spent, out limit, out untilTomorrow))
         {
-            return RunResult.Refused(ItemProblems.QuotaExceeded(caller, spent, limit, untilTomorrow));
+            return RunResult.Refused(Problems.StorageQuotaSpent(caller, spent, limit, untilTomorrow));
         }
 
         return new RunResult(StatusCodes.Status200OK, record, response, null) { Result = evaluated.Result };
@@ -155,75 +149,6 @@ internal sealed record RunResult(int Status, AuditRecord? Record, EvaluationResp
     public DischargeGuard.Evaluation.Pipeline.EvaluationResult? Result { get; init; }
 
     public static RunResult Refused(ProblemDetails problem) => new(problem.Status!.Value, null, null, problem);
-}
-
-/// <summary>The problem documents of batch items: the same types, codes and fields as a single post's answers.</summary>
-internal static class ItemProblems
-{
-    public static HttpValidationProblemDetails Invalid(IReadOnlyDictionary<string, string[]> errors, string title, string code = Problems.InvalidRequest)
-    {
-        var details = new HttpValidationProblemDetails(errors.ToDictionary(e => e.Key, e => e.Value, StringComparer.Ordinal))
-        {
-            Status = StatusCodes.Status400BadRequest,
-            Type = Problems.TypeUri(code),
-            Title = title,
-            Detail = "See 'errors': each entry names the request field and what is accepted there.",
-        };
-        details.Extensions["code"] = code;
-        return details;
-    }
-
-    public static ProblemDetails Unprocessable(RequestProblem problem)
-    {
-        var details = Of(StatusCodes.Status422UnprocessableEntity, problem.Code, problem.Title, "See 'errors': each entry names the request field and the allowed range.");
-        details.Extensions["errors"] = problem.Errors;
-        return details;
-    }
-
-    public static ProblemDetails OutOfScope(string? asset, string? site) =>
-        Of(StatusCodes.Status403Forbidden, Problems.Forbidden, "The API key is not bound to this site or asset.",
-            $"The key may evaluate only the sites (and assets) it is bound to in its configuration; this request names site '{site ?? "(none)"}' and asset '{asset}'. Nothing was evaluated or stored.");
-
-    public static ProblemDetails QuotaExceeded(string caller, long used, long quota, int retryAfterSeconds)
-    {
-        var details = Of(StatusCodes.Status429TooManyRequests, Problems.QuotaExceeded, "The API key's storage quota for today is spent.",
-            string.Create(System.Globalization.CultureInfo.InvariantCulture,
-                $"Key '{caller}' has stored {used} of its {quota} bytes for this UTC day, and this evaluation would exceed it; nothing was stored. The quota renews at 00:00 UTC (retry after {retryAfterSeconds} s), or ask the administrator for a larger one (Quotas:BytesPerDay or the key's bytesPerDay)."));
-        details.Extensions["retryAfterSeconds"] = retryAfterSeconds;
-        return details;
-    }
-
-    public static ProblemDetails RecordTooLarge(long bytes, long limit) =>
-        Of(StatusCodes.Status413PayloadTooLarge, Problems.RecordTooLarge, "The evaluation's record would be larger than one record may store.",
-            string.Create(System.Globalization.CultureInfo.InvariantCulture,
-                $"Request and answer together are {bytes} bytes; one audit record may hold {limit} (Quotas:MaxRecordBytes). Nothing was stored. Ask without ?curve=true, or split the train or the batch."));
-
-    public static ProblemDetails StorageLow(string description, int retryAfterSeconds)
-    {
-        var details = Of(StatusCodes.Status503ServiceUnavailable, Problems.StorageLow, "The audit store is nearly full.",
-            $"Evaluations are refused before the audit store fills up ({description}); nothing was evaluated or stored. Retry later; operators: free or grow the volume, or run retention.");
-        details.Extensions["retryAfterSeconds"] = retryAfterSeconds;
-        return details;
-    }
-
-    public static ProblemDetails AuditUnavailable() =>
-        Of(StatusCodes.Status503ServiceUnavailable, Problems.AuditUnavailable, "The audit store is unavailable.",
-            "This item was computed but could not be recorded, so no result is given. Retry it later; nothing was stored for it.");
-
-    public static ProblemDetails Internal() =>
-        Of(StatusCodes.Status500InternalServerError, Problems.Internal, "An unexpected error occurred.", "The error was logged; no result was given for this item.");
-
-    public static ProblemDetails OverLimit(int limit) =>
-        Of(StatusCodes.Status413PayloadTooLarge, Problems.PayloadTooLarge, "The batch has more items than one batch may hold.",
-            $"A batch holds at most {limit} evaluations; this item and any after it were not read. Send them in another batch.");
-
-    // The stable type URI and code every problem of the service carries.
-    private static ProblemDetails Of(int status, string code, string title, string detail)
-    {
-        var details = new ProblemDetails { Status = status, Type = Problems.TypeUri(code), Title = title, Detail = detail };
-        details.Extensions["code"] = code;
-        return details;
-    }
 }
 
 /// <summary>The asset's earlier evaluations as trend rules read them: per stage, oldest first.</summary>

@@ -56,7 +56,10 @@ public static partial class EvaluationsApi
         return group;
     }
 
-    /// <summary>Reads <c>?detail=</c>: absent or <c>compact</c> for the compact answer, <c>full</c> for everything; anything else is the field's 400.</summary>
+    /// <summary>
+    /// Reads <c>?detail=</c>: absent or <c>compact</c> for the compact answer, <c>full</c> for everything; anything else is
+    /// the field's 400 (the query check answers it before the handler; this keeps the handler whole on its own).
+    /// </summary>
     internal static bool TryDetail(string? detail, out AnswerDetail value, out ValidationProblem problem)
     {
         problem = null!;
@@ -72,7 +75,7 @@ public static partial class EvaluationsApi
                 value = AnswerDetail.Compact;
                 problem = Problems.Validation(new Dictionary<string, string[]>(StringComparer.Ordinal)
                 {
-                    ["detail"] = [$"'{detail}' is not an answer detail. Accepted values: compact (the default), full."],
+                    ["detail"] = [QueryParameters.NotInVocabulary("detail", detail)],
                 });
                 return false;
         }
@@ -133,8 +136,8 @@ public static partial class EvaluationsApi
             telemetry.Answered(result, Endpoint);
             SetRetryAfter(http, result.Problem);
             return result.Problem is HttpValidationProblemDetails v
-                ? Problems.Validation(v.Errors, (string)v.Extensions["code"]!, v.Title!)
-                : TypedResults.Problem(result.Problem!);
+                ? Problems.AsResult(v)
+                : Problems.AsResult(result.Problem!);
         }
 
         try
@@ -175,7 +178,7 @@ public static partial class EvaluationsApi
     internal static ProblemHttpResult Unavailable(HttpContext http, IOptions<ServiceOptions> options)
     {
         http.Response.Headers.RetryAfter = options.Value.RetryAfterSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture);
-        return Problems.AuditStoreUnavailable();
+        return Problems.AsResult(Problems.AuditStoreUnavailable());
     }
 
     // The smallest governing margin in kelvin, from the record's SI summary (whatever units the answer was written in).
@@ -189,7 +192,7 @@ public static partial class EvaluationsApi
 
         // A record outside the key's scope answers as missing, so ids cannot be probed.
         return record is null || !keys.ScopeOf(user).MayRead(record)
-            ? Problems.Missing($"No evaluation with id {id} is recorded.")
+            ? Problems.AsResult(Problems.Missing($"No evaluation with id {id} is recorded."))
             : new Utf8JsonResult<StoredEvaluation>(StoredEvaluation.Write(record));
     }
 
@@ -199,7 +202,7 @@ public static partial class EvaluationsApi
         var record = await audit.GetAsync(id, cancellationToken).ConfigureAwait(false);
         if (record is null || !keys.ScopeOf(user).MayRead(record))
         {
-            return Problems.Missing($"No evaluation with id {id} is recorded.");
+            return Problems.AsResult(Problems.Missing($"No evaluation with id {id} is recorded."));
         }
 
         // Recompute from the stored bytes; the hashes stored beside them were taken when the record was written.
@@ -237,7 +240,7 @@ public static partial class EvaluationsApi
         var errors = FilterErrors(verdict, from, to);
         if (limit is < 1 or > AuditQuery.MaxPageSize)
         {
-            errors["limit"] = [$"The page size must be 1 to {AuditQuery.MaxPageSize}."];
+            errors["limit"] = [QueryParameters.OutOfRange("limit", limit.Value.ToString(System.Globalization.CultureInfo.InvariantCulture))];
         }
 
         if (cursor is not null && !AuditCursor.TryParse(cursor, out _))
@@ -265,7 +268,7 @@ public static partial class EvaluationsApi
         var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
         if (verdict is not null && !AuditVerdict.IsKnown(verdict))
         {
-            errors["verdict"] = ["Accepted values: 'pass', 'review', 'fail'."];
+            errors["verdict"] = [QueryParameters.NotInVocabulary("verdict", verdict)];
         }
 
         if (from is not null && to is not null && from >= to)

@@ -67,7 +67,7 @@ internal static class ExportApi
             }
             catch (AuditStoreUnavailableException)
             {
-                return Problems.AuditStoreUnavailable();
+                return Problems.AsResult(Problems.AuditStoreUnavailable());
             }
 
             http.Response.StatusCode = StatusCodes.Status200OK;

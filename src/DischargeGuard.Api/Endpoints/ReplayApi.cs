@@ -50,7 +50,7 @@ internal static partial class ReplayApi
             var scope = keys.ScopeOf(http.User);
             if (original is null || !scope.MayRead(original))
             {
-                return Problems.Missing($"No evaluation with id {id} is recorded.");
+                return Problems.AsResult(Problems.Missing($"No evaluation with id {id} is recorded."));
             }
 
             var (request, refusal) = runner.Read(original.Request);

@@ -75,17 +75,7 @@ public static partial class RulesApi
         }
 
         LogReloadRefused(logger, result.Errors.Count, result.Digest, caller);
-        return TypedResults.Problem(
-            detail: "The rule directory does not load; nothing changed and the last good rule set (digest below) is still in force. See 'errors' for file, line and key.",
-            statusCode: StatusCodes.Status422UnprocessableEntity,
-            title: "The rule set is invalid.",
-            type: Problems.TypeUri(Problems.RulesInvalid),
-            extensions: new Dictionary<string, object?>
-            {
-                ["code"] = Problems.RulesInvalid,
-                ["activeDigest"] = result.Digest,
-                ["errors"] = result.Errors.Select(RuleErrorDto.From).ToArray(),
-            });
+        return Problems.AsResult(Problems.RuleSetInvalid(result.Digest, result.Errors.Select(RuleErrorDto.From).ToArray()));
     }
 
     internal static async Task<Results<Ok<RuleCheckResult>, ValidationProblem>> CheckRuleFile(

@@ -5,7 +5,8 @@ using Microsoft.AspNetCore.Mvc;
 namespace DischargeGuard.Api.Infrastructure;
 
 /// <summary>
-/// Turns what escapes an endpoint into problem details: a malformed or oversized body into 400/413 naming the JSON path,
+/// Turns what escapes an endpoint into the catalogue's problem details (<see cref="Problems"/>): a malformed, oversized
+/// or wrongly typed body into 400/413/415 naming the JSON path, a parameter that did not bind into 400 naming it,
 /// anything else into a 500 with no internals (the exception is logged, never sent).
 /// </summary>
 internal sealed partial class ProblemExceptionHandler(IProblemDetailsService problems, ILogger<ProblemExceptionHandler> logger) : IExceptionHandler
@@ -15,24 +16,7 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
         ProblemDetails details;
         if (exception is BadHttpRequestException bad)
         {
-            var status = bad.StatusCode;
-            var code = status == StatusCodes.Status413PayloadTooLarge ? Problems.PayloadTooLarge : Problems.InvalidRequest;
-            var validation = new HttpValidationProblemDetails
-            {
-                Status = status,
-                Type = Problems.TypeUri(code),
-                Title = status == StatusCodes.Status413PayloadTooLarge ? "The request body is too large." : "The request body could not be read.",
-                Detail = status == StatusCodes.Status413PayloadTooLarge
-                    ? "Send a smaller body, or split a batch."
-                    : "The body must be a JSON document of the documented shape (UTF-8, no comments, no unknown fields).",
-            };
-            validation.Extensions["code"] = code;
-            if (FindJsonException(bad) is { } json)
-            {
-                validation.Errors[JsonPathToField(json.Path)] = [CleanJsonMessage(json)];
-            }
-
-            details = validation;
+            details = Refusal(httpContext, bad);
         }
         else
         {
@@ -40,23 +24,72 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
             // by more people than the code. Turning this category to Debug adds the full exception for a developer.
             LogUnhandled(logger, exception.GetType().Name, httpContext.Request.Path, exception.Message);
             LogUnhandledDetail(logger, exception, httpContext.Request.Path);
-            details = new ProblemDetails
-            {
-                Status = StatusCodes.Status500InternalServerError,
-                Type = Problems.TypeUri(Problems.Internal),
-                Title = "An unexpected error occurred.",
-                Detail = "The error was logged with the trace id below; no result was given for this request.",
-            };
-            details.Extensions["code"] = Problems.Internal;
+            details = Problems.Unexpected();
         }
 
         httpContext.Response.StatusCode = details.Status!.Value;
         return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = httpContext, ProblemDetails = details, Exception = null }).ConfigureAwait(false);
     }
 
-    // "$.stages[0].suction.pressure" → "stages[0].suction.pressure".
-    internal static string JsonPathToField(string? path) =>
-        string.IsNullOrEmpty(path) || path == "$" ? string.Empty : path.StartsWith("$.", StringComparison.Ordinal) ? path[2..] : path.TrimStart('$');
+    // What the framework refused while reading the request, as the catalogue words it: the body's size, its media type,
+    // the JSON path where reading stopped, or the parameters that did not bind.
+    private static ProblemDetails Refusal(HttpContext http, BadHttpRequestException bad)
+    {
+        if (bad.StatusCode == StatusCodes.Status413PayloadTooLarge || FindTooLarge(bad))
+        {
+            return Problems.BodyTooLarge();
+        }
+
+        if (bad.StatusCode == StatusCodes.Status415UnsupportedMediaType)
+        {
+            return Problems.WrongContentType(http.Request.ContentType, "application/json");
+        }
+
+        if (FindJsonException(bad) is { } json)
+        {
+            return Problems.UnreadableBody(json);
+        }
+
+        // A query value that does not bind is normally answered by the query check before the endpoint; this is the
+        // fallback for one it did not foresee (a required parameter left out, a type it does not know).
+        if (QueryParameters.ErrorsOf(http) is { Count: > 0 } errors)
+        {
+            return Problems.InvalidParameters(errors);
+        }
+
+        return bad.Message.StartsWith("Required parameter", StringComparison.Ordinal) || bad.Message.StartsWith("Failed to bind parameter", StringComparison.Ordinal)
+            ? Problems.InvalidParameters(new Dictionary<string, string[]>(StringComparer.Ordinal) { [ParameterName(bad.Message)] = ["Give this parameter in the form the OpenAPI document states."] })
+            : Problems.UnreadableBody(string.Empty, "The body could not be read as a JSON document.");
+    }
+
+    // The framework's binding messages quote "<Type> <name>" first: 'Failed to bind parameter "int? limit" from "x".'
+    private static string ParameterName(string message)
+    {
+        var open = message.IndexOf('"', StringComparison.Ordinal);
+        var close = open < 0 ? -1 : message.IndexOf('"', open + 1);
+        if (close < 0)
+        {
+            return string.Empty;
+        }
+
+        var quoted = message[(open + 1)..close];
+        var space = quoted.LastIndexOf(' ');
+        return space < 0 ? quoted : quoted[(space + 1)..];
+    }
+
+    // Kestrel's own limit is met while the body is read, wrapped in the reader's exception.
+    private static bool FindTooLarge(Exception? e)
+    {
+        for (; e is not null; e = e.InnerException)
+        {
+            if (e is BadHttpRequestException { StatusCode: StatusCodes.Status413PayloadTooLarge })
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
 
     private static JsonException? FindJsonException(Exception? e)
     {
@@ -69,29 +102,6 @@ internal sealed partial class ProblemExceptionHandler(IProblemDetailsService pro
         }
 
         return null;
-    }
-
-    // The serializer's messages name .NET types; say what the contract expects instead.
-    internal static string CleanJsonMessage(JsonException json)
-    {
-        var m = json.Message;
-        if (m.StartsWith("Duplicate propert", StringComparison.Ordinal))
-        {
-            // The serializer's wording names .NET types (a converter's "Duplicate member …" is already the contract's).
-            return "Duplicate member: this member is named more than once in its object; name it once. Nothing was evaluated or stored.";
-        }
-
-        if (m.Contains("could not be mapped", StringComparison.Ordinal) || m.Contains("unmapped", StringComparison.OrdinalIgnoreCase))
-        {
-            return "Unknown field: the contract has no field of this name here (check the spelling and the OpenAPI document).";
-        }
-
-        if (json.InnerException is null && !m.Contains("System.", StringComparison.Ordinal) && !m.Contains("DischargeGuard.", StringComparison.Ordinal))
-        {
-            return m.Split(" Path:", StringSplitOptions.None)[0];
-        }
-
-        return "This value has the wrong type or is malformed JSON here (quantities are strings such as \"1.5 barg\" or {\"value\": 1.5, \"unit\": \"barg\"}; fractions and efficiencies are numbers).";
     }
 
     [LoggerMessage(EventId = 90, Level = LogLevel.Error, Message = "Unhandled {ExceptionType} on {Path}: {Reason}")]

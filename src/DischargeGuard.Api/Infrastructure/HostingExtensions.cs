@@ -147,7 +147,14 @@ public static class HostingExtensions
             return next(context);
         });
         app.UseExceptionHandler();
-        app.UseStatusCodePages();
+        // A status set without a body (an unknown route, a method or media type the route does not take) gets the
+        // catalogue's problem with the service's type and code, never the framework's bare one.
+        app.UseStatusCodePages(context =>
+        {
+            var http = context.HttpContext;
+            var problems = http.RequestServices.GetRequiredService<IProblemDetailsService>();
+            return problems.WriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = Problems.ForStatus(http) }).AsTask();
+        });
         // Without keys: loopback host names only, and nothing state-changing a web page of another site could send.
         app.UseAnonymousBrowserGuard();
         app.Use((context, next) =>
@@ -185,6 +192,8 @@ public static class HostingExtensions
         app.UseDefaultFiles();
         app.UseStaticFiles();
         app.UseDischargeGuardSecurity();
+        // After authentication, so a caller without a key learns nothing of the parameters; before the endpoint binds them.
+        app.UseQueryParameterCheck();
         app.UseSwagger();
         app.UseSwaggerUI(o => o.DocumentTitle = "DischargeGuard API");
 

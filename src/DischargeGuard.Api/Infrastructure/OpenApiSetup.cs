@@ -62,6 +62,7 @@ internal static class OpenApiSetup
             Description = "An API key (see docs/security.md for the roles of each endpoint). Without configured keys the service is anonymous and listens on loopback only.",
         });
         options.OperationFilter<ApiKeyOperationFilter>();
+        options.OperationFilter<QueryParameterOperationFilter>();
         options.SchemaFilter<ExampleSchemaFilter>();
         options.SupportNonNullableReferenceTypes();
     }

@@ -71,10 +71,12 @@ internal static class OpenApiVocabularies
 
     public static readonly Vocabulary RuleFileErrorKind = new("RuleFileErrorKind", "What is wrong in a rule file.", Enum.GetNames<Rules.Loading.RuleFileErrorKind>());
 
+    public static readonly Vocabulary AnswerDetail = new("AnswerDetail", "How much an evaluation answer holds: compact (the default: each finding once, under its stage) or full (each rule's basis, the envelope per limit and the gas models side by side).", Lower<Evaluation.Pipeline.AnswerDetail>());
+
     /// <summary>Every vocabulary, for tests and docs.</summary>
     public static IReadOnlyList<Vocabulary> All { get; } =
     [
-        Verdict, Severity, MethodChoice, GasModel, EvaluationMethod, OutputUnits, Service, CompositionBasis, StandardReference, Phase,
+        AnswerDetail, Verdict, Severity, MethodChoice, GasModel, EvaluationMethod, OutputUnits, Service, CompositionBasis, StandardReference, Phase,
         EfficiencyGiven, EfficiencyKind, ValueSource, CalibrationKind, EnvelopeStatus, LimitDirection, CheckedQuantity, StagePosition,
         ServiceDetection, RuleFileErrorKind,
     ];
@@ -134,9 +136,12 @@ internal sealed class VocabularySchemaFilter : ISchemaFilter
         }
     }
 
-    private static OpenApiSchemaReference Reference(Vocabulary vocabulary, SchemaFilterContext context)
+    private static OpenApiSchemaReference Reference(Vocabulary vocabulary, SchemaFilterContext context) => Reference(vocabulary, context.SchemaRepository);
+
+    /// <summary>A reference to the vocabulary's enum component, defining it in <paramref name="repository"/> on first use.</summary>
+    internal static OpenApiSchemaReference Reference(Vocabulary vocabulary, SchemaRepository repository)
     {
-        if (context.SchemaRepository.Schemas.TryGetValue(vocabulary.Name, out var existing))
+        if (repository.Schemas.TryGetValue(vocabulary.Name, out var existing))
         {
             // A contract type given the same wire name would otherwise be referenced silently in place of the enum.
             if (existing is not OpenApiSchema { Enum.Count: > 0 } known || known.Enum.Count != vocabulary.Values.Count)
@@ -146,7 +151,7 @@ internal sealed class VocabularySchemaFilter : ISchemaFilter
         }
         else
         {
-            context.SchemaRepository.AddDefinition(vocabulary.Name, new OpenApiSchema
+            repository.AddDefinition(vocabulary.Name, new OpenApiSchema
             {
                 Type = JsonSchemaType.String,
                 Description = vocabulary.Description,
@@ -155,5 +160,33 @@ internal sealed class VocabularySchemaFilter : ISchemaFilter
         }
 
         return new OpenApiSchemaReference(vocabulary.Name);
+    }
+}
+
+/// <summary>
+/// Publishes what <see cref="QueryParameters"/> checks: a closed-vocabulary query parameter refers to its enum component
+/// (so a generated client has one enum type for it), and a bounded integer states its minimum and maximum.
+/// </summary>
+internal sealed class QueryParameterOperationFilter : IOperationFilter
+{
+    public void Apply(OpenApiOperation operation, OperationFilterContext context)
+    {
+        foreach (var parameter in operation.Parameters?.OfType<OpenApiParameter>() ?? [])
+        {
+            if (parameter.In != ParameterLocation.Query || parameter.Name is not { } name)
+            {
+                continue;
+            }
+
+            if (QueryParameters.Vocabularies.TryGetValue(name, out var vocabulary))
+            {
+                parameter.Schema = VocabularySchemaFilter.Reference(vocabulary, context.SchemaRepository);
+            }
+            else if (QueryParameters.Ranges.TryGetValue(name, out var range) && parameter.Schema is OpenApiSchema schema)
+            {
+                schema.Minimum = range.Minimum.ToString(System.Globalization.CultureInfo.InvariantCulture);
+                schema.Maximum = range.Maximum.ToString(System.Globalization.CultureInfo.InvariantCulture);
+            }
+        }
     }
 }

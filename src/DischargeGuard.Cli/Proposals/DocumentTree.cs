@@ -1,5 +1,4 @@
 using System.Globalization;
-using System.Text;
 using System.Text.Json;
 
 namespace DischargeGuard.Cli.Proposals;
@@ -184,36 +183,6 @@ internal static class DocPath
 
     /// <summary>Joins a parent path and a member name.</summary>
     public static string Member(string parent, string name) => parent.Length == 0 ? name : parent + "." + name;
-
-    /// <summary>Converts a System.Text.Json path (<c>$.stages[0]['n-C4H10']</c>) to the dotted form.</summary>
-    public static string FromJsonPath(string? jsonPath)
-    {
-        if (string.IsNullOrEmpty(jsonPath))
-        {
-            return string.Empty;
-        }
-
-        var p = jsonPath.StartsWith('$') ? jsonPath[1..] : jsonPath;
-        var sb = new StringBuilder(p.Length);
-        for (var i = 0; i < p.Length; i++)
-        {
-            if (p[i] == '[' && i + 1 < p.Length && p[i + 1] == '\'')
-            {
-                var end = p.IndexOf("']", i + 2, StringComparison.Ordinal);
-                if (end > 0)
-                {
-                    sb.Append('.').Append(p, i + 2, end - i - 2);
-                    i = end + 1;
-                    continue;
-                }
-            }
-
-            sb.Append(p[i]);
-        }
-
-        var s = sb.ToString();
-        return s.StartsWith('.') ? s[1..] : s;
-    }
 
     /// <summary>FluentValidation's "Stages[0].Suction.Pressure" in the contract's camelCase ("stages[0].suction.pressure"), by the service's own translator.</summary>
     public static string FromPropertyName(string path) => DischargeGuard.Evaluation.Pipeline.ContractPaths.FromValidator(path);

@@ -283,7 +283,8 @@ public static class ProposalReader
         }
         catch (JsonException ex)
         {
-            var path = DocPath.FromJsonPath(ex.Path);
+            // The service names a malformed value by the same translator, so the gate and the service agree on the field.
+            var path = DischargeGuard.Evaluation.Pipeline.ContractPaths.FromJsonPath(ex.Path);
             c.Errors.Add(c.ErrorAt(path, TypeMessage(ex, request, path)));
         }
     }

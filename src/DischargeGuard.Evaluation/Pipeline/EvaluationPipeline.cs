@@ -87,8 +87,7 @@ public sealed class EvaluationPipeline
         {
             // Every range error of the physics is the request's 422: the call sites map theirs to the field the caller
             // typed; one that escapes them still names its stage member, or the stages when it names none.
-            var member = ex.ParamName is { } p && (p.StartsWith("stages[", StringComparison.Ordinal) || p.StartsWith("gas.", StringComparison.Ordinal)) ? p : null;
-            return (null, Unprocessable(FromThermoMember(member, request.Stages ?? []), ex.Reason).Problem);
+            return (null, Unprocessable(FromThermo(ex, request.Stages ?? []), ex.Reason).Problem);
         }
     }
 
@@ -103,7 +102,7 @@ public sealed class EvaluationPipeline
         }
         catch (ThermoInputException ex)
         {
-            throw Unprocessable(FromThermoMember(ex.ParamName, stagesIn), ex.Reason);
+            throw Unprocessable(FromThermo(ex, stagesIn), ex.Reason);
         }
 
         var outcomes = new StageOutcome[solved.Length];
@@ -151,7 +150,7 @@ public sealed class EvaluationPipeline
         var idealDischarge = StagePhases.AtDischarge(phaseModel, s.Gas, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
         var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
             ? RealGasStage.NotComputed("The real gas was not computed: the discharge state lies inside the two-phase region.")
-            : RealGasChoice.Decide(s, conditions, input.Method, i, m => FromThermoMember(m, input.Request.Stages!), secondOpinion: context.Detail == AnswerDetail.Full);
+            : RealGasChoice.Decide(s, conditions, input.Method, i, ex => FromThermo(ex, input.Request.Stages!, i), secondOpinion: context.Detail == AnswerDetail.Full);
         if (realGas.Result is { } rgr)
         {
             facts = facts with { RealGasCorrection = TemperatureDelta.FromKelvins(Math.Abs(rgr.DifferenceFromIdealGas.Kelvins)) };

@@ -74,9 +74,9 @@ internal static class RealGasChoice
     /// <param name="conditions">The stage's conditions.</param>
     /// <param name="method">The normalized request method (<see cref="GasModels.Normalize"/>).</param>
     /// <param name="index">The stage index, for field paths.</param>
-    /// <param name="mapMember">Maps a Thermo member name to the request's field path.</param>
+    /// <param name="mapMember">Maps a Thermo error (its stage and member) to the request's field path.</param>
     /// <param name="secondOpinion">Whether to compute Peng-Robinson beside GERG-2008 where GERG-2008 decides (the full answer shows it; nothing the verdict reads depends on it).</param>
-    public static RealGasStage Decide(TrainStageResult s, in StageConditions conditions, string method, int index, Func<string?, string> mapMember, bool secondOpinion = true)
+    public static RealGasStage Decide(TrainStageResult s, in StageConditions conditions, string method, int index, Func<ThermoInputException, string> mapMember, bool secondOpinion = true)
     {
         if (method == GasModels.Gerg2008)
         {
@@ -187,7 +187,7 @@ internal static class RealGasChoice
 
     // Peng-Robinson beside (or deciding) as before GERG-2008: "auto" uses it when the switch criteria call for a real gas,
     // "peng-robinson" always, "ideal-gas" never; its answer is computed beside the ideal one whenever it can be.
-    private static RealGasStage PengRobinsonOf(TrainStageResult s, StageConditions conditions, string method, int index, Func<string?, string> mapMember, string reasonPrefix)
+    private static RealGasStage PengRobinsonOf(TrainStageResult s, StageConditions conditions, string method, int index, Func<ThermoInputException, string> mapMember, string reasonPrefix)
     {
         var mixture = RealGasMixture.Create(s.Gas);
         RealGasAssessment? assessment = null;
@@ -205,11 +205,8 @@ internal static class RealGasChoice
             var mustDecide = method == GasModels.PengRobinson || (method == GasModels.Auto && (assessment?.RealGasRecommended ?? true));
             if (mustDecide)
             {
-                var member = ex.ParamName is { } p && !p.StartsWith("stages[", StringComparison.Ordinal)
-                    ? string.Create(CultureInfo.InvariantCulture, $"stages[{index}].{p}")
-                    : ex.ParamName;
                 throw RequestProblemException.Field(ProblemKind.Unprocessable, "out-of-range", "The request is physically impossible or outside the data's valid range.",
-                    mapMember(member), "Real gas (Peng-Robinson): " + ex.Reason);
+                    mapMember(ex), "Real gas (Peng-Robinson): " + ex.Reason);
             }
 
             return new RealGasStage(GasModels.IdealGas, Reason(method, reasonPrefix, false), mixture, null, null, null, null, assessment, "The real-gas answer could not be computed: " + ex.Reason);

@@ -372,7 +372,7 @@ internal sealed class RequestBinder(UnitVocabulary units)
         }
         catch (ThermoInputException ex)
         {
-            var field = ex.ParamName switch
+            var field = ex.Member switch
             {
                 nameof(StageConditions.SuctionPressure) => ".suction.pressure",
                 nameof(StageConditions.SuctionTemperature) => ".suction.temperature",

@@ -108,11 +108,5 @@ internal static class AnonymousBrowserGuard
     private static bool HasBody(HttpRequest request) =>
         request.ContentLength > 0 || (request.ContentLength is null && request.Headers.TransferEncoding.Count > 0);
 
-    private static ProblemHttpResult Refuse(int status, string title, string detail) =>
-        TypedResults.Problem(
-            detail: detail,
-            statusCode: status,
-            title: title,
-            type: Problems.TypeUri(Problems.CrossSiteRefused),
-            extensions: new Dictionary<string, object?> { ["code"] = Problems.CrossSiteRefused });
+    private static ProblemHttpResult Refuse(int status, string title, string detail) => Problems.AsResult(Problems.CrossSite(status, title, detail));
 }

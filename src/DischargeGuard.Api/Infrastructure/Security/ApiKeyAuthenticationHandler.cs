@@ -43,29 +43,13 @@ internal sealed class ApiKeyAuthenticationHandler(
         Response.StatusCode = StatusCodes.Status401Unauthorized;
         Response.Headers.WWWAuthenticate = AuthOptions.Scheme;
         var sent = Request.Headers.ContainsKey(AuthOptions.HeaderName);
-        return WriteAsync(new ProblemDetails
-        {
-            Status = StatusCodes.Status401Unauthorized,
-            Type = Problems.TypeUri(Problems.Unauthorized),
-            Title = "An API key is required.",
-            Detail = sent
-                ? $"The key in the {AuthOptions.HeaderName} header is not recognised. Ask the administrator for a valid key."
-                : $"Send the API key in the {AuthOptions.HeaderName} header.",
-            Extensions = { ["code"] = Problems.Unauthorized },
-        });
+        return WriteAsync(Problems.KeyRequired(AuthOptions.HeaderName, sent));
     }
 
     protected override Task HandleForbiddenAsync(AuthenticationProperties properties)
     {
         Response.StatusCode = StatusCodes.Status403Forbidden;
-        return WriteAsync(new ProblemDetails
-        {
-            Status = StatusCodes.Status403Forbidden,
-            Type = Problems.TypeUri(Problems.Forbidden),
-            Title = "The API key does not allow this.",
-            Detail = "The key is valid but none of its roles may call this endpoint; see docs/security.md for the roles of each endpoint.",
-            Extensions = { ["code"] = Problems.Forbidden },
-        });
+        return WriteAsync(Problems.RoleMissing());
     }
 
     private async Task WriteAsync(ProblemDetails details)

@@ -50,14 +50,7 @@ internal static class RateLimiting
         var seconds = context.Lease.TryGetMetadata(MetadataName.RetryAfter, out var retryAfter) ? Math.Max(1, (int)Math.Ceiling(retryAfter.TotalSeconds)) : 1;
         http.Response.StatusCode = StatusCodes.Status429TooManyRequests;
         http.Response.Headers.RetryAfter = seconds.ToString(CultureInfo.InvariantCulture);
-        var details = new ProblemDetails
-        {
-            Status = StatusCodes.Status429TooManyRequests,
-            Type = Problems.TypeUri(Problems.RateLimited),
-            Title = "Too many requests.",
-            Detail = $"This caller's request rate is over its limit; retry after {seconds} s (the Retry-After header). Nothing was evaluated or stored for this request.",
-            Extensions = { ["code"] = Problems.RateLimited },
-        };
+        var details = Problems.TooManyRequests(seconds);
         var problems = http.RequestServices.GetRequiredService<IProblemDetailsService>();
         await problems.WriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details }).ConfigureAwait(false);
     }
