@@ -14,7 +14,7 @@ namespace DischargeGuard.Api.Endpoints;
 internal static class ReportChart
 {
     private const double Width = 360;
-    private const double Height = 270;
+    private const double Height = 300;
     private const double Left = 46;
     private const double Right = 10;
     private const double Top = 12;
@@ -71,7 +71,8 @@ internal static class ReportChart
         var s = new StringBuilder(8 * 1024);
         var id = "report-chart-" + index.ToString(Invariant);
         var governing = limits.FirstOrDefault(l => l.Governing);
-        s.Append("<figure class=\"chart\">\n<svg class=\"chart-svg\" viewBox=\"0 0 ").Append(F(Width)).Append(' ').Append(F(Height))
+        var height = Height;
+        s.Append("<figure class=\"chart\">\n<svg class=\"chart-svg\" viewBox=\"0 0 ").Append(F(Width)).Append(' ').Append(ViewBoxMark)
             .Append("\" role=\"img\" aria-labelledby=\"").Append(id).Append("-title ").Append(id).Append("-desc\" data-stage=\"").Append(index.ToString(Invariant)).Append("\">\n")
             .Append("<title id=\"").Append(id).Append("-title\">Stage ").Append((index + 1).ToString(Invariant)).Append(": discharge temperature against discharge pressure</title>\n")
             .Append("<desc id=\"").Append(id).Append("-desc\">").Append(E(
@@ -130,13 +131,21 @@ internal static class ReportChart
         foreach (var l in limits.OrderByDescending(l => l.Value))
         {
             var y = Y(l.Value);
-            var label = $"{(l.Governing ? "▶ " : string.Empty)}{l.Words} {Num(l.Value)} {l.Unit}";
+            string label = $"{(l.Governing ? "▶ " : string.Empty)}{l.Words} {Num(l.Value)} {l.Unit}";
             var w = label.Length * CharPx;
             var box = Place(y, w, plotW, plotH, placed, obstacles);
-            placed.Add(box);
+            if (box is null)
+            {
+                // No free place beside the line: a row of its own under the axis (the chart grows), covering nothing.
+                box = (3, height + 2, 3 + w + (7 * CharPx), height + 2 + FontPx + 3);
+                height += FontPx + 5;
+                label = "Limit: " + label;
+            }
+
+            placed.Add(box.Value);
             s.Append("<g class=\"limit\" data-rule=\"").Append(E(l.RuleId)).Append("\"><line class=\"limit-line").Append(l.Governing ? " governing-line" : string.Empty)
                 .Append("\" x1=\"").Append(F(Left)).Append("\" x2=\"").Append(F(Left + plotW)).Append("\" y1=\"").Append(F(y)).Append("\" y2=\"").Append(F(y)).Append("\"/>")
-                .Append("<text class=\"limit-label\" x=\"").Append(F(box.X0)).Append("\" y=\"").Append(F(box.Y1 - 3)).Append("\">").Append(E(label)).Append("</text></g>\n");
+                .Append("<text class=\"limit-label\" x=\"").Append(F(box.Value.X0)).Append("\" y=\"").Append(F(box.Value.Y1 - 3)).Append("\">").Append(E(label)).Append("</text></g>\n");
         }
 
         foreach (var (l, p) in limits.Where(l => l.MaxPressure is not null).Select(l => (l, P: l.MaxPressure!.Value)))
@@ -147,6 +156,7 @@ internal static class ReportChart
         }
 
         s.Append("<circle class=\"operating-point\" cx=\"").Append(F(X(op.P))).Append("\" cy=\"").Append(F(Y(op.T))).Append("\" r=\"6\"/>\n</svg>\n");
+        s.Replace(ViewBoxMark, F(height));
         s.Append("<ul class=\"chart-legend\"><li>Thick line: estimated discharge temperature; shaded: up to its upper bound; dashed: isentropic (η = 1)</li>")
             .Append("<li>Red lines: the limits in words (solid and ▶: the governing one)</li><li>Dot: operating point; diamonds: where each limit is reached</li></ul>\n");
         s.Append("<figcaption>Stage ").Append((index + 1).ToString(Invariant)).Append(": drawn from the stored answer")
@@ -157,7 +167,7 @@ internal static class ReportChart
 
     // A label sits just above (or below) its line at the left or the right of the plot, whichever first keeps it clear
     // of every label already placed, the curves and the points; failing that, the nearest free height.
-    private static (double X0, double Y0, double X1, double Y1) Place(double y, double w, double plotW, double plotH, List<(double X0, double Y0, double X1, double Y1)> placed, List<(double X, double Y)> obstacles)
+    private static (double X0, double Y0, double X1, double Y1)? Place(double y, double w, double plotW, double plotH, List<(double X0, double Y0, double X1, double Y1)> placed, List<(double X, double Y)> obstacles)
     {
         var h = FontPx + 3;
         var candidates = new List<(double X0, double Y0)>();
@@ -192,8 +202,11 @@ internal static class ReportChart
             return box;
         }
 
-        return (Left + 3, y - h - 1, Left + 3 + w, y - 1);
+        return null;
     }
+
+    // Stands in for the viewBox height until the labels below the axis, if any, are counted.
+    private const string ViewBoxMark = "@@height@@";
 
     private static List<Limit> LimitsOf(JsonElement stage, string tUnit, string pUnit)
     {

@@ -430,7 +430,7 @@ async function start() {
   addStage();
   $("#add-stage").addEventListener("click", () => {
     const stage = addStage();
-    stage.querySelector("input").focus();
+    stage.querySelector('[data-id="suction-pressure"]').focus();
   });
   $("#remove-stage").addEventListener("click", () => {
     removeLastStage();

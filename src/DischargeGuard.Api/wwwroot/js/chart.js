@@ -88,7 +88,7 @@ export function drawStageChart(stage, shownWidth = 640) {
 
   const id = `chart-${++chartCount}`;
   const WIDTH = Math.round(Math.min(900, Math.max(300, shownWidth)));
-  const HEIGHT = Math.round(Math.min(440, Math.max(280, WIDTH * 0.62)));
+  let HEIGHT = Math.round(Math.min(440, Math.max(300, WIDTH * 0.7)));
   const pressureUnit = curve[0].dischargePressure.unit;
   const temperatureUnit = curve[0].estimated.unit;
   const operating = {
@@ -220,7 +220,11 @@ export function drawStageChart(stage, shownWidth = 640) {
       }
     }
 
-    return { x0: MARGIN.left + 4, y0: lineY - lineH - 1, x1: MARGIN.left + 4 + w, y1: lineY - 1 };
+    // No free place beside the line: the label goes to a row of its own under the axis (the chart grows), so it
+    // still covers nothing; the line's value is in its words.
+    const y0 = HEIGHT + 2;
+    HEIGHT += lineH + 2;
+    return { x0: 4, y0, x1: 4 + w, y1: y0 + lineH, below: true };
   };
 
   const limitGroup = el("g", { class: "limits" });
@@ -233,11 +237,12 @@ export function drawStageChart(stage, shownWidth = 640) {
     const words = `${l.governing ? "▶ " : ""}${l.words} ${format(l.limit.value)} ${l.limit.unit}`;
     const box = place(y(l.limit.value), words.length * CHAR_PX);
     placed.push(box);
-    g.append(el("text", { class: "limit-label", x: box.x0.toFixed(1), y: (box.y1 - 4).toFixed(1) }, words));
+    g.append(el("text", { class: `limit-label${box.below ? " below" : ""}`, x: box.x0.toFixed(1), y: (box.y1 - 4).toFixed(1) }, box.below ? `Limit: ${words}` : words));
     limitGroup.append(g);
   }
 
   svg.append(limitGroup);
+  svg.setAttribute("viewBox", `0 0 ${WIDTH} ${HEIGHT}`);
 
   // The operating point with the estimate's lower-to-upper bound as a bar.
   const op = el("g", { class: "operating" });

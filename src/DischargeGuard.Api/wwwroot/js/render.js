@@ -68,7 +68,8 @@ export function verdictBanner(kind, detail) {
     h("div", {}, h("span", { class: "word" }, v.word), h("span", { class: "meaning" }, detail || v.meaning)));
 }
 
-const q = (quantity) => (quantity ? `${formatNumber(quantity.value)} ${quantity.unit}` : "—");
+// A ratio's unit is "1": the number alone reads as what it is.
+const q = (quantity) => (quantity ? (quantity.unit === "1" ? formatNumber(quantity.value) : `${formatNumber(quantity.value)} ${quantity.unit}`) : "—");
 
 function formatNumber(value) {
   if (typeof value !== "number") {
