@@ -19,6 +19,7 @@ public sealed class AccessControlTests(KeyedServiceFactory factory) : IClassFixt
         ("GET /v1/evaluations", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("GET /v1/evaluations/{id}/verify", [Roles.Technician, Roles.Planner, Roles.Admin]),
+        ("GET /v1/evaluations/{id}/report", [Roles.Technician, Roles.Planner, Roles.Admin]),
         ("POST /v1/evaluations/batch", [Roles.Planner]),
         ("GET /v1/evaluations/export", [Roles.Planner]),
         ("POST /v1/evaluations/{id}/replay", [Roles.Planner]),

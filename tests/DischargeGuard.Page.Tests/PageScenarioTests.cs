@@ -33,7 +33,7 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
         await page.FillHeaderAsync(Asset, Site, SiteElevation, "preset:dry-air");
         await page.SelectAsync("#service", "air");
         await page.FillStageAsync(0, AirStage);
-        await page.At("#stages fieldset.stage[data-index='0'] details.more summary").ClickAsync();
+        await page.At("#stages fieldset.stage[data-index='0'] details.more:has(#stage-0-coolant) summary").ClickAsync();
         await page.FillAsync("#stage-0-coolant", "30");
         await page.SelectAsync("#stage-0-unloaded", "false");
     }
@@ -257,7 +257,11 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
             var ruleId = limit.GetProperty("ruleId").GetString()!;
             var group = svg.Locator($"g.limit[data-rule='{ruleId}']");
             Assert.Equal(1, await group.Locator("line.limit-line").CountAsync());
-            Assert.Contains(ruleId, await group.Locator("text.limit-label").TextContentAsync(), StringComparison.Ordinal);
+            // Labelled in words (the rule's title up to its first comma) with its limit, not by the rule id.
+            var title = stage.GetProperty("findings").EnumerateArray().First(f => f.GetProperty("ruleId").GetString() == ruleId).GetProperty("title").GetString()!;
+            var label = await group.Locator("text.limit-label").TextContentAsync();
+            Assert.Contains(title.Split(',')[0][..Math.Min(30, title.Split(',')[0].Length)], label, StringComparison.Ordinal);
+            Assert.DoesNotContain(ruleId, label, StringComparison.Ordinal);
         }
 
         var governing = stage.GetProperty("governing").GetProperty("ruleId").GetString()!;
@@ -366,14 +370,17 @@ public sealed partial class PageScenarioTests(BrowserFixture browser)
         await FillAirStageAsync(page);
         await page.At("#asset").FocusAsync();
         var order = new List<string>();
-        for (var i = 0; i < 12; i++)
+        for (var i = 0; i < 20; i++)
         {
             await page.Page.Keyboard.PressAsync("Tab");
             order.Add(await page.Page.EvaluateAsync<string>("() => document.activeElement.id || document.activeElement.tagName"));
         }
 
-        // The asset's "Limits in force" view follows the asset tag in reading order (it belongs to the machine group).
-        Assert.Equal(["limits-toggle", "site-id", "site-basis-elevation", "site-elevation", "site-elevation-unit", "gas", "service", "stage-0-suction-pressure"], order.Take(8));
+        // The asset's history rows (links, as many as it has records) and its "Limits in force" view follow the asset
+        // tag in reading order (they belong to the machine group); the humidity follows the gas and its service.
+        Assert.Equal(
+            ["limits-toggle", "site-id", "site-basis-elevation", "site-elevation", "site-elevation-unit", "gas", "service", "relative-humidity", "dew-point", "dew-point-unit", "stage-0-suction-pressure"],
+            order.Where(id => id != "A").Take(11));
         await page.At("#check").FocusAsync();
         await page.Page.Keyboard.PressAsync("Enter");
         await page.At("#result-body .verdict").WaitForAsync();

@@ -50,6 +50,7 @@ public static partial class EvaluationsApi
             .WithName("VerifyEvaluation")
             .WithSummary("Recompute the SHA-256 of a record's stored request and response and its record hash (every column and the previous hash), and compare them with what was stored when it was written.")
             .RequireRoles(Policies.ReadEvaluation);
+        group.MapReport();
         group.MapBatch();
         group.MapExport();
         group.MapReplay();

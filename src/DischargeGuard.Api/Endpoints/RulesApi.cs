@@ -159,7 +159,12 @@ public sealed record RulesDocument(
             Materials(set, MaterialUse.Valve),
             Materials(set, MaterialUse.Seal),
             set.CompressorTypes.Values.OrderBy(c => c.Id, StringComparer.Ordinal).Select(c => new CompressorTypeDto(c.Id, c.Title, c.Family, c.Lubricated, c.EfficiencyKind == EfficiencyKind.Polytropic ? "polytropic" : "isentropic", c.DefaultEfficiency, c.EfficiencyBasis, c.PredictionIsUpperBound)).ToArray(),
-            set.ServiceClasses.Values.OrderBy(s => s.Id, StringComparer.Ordinal).Select(s => new ServiceClassDto(s.Id, s.Title, s.Detection.ToString())).ToArray()),
+            set.ServiceClasses.Values.OrderBy(s => s.Id, StringComparer.Ordinal).Select(s => new ServiceClassDto(s.Id, s.Title, s.Detection.ToString())).ToArray())
+        {
+            RingMaterials = Materials(set, MaterialUse.Ring),
+            SpringMaterials = Materials(set, MaterialUse.Spring),
+            DischargeMaterials = DischargeGuard.Rules.Model.DischargeMaterials.All,
+        },
         RulesInForce.Rules(set),
         RulesInForce.Disabled(set));
 
@@ -185,7 +190,17 @@ public sealed record CataloguesDto(
     IReadOnlyList<MaterialDto> ValveMaterials,
     IReadOnlyList<MaterialDto> SealMaterials,
     IReadOnlyList<CompressorTypeDto> CompressorTypes,
-    IReadOnlyList<ServiceClassDto> ServiceClasses);
+    IReadOnlyList<ServiceClassDto> ServiceClasses)
+{
+    /// <summary>Piston ring, rider band and packing materials (non-lubricated cylinders), for <c>equipment.ringMaterial</c>.</summary>
+    public IReadOnlyList<MaterialDto> RingMaterials { get; init; } = [];
+
+    /// <summary>Valve spring materials, for <c>equipment.springMaterial</c>.</summary>
+    public IReadOnlyList<MaterialDto> SpringMaterials { get; init; } = [];
+
+    /// <summary>The accepted discharge-side pressure-part materials, for <c>equipment.dischargeMaterial</c>.</summary>
+    public IReadOnlyList<string> DischargeMaterials { get; init; } = [];
+}
 
 /// <summary>A lubricant.</summary>
 public sealed record LubricantDto(string Id, string Title, string BaseStock, string? Class, Evaluation.Contract.QuantityDto? FlashPoint,

@@ -36,6 +36,12 @@ public sealed class CaseResult
     /// <summary>Where the case was evaluated: "local" or the service's address.</summary>
     public string? EvaluatedBy { get; init; }
 
+    /// <summary>
+    /// The printable management-of-change record of the evaluation (<c>GET /v1/evaluations/{id}/report</c>, sent with the
+    /// same key header), when a server evaluated and recorded the case; null for a local run.
+    /// </summary>
+    public Uri? ReportUrl { get; init; }
+
     /// <summary>A result for a case that could not be read.</summary>
     /// <param name="proposalCase">The case, with its errors.</param>
     /// <returns>An invalid-input result carrying the case's errors.</returns>

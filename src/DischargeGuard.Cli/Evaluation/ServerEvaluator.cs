@@ -116,7 +116,13 @@ public sealed class ServerEvaluator : ICaseEvaluator
                 return empty;
             }
 
-            var result = new CaseResult(proposalCase, ExitCodes.OfVerdict(answer.Verdict)) { Response = answer, ResponseJson = body, EvaluatedBy = Description };
+            var result = new CaseResult(proposalCase, ExitCodes.OfVerdict(answer.Verdict))
+            {
+                Response = answer,
+                ResponseJson = body,
+                EvaluatedBy = Description,
+                ReportUrl = new Uri(_http.BaseAddress!, "v1/evaluations/" + answer.Id.ToString("D") + "/report"),
+            };
             if (!_approved.Approves(answer.RuleSet.Digest))
             {
                 // The rules changed between the digest check and the evaluation: the record exists, but it is not approved.

@@ -21,13 +21,13 @@ public static class JUnitReport
         ArgumentNullException.ThrowIfNull(report);
         var settings = new XmlWriterSettings { Indent = true, Encoding = new UTF8Encoding(false), CheckCharacters = true };
         using var x = XmlWriter.Create(output, settings);
-        var suites = report.Files.Where(f => f.Errors.Count > 0).Select(f => (Name: f.File, Cases: FileErrorCases(f))).ToList();
-        suites.AddRange(report.Results.Select(r => (Name: $"{r.Case.File}: {r.Case.Name}", Cases: CasesOf(r))));
+        var suites = report.Files.Where(f => f.Errors.Count > 0).Select(f => (Name: f.File, Cases: FileErrorCases(f), Report: (Uri?)null)).ToList();
+        suites.AddRange(report.Results.Select(r => (Name: $"{r.Case.File}: {r.Case.Name}", Cases: CasesOf(r), Report: r.ReportUrl)));
         x.WriteStartDocument();
         x.WriteStartElement("testsuites");
         x.WriteAttributeString("name", "dischargeguard check");
         WriteCounts(x, suites.SelectMany(s => s.Cases).ToList());
-        foreach (var (name, cases) in suites)
+        foreach (var (name, cases, reportUrl) in suites)
         {
             x.WriteStartElement("testsuite");
             x.WriteAttributeString("name", name);
@@ -63,7 +63,8 @@ public static class JUnitReport
                 x.WriteEndElement();
             }
 
-            x.WriteElementString("system-out", string.Join("\n", report.Cautions));
+            // The server's change record of the case, when a server evaluated it, then the cautions.
+            x.WriteElementString("system-out", string.Join("\n", (reportUrl is null ? [] : new[] { "change record: " + reportUrl }).Concat(report.Cautions)));
             x.WriteEndElement();
         }
 

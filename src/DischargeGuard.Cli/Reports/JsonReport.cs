@@ -77,6 +77,11 @@ public static class JsonReport
             w.WriteString("rulesApplied", Format.Applied(response.RuleSet));
         }
 
+        if (r.ReportUrl is { } report)
+        {
+            w.WriteString("report", report.ToString());
+        }
+
         if (r.ResponseJson is { } body)
         {
             w.WritePropertyName("response");

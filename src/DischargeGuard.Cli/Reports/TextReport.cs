@@ -71,6 +71,10 @@ public static class TextReport
         w.WriteLine($"  Case '{c.Name}' — {Format.Subject(r.Asset, r.Site)} — verdict {Format.Verdict(r.Verdict)}");
         w.WriteLine($"    evaluation {r.Id} at {r.EvaluatedAt:u}, engine {r.EngineVersion}, method {r.Method}");
         w.WriteLine($"    rules {r.RuleSet.Digest}");
+        if (result.ReportUrl is { } report)
+        {
+            w.WriteLine($"    change record {report} (send the key as X-Api-Key, or open report.html?evaluation={r.Id} on the service's page)");
+        }
         w.WriteLine($"    {Format.Applied(r.RuleSet)}");
         foreach (var m in result.Messages)
         {

@@ -1,9 +1,9 @@
 // DischargeGuard stage check: wires the form to the service. The page computes no result; it shows the service's.
 
 import { call, describeProblem, forgetKey, saveKey, savedKey } from "./api.js";
-import { addStage, buildRequest, clearFieldErrors, parseComposition, removeLastStage, setCatalogues, showFieldErrors } from "./form.js";
+import { addStage, buildRequest, clearFieldErrors, fillPageTemperatureUnits, parseComposition, removeLastStage, setCatalogues, showFieldErrors, wireFlow } from "./form.js";
 import { renderLimits } from "./limits.js";
-import { renderEvaluation, renderNoVerdict } from "./render.js";
+import { localTime, renderEvaluation, renderNoVerdict } from "./render.js";
 
 const $ = (selector) => document.querySelector(selector);
 const SITE_STORAGE = "dischargeguard.site";
@@ -32,6 +32,7 @@ function writeJson(key, value) {
 
 function setStatus(text) {
   const status = $("#result-status");
+  status.classList.remove("answered");
   const p = document.createElement("p");
   p.textContent = text;
   status.replaceChildren(p);
@@ -284,14 +285,87 @@ async function loadHistory() {
   }
 
   const evaluations = outcome.body.evaluations || [];
-  status.textContent = evaluations.length ? `Last ${evaluations.length} evaluation(s) of ${asset}, newest first:` : `No evaluations of ${asset} recorded yet.`;
+  status.textContent = evaluations.length ? `Last ${evaluations.length} evaluation(s) of ${asset}, newest first (local time); tap one to open it:` : `No evaluations of ${asset} recorded yet.`;
   for (const e of evaluations) {
     const item = document.createElement("li");
     item.dataset.id = e.id;
-    const when = String(e.evaluatedAt).replace("T", " ").slice(0, 16);
-    item.textContent = `${when} UTC — ${String(e.verdict).toUpperCase()}${e.site ? ` — ${e.site}` : ""} — ${e.caller} — id ${e.id}`;
+    const link = document.createElement("a");
+    link.className = "history-link";
+    link.href = `?evaluation=${encodeURIComponent(e.id)}`;
+    link.append(historyPart("history-time", localTime(e.evaluatedAt)), historyPart(`history-verdict tag tag-${e.verdict}`, String(e.verdict).toUpperCase()));
+    const numbers = historyPart("history-numbers", "…");
+    link.append(numbers, historyPart("history-site", e.site ? `at ${e.site}` : ""));
+    link.addEventListener("click", (event) => {
+      event.preventDefault();
+      history.pushState(null, "", link.href);
+      openRecorded(e.id);
+    });
+    item.append(link);
     list.append(item);
+    fillHistoryNumbers(e.id, numbers, mine);
   }
+}
+
+function historyPart(className, text) {
+  const span = document.createElement("span");
+  span.className = className;
+  span.textContent = text;
+  return span;
+}
+
+/** The row's estimated T2 and margin, read from the recorded answer (the list carries neither). */
+async function fillHistoryNumbers(id, target, mine) {
+  const outcome = await call("GET", `/v1/evaluations/${encodeURIComponent(id)}`);
+  if (mine !== historyRequest) {
+    return;
+  }
+
+  if (outcome.kind !== "ok" || !outcome.body.response) {
+    target.textContent = "figures not available";
+    return;
+  }
+
+  const answer = outcome.body.response;
+  const stages = answer.stages || [];
+  const ref = answer.governing;
+  const stage = ref && stages[ref.stage] ? stages[ref.stage] : stages[0];
+  const t2 = stage && stage.dischargeTemperature ? stage.dischargeTemperature.estimated : null;
+  const margin = ref ? ref.margin : stage && stage.governing ? stage.governing.margin : null;
+  const show = (quantity) => `${Math.abs(quantity.value) >= 100 ? quantity.value.toFixed(0) : quantity.value.toFixed(1)} ${quantity.unit}`;
+  target.dataset.t2 = t2 ? String(t2.value) : "";
+  target.textContent = `T2 ${t2 ? show(t2) : "—"}, margin ${margin ? `${show(margin)}${margin.value < 0 ? " (beyond)" : ""}` : "—"}`;
+}
+
+/** Shows a recorded evaluation (/?evaluation={id}) exactly as it was answered, answer first. */
+async function openRecorded(id) {
+  const body = $("#result-body");
+  body.replaceChildren();
+  clearFieldErrors();
+  setStatus("Opening the recorded evaluation… no verdict yet.");
+  const outcome = await call("GET", `/v1/evaluations/${encodeURIComponent(id)}`);
+  body.replaceChildren();
+  if (outcome.kind === "ok" && outcome.body.response) {
+    renderEvaluation(outcome.body.response, body);
+    showAnswered(outcome.body.response, "Recorded verdict");
+    if (!$("#asset").value && outcome.body.asset) {
+      $("#asset").value = outcome.body.asset;
+      loadHistory();
+    }
+  } else {
+    const reason = outcome.kind === "unreachable" ? outcome.reason
+      : outcome.status === 404 ? `No evaluation ${id} is recorded that this key may read.` : describeProblem(outcome);
+    renderNoVerdict(reason, body);
+    setStatus(`No verdict. ${reason}`);
+  }
+}
+
+/** After an answer: the status announced, and the first screen shown from the top (header, caution, verdict, answer). */
+function showAnswered(answer, lead) {
+  const stages = answer.stages.length;
+  setStatus(`${lead}: ${String(answer.verdict).toUpperCase()} for ${answer.asset || "the machine"}, ${stages} stage${stages === 1 ? "" : "s"}. Evaluation id ${answer.id}.`);
+  $("#result-status").classList.add("answered");
+  window.scrollTo({ top: 0, left: 0, behavior: "instant" });
+  $("#result-heading").focus({ preventScroll: true });
 }
 
 // ---- Evaluate --------------------------------------------------------------------------------------------------------
@@ -319,10 +393,9 @@ async function evaluate(event) {
     body.replaceChildren();
     if (outcome.kind === "ok") {
       renderEvaluation(outcome.body, body);
-      const stages = outcome.body.stages.length;
-      setStatus(`Verdict: ${String(outcome.body.verdict).toUpperCase()} for ${outcome.body.asset || "the machine"}, ${stages} stage${stages === 1 ? "" : "s"}. Evaluation id ${outcome.body.id}.`);
+      showAnswered(outcome.body, "Verdict");
       rememberSite();
-      $("#result-heading").focus();
+      history.replaceState(null, "", `?evaluation=${encodeURIComponent(outcome.body.id)}`);
       loadHistory();
     } else if (outcome.kind === "problem" && outcome.body && outcome.body.errors && (outcome.status === 400 || outcome.status === 422)) {
       const count = showFieldErrors(outcome.body.errors);
@@ -353,10 +426,11 @@ async function start() {
   wireKey();
   restoreSite();
   wireGas();
+  fillPageTemperatureUnits();
   addStage();
   $("#add-stage").addEventListener("click", () => {
     const stage = addStage();
-    stage.querySelector("input").focus();
+    stage.querySelector('[data-id="suction-pressure"]').focus();
   });
   $("#remove-stage").addEventListener("click", () => {
     removeLastStage();
@@ -370,8 +444,10 @@ async function start() {
     loadHistory();
   });
   $("#evaluate-form").addEventListener("submit", evaluate);
+  wireFlow();
   fillGasSelect();
-  await Promise.all([loadGases(), loadCatalogues()]);
+  const recorded = new URLSearchParams(location.search).get("evaluation");
+  await Promise.all([loadGases(), loadCatalogues(), recorded ? openRecorded(recorded) : Promise.resolve()]);
   document.body.dataset.ready = "true";
 }
 

@@ -14,7 +14,7 @@ export const TEMPERATURE_UNITS = ["°C", "°F"];
 
 const $ = (selector, root = document) => root.querySelector(selector);
 
-let catalogues = { compressorTypes: [], lubricants: [], valveMaterials: [], sealMaterials: [] };
+let catalogues = { compressorTypes: [], lubricants: [], valveMaterials: [], sealMaterials: [], ringMaterials: [], springMaterials: [], dischargeMaterials: [] };
 let preferredPressureUnit = "barg";
 let preferredTemperatureUnit = "°C";
 
@@ -25,6 +25,10 @@ export function setCatalogues(next) {
     lubricants: next.lubricants || [],
     valveMaterials: next.valveMaterials || [],
     sealMaterials: next.sealMaterials || [],
+    ringMaterials: next.ringMaterials || [],
+    springMaterials: next.springMaterials || [],
+    // The discharge-side materials are a fixed vocabulary of ids (no titles).
+    dischargeMaterials: (next.dischargeMaterials || []).map((id) => ({ id })),
   };
   for (const stage of stageElements()) {
     fillCatalogueSelects(stage);
@@ -47,11 +51,29 @@ function fillCatalogueSelects(stage) {
   for (const select of stage.querySelectorAll("select.catalogue")) {
     const kept = select.value;
     const entries = catalogues[select.dataset.catalogue] || [];
-    select.replaceChildren(option("", "Not given"), ...entries.map((e) => option(e.id, e.title ? `${e.title} (${e.id})` : e.id)));
+    select.replaceChildren(option("", "Not given"), ...entries.map((e) => option(e.id, catalogueText(e))));
     if (entries.some((e) => e.id === kept)) {
       select.value = kept;
     }
   }
+}
+
+/**
+ * An option's text. A lubricant shows its class and rated discharge temperature first ("VDL · 220 °C · Mineral …"), so
+ * the choice that decides the limit stays visible in a closed select on a phone; a material its continuous limit.
+ */
+export function catalogueText(entry) {
+  if (entry.class || entry.ratedMaxDischarge) {
+    const cls = entry.class ? entry.class.split(" ").at(-1) : "no class";
+    const rated = entry.ratedMaxDischarge ? `${entry.ratedMaxDischarge.value} ${entry.ratedMaxDischarge.unit}` : "no rating";
+    return `${cls} · ${rated} · ${entry.title} (${entry.id})`;
+  }
+
+  if (entry.continuousLimit) {
+    return `${entry.title} · ${entry.continuousLimit.value} ${entry.continuousLimit.unit} (${entry.id})`;
+  }
+
+  return entry.title ? `${entry.title} (${entry.id})` : entry.id;
 }
 
 function updateBasis(select) {
@@ -126,10 +148,17 @@ export function addStage() {
   const efficiency = stage.querySelector('[data-id="efficiency"]');
   efficiency.setAttribute("aria-describedby", hint.id);
 
+  if (index === 0) {
+    // The first stage has no intercooler before it.
+    for (const later of stage.querySelectorAll("[data-later-only]")) {
+      later.remove();
+    }
+  }
+
   const previous = stageElements().at(-1);
   fillCatalogueSelects(stage);
   if (previous) {
-    for (const id of ["compressor-type", "lubricant", "valve-material", "seal-material"]) {
+    for (const id of ["compressor-type", "lubricant", "valve-material", "seal-material", "ring-material", "spring-material", "discharge-material"]) {
       stage.querySelector(`[data-id="${id}"]`).value = previous.querySelector(`[data-id="${id}"]`).value;
     }
   }
@@ -197,6 +226,42 @@ export function parseComposition(source) {
   return composition;
 }
 
+/** Relative humidity (typed in %, sent as the contract's fraction) or a water dew point; neither for a dry gas. */
+function humidity() {
+  const rh = text($("#relative-humidity"));
+  return {
+    relativeHumidity: rh === "" ? undefined : Number(rh) / 100,
+    dewPoint: quantity($("#dew-point"), $("#dew-point-unit")),
+  };
+}
+
+/** The first stage's flow: a mass flow, or a standard volume flow with its reference conditions. */
+function flow() {
+  const value = text($("#flow"));
+  if (value === "") {
+    return undefined;
+  }
+
+  const [kind, unit] = $("#flow-unit").value.split(":");
+  return kind === "mass" ? { mass: `${value} ${unit}` } : { standardVolume: `${value} ${unit}`, reference: $("#flow-reference").value };
+}
+
+/** Shows the reference conditions only for a standard volume flow. */
+export function wireFlow() {
+  const show = () => {
+    $("#flow-reference-field").hidden = !$("#flow-unit").value.startsWith("standard:");
+  };
+  $("#flow-unit").addEventListener("change", show);
+  show();
+}
+
+/** Fills the page-level temperature unit selects (outside the stages). */
+export function fillPageTemperatureUnits() {
+  for (const select of document.querySelectorAll("#evaluate-form > fieldset select.temperature-unit")) {
+    select.replaceChildren(...TEMPERATURE_UNITS.map((u) => option(u, u)));
+  }
+}
+
 /** The request body, as the contract (EvaluationRequest) spells it; quantities are "<number> <unit>" strings. */
 export function buildRequest(gas) {
   const siteBasis = document.querySelector('input[name="site-basis"]:checked').value;
@@ -208,25 +273,60 @@ export function buildRequest(gas) {
       barometricPressure: siteBasis === "barometric" ? quantity($("#site-barometric"), $("#site-barometric-unit")) : undefined,
     },
     service: $("#service").value || undefined,
-    gas,
+    gas: gas ? { ...gas, ...humidity() } : gas,
+    flow: flow(),
     outputUnits: $("#output-units").value,
     method: $("#method") ? $("#method").value || undefined : undefined,
+    // PENDING CONTRACT (issue 22): `scenarios` is being added to EvaluationRequest by another change; send it here
+    // (scenarios: readScenarios()) once the contract has it. The form's place for it is #scenarios-pending.
     stages: stageElements().map((stage) => {
       const get = (id) => stage.querySelector(`[data-id="${id}"]`);
+      const has = (id) => get(id) !== null;
       const efficiencyValue = text(get("efficiency"));
+      const uncertaintyValue = text(get("uncertainty"));
       const unloaded = get("unloaded").value;
+      const cooled = has("ic-outlet") && (text(get("ic-outlet")) !== "" || text(get("ic-approach")) !== "");
       return prune({
-        suction: {
+        // An intercooler with an outlet temperature or an approach gives this stage's suction; it is not sent twice.
+        intercooler: has("ic-outlet") ? {
+          outletTemperature: quantity(get("ic-outlet"), get("ic-outlet-unit")),
+          approach: text(get("ic-approach")) === "" ? undefined : `${text(get("ic-approach"))} K`,
+          coolantTemperature: quantity(get("ic-coolant"), get("ic-coolant-unit")),
+          pressureDrop: quantity(get("ic-drop"), get("ic-drop-unit")),
+        } : undefined,
+        suction: cooled ? undefined : {
           pressure: quantity(get("suction-pressure"), get("suction-pressure-unit")),
           temperature: quantity(get("suction-temperature"), get("suction-temperature-unit")),
         },
         discharge: { pressure: quantity(get("discharge-pressure"), get("discharge-pressure-unit")) },
-        efficiency: efficiencyValue === "" ? undefined : { [get("efficiency-kind").value]: Number(efficiencyValue) },
+        efficiency: efficiencyValue === "" && uncertaintyValue === "" ? undefined : {
+          [get("efficiency-kind").value]: efficiencyValue === "" ? undefined : Number(efficiencyValue),
+          uncertainty: uncertaintyValue === "" ? undefined : Number(uncertaintyValue),
+        },
         equipment: {
           compressorType: get("compressor-type").value || undefined,
           lubricant: get("lubricant").value || undefined,
           valveMaterial: get("valve-material").value || undefined,
           sealMaterial: get("seal-material").value || undefined,
+          ringMaterial: get("ring-material").value || undefined,
+          springMaterial: get("spring-material").value || undefined,
+          dischargeMaterial: get("discharge-material").value || undefined,
+          designTemperature: quantity(get("design-temperature"), get("design-temperature-unit")),
+        },
+        // PENDING CONTRACT (issue 22): `fedDirectly` is being added to StageInput by another change; send it here once
+        // the contract has it. The form's place for it is the [data-pending-contract="fedDirectly"] element.
+        calibration: {
+          suction: {
+            pressure: quantity(get("cal-suction-pressure"), get("cal-suction-pressure-unit")),
+            temperature: quantity(get("cal-suction-temperature"), get("cal-suction-temperature-unit")),
+          },
+          discharge: { pressure: quantity(get("cal-discharge-pressure"), get("cal-discharge-pressure-unit")) },
+          measuredDischargeTemperature: quantity(get("cal-measured"), get("cal-measured-unit")),
+        },
+        oilInjection: {
+          flow: quantity(get("oil-flow"), get("oil-flow-unit")),
+          inletTemperature: quantity(get("oil-temperature"), get("oil-temperature-unit")),
+          shaftPower: text(get("shaft-power")) === "" ? undefined : `${text(get("shaft-power"))} kW`,
         },
         operation: {
           normalDischargeTemperature: quantity(get("normal"), get("normal-unit")),

@@ -68,7 +68,8 @@ export function verdictBanner(kind, detail) {
     h("div", {}, h("span", { class: "word" }, v.word), h("span", { class: "meaning" }, detail || v.meaning)));
 }
 
-const q = (quantity) => (quantity ? `${formatNumber(quantity.value)} ${quantity.unit}` : "—");
+// A ratio's unit is "1": the number alone reads as what it is.
+const q = (quantity) => (quantity ? (quantity.unit === "1" ? formatNumber(quantity.value) : `${formatNumber(quantity.value)} ${quantity.unit}`) : "—");
 
 function formatNumber(value) {
   if (typeof value !== "number") {
@@ -100,11 +101,14 @@ function governingBlock(stage) {
   const margin = governing.margin;
   const beyond = margin && margin.value < 0;
   const envelope = stage.envelope;
+  const title = ((stage.findings || []).find((f) => f.ruleId === governing.ruleId) || {}).title;
   return h("div", { class: "governing", "data-rule": governing.ruleId },
-    h("p", {}, h("strong", {}, "Governing limit: "), `${governing.ruleId}, ${q(governing.limit)} on the ${governing.quantity} temperature`),
+    h("p", {}, h("strong", {}, "Governing limit: "), `${governing.ruleId}${title ? ` (${title})` : ""}, ${q(governing.limit)} on the ${governing.quantity} temperature`),
     h("p", {}, h("strong", {}, "Margin: "), margin ? `${q(margin)} ${beyond ? "beyond the limit" : "below the limit"}` : "not available"),
     envelope && envelope.maxDischargePressure
-      ? h("p", {}, h("strong", {}, "Highest discharge pressure before it: "), `${q(envelope.maxDischargePressure)} absolute`)
+      ? h("p", {}, h("strong", {}, "Highest discharge pressure before it: "), envelope.maxDischargePressureAsTyped
+        ? `${q(envelope.maxDischargePressureAsTyped)} (${q(envelope.maxDischargePressure)} absolute)`
+        : `${q(envelope.maxDischargePressure)} absolute`)
       : null,
     envelope && envelope.maxSuctionTemperature
       ? h("p", {}, h("strong", {}, "Highest suction temperature before it: "), q(envelope.maxSuctionTemperature))
@@ -134,7 +138,7 @@ function findingItem(finding) {
   }
 
   // The rule's message describes the problem it guards against; it is shown when the rule is not met.
-  if (severity !== "pass") {
+  if (severity !== "pass" && finding.message) {
     item.append(h("p", {}, finding.message));
   }
 
@@ -147,7 +151,9 @@ function findingItem(finding) {
     item.append(h("p", {}, `Proposed alarm ${q(s.alarm)}, trip ${q(s.trip)} (normal ${q(s.normal)})${s.cappedBy ? `, capped by ${s.cappedBy}` : ""}.`));
   }
 
-  item.append(h("p", { class: "finding-basis" }, h("strong", {}, "Basis: "), finding.basis, ` (layer ${finding.layer})`));
+  // A compact answer (a record made without ?detail=full) leaves the basis to the archived rule set of its digest.
+  item.append(h("p", { class: "finding-basis" }, h("strong", {}, "Basis: "), finding.basis || "in the archived rule set of this answer's digest (see the report)",
+    ` (layer ${finding.layer || "default"})`));
   if (finding.loosenedReason) {
     item.append(h("p", { class: "finding-basis" }, h("strong", {}, "Loosened by the layer because: "), finding.loosenedReason));
   }
@@ -249,7 +255,12 @@ function phaseRows(phase) {
   return rows;
 }
 
-function stageSection(stage, count) {
+/** A pressure as typed (barg stays barg) with the absolute beside it; the absolute alone when the answer has no typed form. */
+function typed(state) {
+  return state.pressureAsTyped ? `${q(state.pressureAsTyped)} (${q(state.pressureAbsolute)} absolute)` : `${q(state.pressureAbsolute)} absolute`;
+}
+
+function stageSection(stage, count, chartWidth) {
   const dt = stage.dischargeTemperature;
   const title = count > 1 ? `Stage ${stage.index + 1}` : "The stage";
   const section = h("section", { class: "stage-result", "data-stage": stage.index, "aria-label": title });
@@ -274,9 +285,9 @@ function stageSection(stage, count) {
       row("Isentropic discharge temperature (η = 1)", q(dt.isentropic), { "data-value": "isentropic" }),
       row("Estimated discharge temperature", q(dt.estimated), { "data-value": "estimated" }),
       row("Range of the estimate (efficiency uncertainty)", `${q(dt.estimatedLowerBound)} to ${q(dt.estimatedUpperBound)}`),
-      row(`Constant-k estimate (k = ${formatNumber(dt.constantK.k)})`, q(dt.constantK.estimated), { "data-value": "constant-k" }),
-      row("Suction (absolute)", `${q(stage.suction.pressureAbsolute)}, ${q(stage.suction.temperature)}`),
-      row("Discharge pressure (absolute)", q(stage.discharge.pressureAbsolute)),
+      dt.constantK ? row(`Constant-k estimate (k = ${formatNumber(dt.constantK.k)})`, q(dt.constantK.estimated), { "data-value": "constant-k" }) : null,
+      row("Suction", `${typed(stage.suction)}, ${q(stage.suction.temperature)}`),
+      row("Discharge pressure", typed(stage.discharge)),
       row("Pressure ratio", formatNumber(stage.pressureRatio)),
       row("Efficiency used", efficiencyWords, { "data-value": "efficiency" }),
       row("Gas model of these temperatures", MODEL_WORDS[stage.method] || stage.method, { "data-value": "method" }),
@@ -285,7 +296,7 @@ function stageSection(stage, count) {
   }
 
   section.append(governingBlock(stage));
-  const chart = drawStageChart(stage);
+  const chart = drawStageChart(stage, chartWidth);
   if (chart) {
     section.append(chart);
   }
@@ -311,22 +322,78 @@ function stageSection(stage, count) {
   return section;
 }
 
-/** Fills the result body with a whole answer. */
+/**
+ * The answer first: what a technician needs at the machine, on the first screen of a phone. The governing limit in
+ * words with its limit and margin, the estimated discharge temperature and the highest allowed discharge pressure in
+ * the basis typed (barg stays barg), and the way to the printable record. Everything is the answer's own figures.
+ */
+function answerFirst(body) {
+  const stages = body.stages || [];
+  const ref = body.governing;
+  const stage = ref && stages[ref.stage] ? stages[ref.stage] : stages[0];
+  const where = stages.length > 1 && stage ? ` (stage ${stage.index + 1})` : "";
+  const lines = h("dl", { class: "answer-lines" });
+  const add = (term, value, key) => lines.append(h("div", { class: "answer-line", "data-answer": key }, h("dt", {}, term), h("dd", {}, value)));
+  const governing = stage && stage.governing && ref && stage.governing.ruleId === ref.ruleId ? stage.governing : null;
+  if (governing) {
+    const title = ((stage.findings || []).find((f) => f.ruleId === governing.ruleId) || {}).title || governing.ruleId;
+    const margin = ref.margin || governing.margin;
+    add(`Governing limit${where}`, `${title} (${governing.ruleId})`, "governing");
+    add("Limit and margin", margin
+      ? `${q(governing.limit)}; ${q({ value: Math.abs(margin.value), unit: margin.unit })} ${margin.value < 0 ? "beyond the limit" : "below it"}`
+      : q(governing.limit), "margin");
+  } else {
+    add("Governing limit", stage && stage.notEvaluated ? "none: the stage was not evaluated" : "none: no violation-level limit applied", "governing");
+  }
+
+  add(`Estimated discharge temperature${where}`, stage && stage.dischargeTemperature ? q(stage.dischargeTemperature.estimated) : "not evaluated", "estimated");
+  const envelope = stage && stage.envelope;
+  add("Highest allowed discharge pressure", envelope && (envelope.maxDischargePressureAsTyped || envelope.maxDischargePressure)
+    ? (envelope.maxDischargePressureAsTyped ? q(envelope.maxDischargePressureAsTyped) : `${q(envelope.maxDischargePressure)} absolute`)
+    : "not found (see the stage below)", "max-pressure");
+  const section = h("section", { class: "answer-first", "aria-label": "The answer", "data-evaluation": body.id || "" }, lines);
+  if (body.id) {
+    section.append(h("p", { class: "report-link-row" },
+      h("a", { class: "button report-link", href: `report.html?evaluation=${encodeURIComponent(body.id)}` }, "Open the change record (print or PDF)")));
+  }
+
+  return section;
+}
+
+/** Fills the result body with a whole answer: the answer first, then the details of every stage, the record and the cautions. */
 export function renderEvaluation(body, container) {
   const stages = body.stages || [];
+  // Charts are drawn at the width they are shown at, so their text is as large on a phone as on a tablet.
+  const chartWidth = Math.max(300, container.clientWidth - 4);
   container.append(verdictBanner(body.verdict));
-  container.append(h("h3", {}, "Cautions"));
-  container.append(h("ul", { class: "cautions" }, ...(body.cautions || []).map((c) => h("li", {}, c))));
+  container.append(answerFirst(body));
+  container.append(h("h3", { class: "details-heading" }, "Details"));
   for (const stage of stages) {
-    container.append(stageSection(stage, stages.length));
+    container.append(stageSection(stage, stages.length, chartWidth));
   }
 
   container.append(rulesApplied(body.ruleSet || {}));
   container.append(h("h3", {}, "Record"));
   container.append(h("p", {}, h("strong", {}, "Evaluation id: "), h("span", { class: "evaluation-id", "data-id": body.id }, body.id)));
-  container.append(h("p", {}, `Evaluated ${body.evaluatedAt} for ${body.asset || "no asset"}${body.site ? ` at ${body.site}` : ""}; `
-    + `rule set ${String(body.ruleSet && body.ruleSet.digest).slice(0, 12)}… (${(body.ruleSet.layers || []).map((l) => l.name).join(", ")}); `
+  container.append(h("p", {}, `Evaluated ${localTime(body.evaluatedAt)} for ${body.asset || "no asset"}${body.site ? ` at ${body.site}` : ""}; `
+    + `rule set ${String(body.ruleSet && body.ruleSet.digest).slice(0, 12)}… (${((body.ruleSet && body.ruleSet.layers) || []).map((l) => l.name).join(", ")}); `
     + `method ${body.method}.`));
+  container.append(h("h3", {}, "Cautions"));
+  container.append(h("ul", { class: "cautions" }, ...(body.cautions || []).map((c) => h("li", {}, c))));
+}
+
+/** A time from the service (UTC) in the device's local time, with its offset named. */
+export function localTime(iso) {
+  const date = new Date(iso);
+  if (Number.isNaN(date.getTime())) {
+    return String(iso);
+  }
+
+  const pad = (n) => String(n).padStart(2, "0");
+  const offset = -date.getTimezoneOffset();
+  const sign = offset >= 0 ? "+" : "−";
+  const zone = `UTC${sign}${pad(Math.floor(Math.abs(offset) / 60))}:${pad(Math.abs(offset) % 60)}`;
+  return `${date.getFullYear()}-${pad(date.getMonth() + 1)}-${pad(date.getDate())} ${pad(date.getHours())}:${pad(date.getMinutes())} (${zone})`;
 }
 
 /** Which rule layers decided this answer, plainly, with any site or asset that has no layer of its own. */
