@@ -45,7 +45,7 @@ public static class ReportApi
         // A record outside the key's scope answers as missing, exactly as the record itself does.
         if (record is null || !keys.ScopeOf(user).MayRead(record))
         {
-            return Problems.Missing($"No evaluation with id {id} is recorded.");
+            return Problems.AsResult(Problems.Missing($"No evaluation with id {id} is recorded."));
         }
 
         var html = EvaluationReport.Write(record);
