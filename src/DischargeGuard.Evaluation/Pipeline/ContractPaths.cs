@@ -67,8 +67,11 @@ public static class ContractPaths
         var prefix = member[..dot];
         var index = int.Parse(member.AsSpan(7, prefix.Length - 8), CultureInfo.InvariantCulture);
         var cooler = index < stages.Count ? stages[index].Intercooler : null;
+        var direct = index < stages.Count && stages[index].FedDirectly == true;
         var field = member[(dot + 1)..] switch
         {
+            "SuctionTemperature" when direct => "fedDirectly",
+            "SuctionPressure" or "Intercooler.PressureDrop" when direct => cooler?.PressureDrop is not null ? "intercooler.pressureDrop" : "fedDirectly",
             "DischargePressure" => "discharge.pressure",
             "SuctionPressure" => cooler is not null ? "intercooler.pressureDrop" : "suction.pressure",
             "SuctionTemperature" => cooler is null ? "suction.temperature" : cooler.OutletTemperature is null ? "intercooler.coolantTemperature" : "intercooler.outletTemperature",
