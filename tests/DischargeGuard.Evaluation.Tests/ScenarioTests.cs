@@ -226,7 +226,7 @@ public sealed class ScenarioTests
     [Fact]
     public void TrainEnvelope_WhenStatedSplitHeld_TheLargerRatioStageGoverns()
     {
-        var response = Evaluate(ArgonTrain(Argon("100 kPa(a)", "200 kPa(a)"), Argon(null, "900 kPa(a)")));
+        var response = Evaluate(ArgonTrain(Argon("100 kPa(a)", "200 kPa(a)"), Argon(null, "900 kPa(a)")) with { TrainEnvelopeSplit = "stated" });
 
         // Hand calculation: shares w = ln 2/ln 9 and ln 4.5/ln 9 of the overall ratio R are held; the second stage
         // (ratio 4.5) reaches r_max first, at R = r_max^(ln 9/ln 4.5), so the final discharge is 100 kPa · R.
@@ -256,6 +256,12 @@ public sealed class ScenarioTests
         Assert.Equal("warning", f.Severity);
         AssertEx.Within(expected, f.Uncertainty!.WidenedBy.Value, 0.01, "widening");
         Assert.Contains(Cautions.ModelUncertainty, response.Cautions);
+    }
+
+    [Fact]
+    public void TrainEnvelope_WhenNotAskedFor_IsAbsent()
+    {
+        Assert.Null(Evaluate(ArgonTrain(Argon("100 kPa(a)", "200 kPa(a)"))).TrainEnvelope);
     }
 
     [Fact]

@@ -38,9 +38,10 @@ public sealed record EvaluationRequest
     public IReadOnlyList<ScenarioInput>? Scenarios { get; init; }
 
     /// <summary>
-    /// How the train's envelope redistributes the interstage pressures as the final discharge pressure rises or the
-    /// suction pressure falls: <c>stated</c> (default: each stage keeps its share of the overall pressure ratio, in
-    /// logarithms) or <c>equal</c> (every stage at the same ratio).
+    /// Asks for the train's envelope (<c>trainEnvelope</c> in the answer) and says how it redistributes the interstage
+    /// pressures as the final discharge pressure rises or the suction pressure falls: <c>stated</c> (each stage keeps its
+    /// share of the overall pressure ratio, in logarithms) or <c>equal</c> (every stage at the same ratio). Absent: no
+    /// train envelope (it evaluates some thirty to forty trial trains).
     /// </summary>
     public string? TrainEnvelopeSplit { get; init; }
 }

@@ -61,8 +61,8 @@ public sealed record EvaluationResponse
 
     /// <summary>
     /// The whole train's envelope (base case): the highest final discharge pressure and the lowest first-stage suction
-    /// pressure before a governing limit anywhere in the train, the interstage pressures redistributed. Each stage's own
-    /// <c>envelope</c> moves that stage alone, the other stages held fixed.
+    /// pressure before a governing limit anywhere in the train, the interstage pressures redistributed; given when the
+    /// request states <c>trainEnvelopeSplit</c>. Each stage's own <c>envelope</c> moves that stage alone, the other stages held fixed.
     /// </summary>
     public TrainEnvelopeDto? TrainEnvelope { get; init; }
 }
