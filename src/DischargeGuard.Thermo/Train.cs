@@ -64,8 +64,17 @@ public readonly record struct Intercooler
     /// <summary>The pressure drop.</summary>
     public PressureDrop PressureDrop { get; }
 
-    /// <summary>The gas outlet temperature, K.</summary>
+    /// <summary>The gas outlet temperature, K; NaN for a bypassed cooler (the gas leaves as it came).</summary>
     public double GasOutletKelvin => double.IsNaN(OutletKelvin) ? CoolantKelvin + ApproachKelvin : OutletKelvin;
+
+    /// <summary>True for a cooler that is bypassed or out of service: the gas keeps its temperature and takes only the pressure drop.</summary>
+    public bool IsBypassed => double.IsNaN(OutletKelvin) && double.IsNaN(CoolantKelvin);
+
+    /// <summary>
+    /// A cooler bypassed or out of service (cooling water failed): the next stage is fed directly at the previous stage's
+    /// discharge temperature, less the pressure drop the gas still takes through the cooler and its separator.
+    /// </summary>
+    public static Intercooler Bypassed(PressureDrop drop) => new(double.NaN, double.NaN, double.NaN, drop);
 
     /// <summary>A cooler with a fixed gas outlet temperature.</summary>
     public static Intercooler ToOutlet(Temperature outlet, PressureDrop drop) => new(outlet.Kelvins, double.NaN, double.NaN, drop);
@@ -159,7 +168,7 @@ public static class TrainSolver
                 }
 
                 p1 = cooler.PressureDrop.Downstream(previousDischarge);
-                t1 = cooler.GasOutletKelvin;
+                t1 = cooler.IsBypassed ? previousDischargeKelvin : cooler.GasOutletKelvin;
                 if (!(p1 > 0))
                 {
                     throw ThermoErrors.OutOfRange(i, "Intercooler.PressureDrop", p1, "The cooler's pressure drop leaves no positive suction pressure.");

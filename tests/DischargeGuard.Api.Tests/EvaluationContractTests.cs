@@ -55,7 +55,7 @@ public sealed class EvaluationContractTests(ServiceFactory factory) : IClassFixt
         AssertEx.Near(0.80, stage.At("efficiency.isentropic").GetDouble(), 1e-12, "ηs");
         Assert.InRange(stage.At("efficiency.polytropic").GetDouble(), 0.80, 0.90);
         Assert.Equal("isentropic", stage.At("efficiency.given").GetString());
-        AssertEx.Near(0.03, stage.At("efficiency.uncertainty").GetDouble(), 1e-12, "uncertainty");
+        AssertEx.Near(0.01, stage.At("efficiency.uncertainty").GetDouble(), 1e-12, "uncertainty");
         Assert.Equal("request", stage.At("efficiency.source").GetString());
 
         var t2s = AssertEx.Quantity(stage.At("dischargeTemperature.isentropic"), "°C");

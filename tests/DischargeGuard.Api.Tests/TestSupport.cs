@@ -135,7 +135,7 @@ internal static class Requests
         {
           "suction": {"pressure": "100 kPa(a)", "temperature": "35 °C"},
           "discharge": {"pressure": "230 kPa(a)"},
-          "efficiency": {"isentropic": 0.80, "uncertainty": 0.03},
+          "efficiency": {"isentropic": 0.80, "uncertainty": 0.01},
           "equipment": {"compressorType": "recip-lubricated", "lubricant": "mineral-vdl", "valveMaterial": "peek", "sealMaterial": "fkm"},
           "operation": {"normalDischargeTemperature": "128 °C", "coolantInletTemperature": "45 °C", "unloadedRunning": false},
           "measured": {"dischargeTemperature": "132 °C"}

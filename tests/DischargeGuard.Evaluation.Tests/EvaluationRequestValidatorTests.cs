@@ -149,7 +149,7 @@ public sealed class EvaluationRequestValidatorTests
     [Fact]
     public void Validate_WhenLaterStageHasNeitherIntercoolerNorSuction_Refuses()
     {
-        AssertRefused(AirRequest(First, CooledStage() with { Intercooler = null }), "stages[1]", "either an intercooler", "or its own suction");
+        AssertRefused(AirRequest(First, CooledStage() with { Intercooler = null }), "stages[1]", "either an intercooler", "its own suction", "fedDirectly");
     }
 
     [Fact]

@@ -34,7 +34,13 @@ internal static class OpenApiSetup
           "efficiency": {"isentropic": 0.80},
           "equipment": {"compressorType": "recip-lubricated", "lubricant": "mineral-vdl", "valveMaterial": "peek", "sealMaterial": "fkm"}
         }
-      ]
+      ],
+      "scenarios": [
+        {"name": "hot-day", "hotDay": {"suctionTemperatureRise": "10 K", "coolantTemperatureRise": "5 K"}},
+        {"name": "cooling-water-failure", "coolingWaterFailure": {"stages": [1]}},
+        {"name": "recycle-20", "recycle": {"fraction": 0.2, "cooledTo": "45 °C"}}
+      ],
+      "trainEnvelopeSplit": "stated"
     }
     """;
 

@@ -61,6 +61,8 @@ internal static class OpenApiVocabularies
 
     public static readonly Vocabulary EnvelopeStatus = new("EnvelopeStatus", "Whether the limit bounds the envelope: found, already-exceeded at the stated duty, or not-reachable-in-range.", ["found", "already-exceeded", "not-reachable-in-range"]);
 
+    public static readonly Vocabulary TrainEnvelopeSplit = new("TrainEnvelopeSplit", "How the train's envelope redistributes the interstage pressures: stated (each stage keeps its share of the overall pressure ratio, in logarithms) or equal (equal stage ratios).", ContractValues.TrainEnvelopeSplits);
+
     public static readonly Vocabulary LimitDirection = new("LimitDirection", "Which side of the limit is safe: upper (stay at or below) or lower (stay at or above).", Lower<Rules.Model.LimitDirection>());
 
     public static readonly Vocabulary CheckedQuantity = new("CheckedQuantity", "The quantity a rule checks (the rule file's quantity names; a rule file cannot add others).", CheckedQuantityNames.All);
@@ -78,13 +80,16 @@ internal static class OpenApiVocabularies
     [
         AnswerDetail, Verdict, Severity, MethodChoice, GasModel, EvaluationMethod, OutputUnits, Service, CompositionBasis, StandardReference, Phase,
         EfficiencyGiven, EfficiencyKind, ValueSource, CalibrationKind, EnvelopeStatus, LimitDirection, CheckedQuantity, StagePosition,
-        ServiceDetection, RuleFileErrorKind,
+        ServiceDetection, RuleFileErrorKind, TrainEnvelopeSplit,
     ];
 
     /// <summary>The vocabulary of the JSON property <paramref name="property"/> of <paramref name="owner"/>, or null.</summary>
     public static Vocabulary? For(Type owner, string property) => (owner.Name, property) switch
     {
-        (_, "verdict") => Verdict,
+        (_, "verdict" or "baseVerdict") => Verdict,
+        (nameof(EvaluationRequest), "trainEnvelopeSplit") => TrainEnvelopeSplit,
+        (nameof(TrainEnvelopeDto), "split") => TrainEnvelopeSplit,
+        (nameof(TrainBoundDto), "status") => EnvelopeStatus,
         (_, "severity") => Severity,
         (nameof(EvaluationRequest), "method") => MethodChoice,
         (nameof(EvaluationResponse), "method") => EvaluationMethod,

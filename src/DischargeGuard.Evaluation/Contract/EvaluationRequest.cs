@@ -29,6 +29,84 @@ public sealed record EvaluationRequest
 
     /// <summary>The stages in flow order.</summary>
     public IReadOnlyList<StageInput>? Stages { get; init; }
+
+    /// <summary>
+    /// Other cases of the same train, evaluated in the same call on the same rules, each with its own verdict, governing
+    /// rule and margin: a hot day, a fouled cooler, a cooling-water failure, recycle, or an override of any input. The
+    /// answer's verdict and governing limit are the worst of the base case and its scenarios.
+    /// </summary>
+    public IReadOnlyList<ScenarioInput>? Scenarios { get; init; }
+
+    /// <summary>
+    /// Asks for the train's envelope (<c>trainEnvelope</c> in the answer) and says how it redistributes the interstage
+    /// pressures as the final discharge pressure rises or the suction pressure falls: <c>stated</c> (each stage keeps its
+    /// share of the overall pressure ratio, in logarithms) or <c>equal</c> (every stage at the same ratio). Absent: no
+    /// train envelope (it evaluates some thirty to forty trial trains).
+    /// </summary>
+    public string? TrainEnvelopeSplit { get; init; }
+}
+
+/// <summary>
+/// One scenario: a name and one or more changes applied to the base case (in this order: override, hot day, fouled cooler,
+/// cooling-water failure, recycle). A scenario is hypothetical: the base case's measured discharge temperatures do not
+/// carry into it (an override may state its own).
+/// </summary>
+public sealed record ScenarioInput
+{
+    /// <summary>The scenario's name, unique in the request (lower-case letters, digits and hyphens), e.g. "hot-day".</summary>
+    public string? Name { get; init; }
+
+    /// <summary>A partial request merged onto the base request (any field but asset, site and scenarios; a stage list merges stage by stage).</summary>
+    public EvaluationRequest? Override { get; init; }
+
+    /// <summary>A hot day: warmer suction and, optionally, warmer cooling water.</summary>
+    public HotDayInput? HotDay { get; init; }
+
+    /// <summary>Fouled intercoolers: a larger approach.</summary>
+    public FouledCoolerInput? FouledCooler { get; init; }
+
+    /// <summary>Cooling water lost to intercoolers: the stages after them are fed directly.</summary>
+    public CoolingWaterFailureInput? CoolingWaterFailure { get; init; }
+
+    /// <summary>A fraction of the final discharge gas returned to the first stage's suction, cooled or not.</summary>
+    public RecycleInput? Recycle { get; init; }
+}
+
+/// <summary>A hot day.</summary>
+public sealed record HotDayInput
+{
+    /// <summary>Rise of the first stage's suction temperature (and of any later stage's own suction temperature), a difference, e.g. "10 K".</summary>
+    public QuantityInput? SuctionTemperatureRise { get; init; }
+
+    /// <summary>Rise of the intercoolers' coolant (their gas outlet rises with it), a difference, e.g. "5 K"; absent: coolers unchanged.</summary>
+    public QuantityInput? CoolantTemperatureRise { get; init; }
+}
+
+/// <summary>Fouled intercoolers.</summary>
+public sealed record FouledCoolerInput
+{
+    /// <summary>The stages whose cooler (before them) is fouled, zero-based; absent: every stage with a cooler.</summary>
+    public IReadOnlyList<int>? Stages { get; init; }
+
+    /// <summary>Rise of the approach (gas outlet over coolant), a difference, e.g. "8 K"; a cooler given by its outlet temperature has that outlet raised by as much.</summary>
+    public QuantityInput? ApproachRise { get; init; }
+}
+
+/// <summary>Cooling water lost to intercoolers.</summary>
+public sealed record CoolingWaterFailureInput
+{
+    /// <summary>The stages whose cooler (before them) has lost its cooling, zero-based; absent: every stage with a cooler.</summary>
+    public IReadOnlyList<int>? Stages { get; init; }
+}
+
+/// <summary>Recycle from the final discharge to the first stage's suction, mixed at the suction pressure.</summary>
+public sealed record RecycleInput
+{
+    /// <summary>The recycled share of the first stage's suction mass flow, in [0, 1).</summary>
+    public double? Fraction { get; init; }
+
+    /// <summary>Temperature of the recycled gas after its cooler; absent: returned uncooled at the final discharge temperature.</summary>
+    public QuantityInput? CooledTo { get; init; }
 }
 
 /// <summary>The site: its id and either its barometric pressure or its elevation.</summary>
@@ -84,6 +162,13 @@ public sealed record StageInput
 
     /// <summary>Intercooler before this stage (later stages only).</summary>
     public IntercoolerInput? Intercooler { get; init; }
+
+    /// <summary>
+    /// A later stage fed directly by the previous stage's discharge, its cooler bypassed or out of service: the suction is
+    /// the previous discharge temperature and pressure, less the intercooler's pressure drop when one is given (the
+    /// cooler's temperatures are then not used). Refused on the first stage.
+    /// </summary>
+    public bool? FedDirectly { get; init; }
 
     /// <summary>Discharge state.</summary>
     public DischargeInput? Discharge { get; init; }

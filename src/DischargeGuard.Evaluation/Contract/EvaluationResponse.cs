@@ -50,9 +50,53 @@ public sealed record EvaluationResponse
     /// <summary>How much the answer carries: <c>compact</c> (the default) or <c>full</c> (<c>?detail=full</c>: each rule's basis, the per-limit envelope, the gas models side by side).</summary>
     public string Detail { get; init; } = "compact";
 
-    /// <summary>Cautions that always apply to this answer.</summary>
+    /// <summary>Cautions that always apply to this answer (and those its scenarios add).</summary>
     public required IReadOnlyList<string> Cautions { get; init; }
+
+    /// <summary>The base case's verdict (its own stages' worst), given when the request named scenarios; <c>verdict</c> is then the worst of base and scenarios.</summary>
+    public string? BaseVerdict { get; init; }
+
+    /// <summary>The scenarios, evaluated on the same rules as the base case, each with its own verdict, governing rule and stages.</summary>
+    public IReadOnlyList<ScenarioDto>? Scenarios { get; init; }
+
+    /// <summary>
+    /// The whole train's envelope (base case): the highest final discharge pressure and the lowest first-stage suction
+    /// pressure before a governing limit anywhere in the train, the interstage pressures redistributed; given when the
+    /// request states <c>trainEnvelopeSplit</c>. Each stage's own <c>envelope</c> moves that stage alone, the other stages held fixed.
+    /// </summary>
+    public TrainEnvelopeDto? TrainEnvelope { get; init; }
 }
+
+/// <summary>One scenario's answer, in the same compact shape as the base case.</summary>
+/// <param name="Name">The scenario's name as requested.</param>
+/// <param name="Changes">What the scenario changed, in words (the recycle's mixed suction temperature included).</param>
+/// <param name="Verdict">pass, review or fail: the scenario's worst stage.</param>
+/// <param name="Method">The gas model its stages rest on.</param>
+/// <param name="Governing">The scenario's governing limit, by reference to its stage.</param>
+/// <param name="Stages">Its stages.</param>
+public sealed record ScenarioDto(string Name, IReadOnlyList<string> Changes, string Verdict, string Method, GoverningSummaryDto? Governing, IReadOnlyList<StageDto> Stages);
+
+/// <summary>The train's envelope.</summary>
+/// <param name="Split">stated (each stage keeps its share of the overall ratio, in logarithms) or equal (equal stage ratios).</param>
+/// <param name="MaxFinalDischargePressure">Highest absolute final discharge pressure before a limit, first-stage suction pressure held.</param>
+/// <param name="MinSuctionPressure">Lowest absolute first-stage suction pressure before a limit, final discharge pressure held.</param>
+public sealed record TrainEnvelopeDto(string Split, TrainBoundDto MaxFinalDischargePressure, TrainBoundDto MinSuctionPressure)
+{
+    /// <summary>What the train's envelope holds while it moves the pressures: <c>temperatures-and-efficiencies</c> (suction and cooler temperatures, efficiencies, gas and rules).</summary>
+    public string HeldFixed { get; init; } = "temperatures-and-efficiencies";
+}
+
+/// <summary>One bound of the train's envelope.</summary>
+/// <param name="Pressure">The absolute pressure at the bound, when found.</param>
+/// <param name="Status">found, already-exceeded (the limit is exceeded even at the nearest end of the range) or not-reachable-in-range.</param>
+/// <param name="Stage">The stage whose limit is reached there.</param>
+/// <param name="RuleId">The rule whose limit is reached there.</param>
+public sealed record TrainBoundDto(QuantityDto? Pressure, string Status, int? Stage, string? RuleId);
+
+/// <summary>A warning band widened for the model's own error.</summary>
+/// <param name="WidenedBy">The widening (K or Δ°F): the equation of state's known error plus, on the estimate, the efficiency's stated uncertainty.</param>
+/// <param name="Note">The widening in words, with its basis.</param>
+public sealed record UncertaintyDto(QuantityDto WidenedBy, string Note);
 
 /// <summary>Digest of the merged rule set and its layers, and plainly which layers applied.</summary>
 /// <param name="Digest">SHA-256 (hex) over the normalised merged content.</param>
@@ -101,7 +145,11 @@ public sealed record LayerDto(string Name, string Digest);
 /// <param name="Stage">Zero-based index of the stage.</param>
 /// <param name="RuleId">The governing rule (its finding is under <c>stages[stage].findings</c>).</param>
 /// <param name="Margin">Its margin (negative when exceeded).</param>
-public sealed record GoverningSummaryDto(int Stage, string RuleId, QuantityDto? Margin);
+public sealed record GoverningSummaryDto(int Stage, string RuleId, QuantityDto? Margin)
+{
+    /// <summary>The scenario that holds the governing stage (under <c>scenarios</c>); absent when the base case governs.</summary>
+    public string? Scenario { get; init; }
+}
 
 /// <summary>The gas as evaluated (after humidity was added).</summary>
 /// <param name="MolarMass">Molar mass.</param>
@@ -404,6 +452,9 @@ public sealed record FindingDto
 
     /// <summary>Proposed alarm and trip set points (set-point rule only).</summary>
     public SetPointsDto? SetPoints { get; init; }
+
+    /// <summary>When the margin is comparable to the model's own error: how far the warning band was widened, and why.</summary>
+    public UncertaintyDto? Uncertainty { get; init; }
 }
 
 /// <summary>Proposed alarm and trip set points.</summary>

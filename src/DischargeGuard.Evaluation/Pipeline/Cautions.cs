@@ -34,4 +34,12 @@ public static class Cautions
     /// <summary>Added when an efficiency came from the rule file's compressor-type default.</summary>
     public const string DefaultEfficiency =
         "At least one stage used the compressor type's default efficiency from the rule file; a measured or vendor efficiency gives a better estimate.";
+
+    /// <summary>Added when a finding's warning band was widened for the model's own error.</summary>
+    public const string ModelUncertainty =
+        "At least one margin is comparable to the model's own error (the equation of state's known error against the reference equations, and the efficiency's stated uncertainty): its warning band was widened by that error, as the finding says. Treat such a margin as unproven and confirm with the manufacturer's data.";
+
+    /// <summary>Added when a later stage is fed directly (its cooler bypassed or out of service).</summary>
+    public const string FedDirectly =
+        "At least one stage is fed directly by the previous stage's discharge (its cooler bypassed or out of service): its suction is hot and every stage after it runs hotter. Run this way only as the manufacturer allows, and keep the discharge-temperature protection of every stage in service.";
 }

@@ -63,9 +63,12 @@ public static class ContractPaths
         }
 
         var cooler = i < stages.Count ? stages[i].Intercooler : null;
+        var direct = i < stages.Count && stages[i].FedDirectly == true;
         var field = error.Member switch
         {
             null => null,
+            "SuctionTemperature" when direct => "fedDirectly",
+            "SuctionPressure" or "Intercooler.PressureDrop" when direct => cooler?.PressureDrop is not null ? "intercooler.pressureDrop" : "fedDirectly",
             "DischargePressure" => "discharge.pressure",
             "SuctionPressure" => cooler is not null ? "intercooler.pressureDrop" : "suction.pressure",
             "SuctionTemperature" => cooler is null ? "suction.temperature" : cooler.OutletTemperature is null ? "intercooler.coolantTemperature" : "intercooler.outletTemperature",

@@ -25,6 +25,9 @@ public sealed record EvaluationContext(Guid Id, DateTimeOffset EvaluatedAt, bool
 
     /// <summary>How much the answer carries (compact by default).</summary>
     public AnswerDetail Detail { get; init; } = AnswerDetail.Compact;
+
+    // The train's envelope evaluates many trial trains: their per-stage envelopes are not needed.
+    internal bool SkipStageEnvelopes { get; init; }
 }
 
 /// <summary>
@@ -53,9 +56,14 @@ public sealed class EvaluationPipeline
     private const double HighPressurePascals = 3e6;
 
     private readonly RequestBinder _binder;
+    private readonly UnitVocabulary _units;
 
     /// <summary>Creates the pipeline over a unit vocabulary (the shipped one by default).</summary>
-    public EvaluationPipeline(UnitVocabulary? units = null) => _binder = new RequestBinder(units ?? UnitVocabulary.Default);
+    public EvaluationPipeline(UnitVocabulary? units = null)
+    {
+        _units = units ?? UnitVocabulary.Default;
+        _binder = new RequestBinder(_units);
+    }
 
     /// <summary>The engine version written into every answer and audit record.</summary>
     public static string EngineVersion { get; } =
@@ -77,7 +85,21 @@ public sealed class EvaluationPipeline
         ArgumentNullException.ThrowIfNull(context);
         try
         {
-            return (Evaluate(_binder.Bind(request, rules), context), null);
+            var input = _binder.Bind(request, rules);
+            var result = Evaluate(input, context);
+            if (request.TrainEnvelopeSplit is { } split)
+            {
+                // Asked for: the train's envelope evaluates some thirty to forty trial trains, which the default answer
+                // does not pay for.
+                var lean = context with { History = null, IncludeCurve = false, Detail = AnswerDetail.Compact, SkipStageEnvelopes = true };
+                result.TrainEnvelope = TrainEnvelope.Compute(input, result.Stages, split, trial => Evaluate(trial, lean));
+            }
+            if (request.Scenarios is { Count: > 0 } scenarios)
+            {
+                result.Scenarios = scenarios.Select((s, i) => RunScenario(request, s, i, rules, context with { History = null, IncludeCurve = false })).ToArray();
+            }
+
+            return (result, null);
         }
         catch (RequestProblemException ex)
         {
@@ -89,6 +111,67 @@ public sealed class EvaluationPipeline
             // typed; one that escapes them still names its stage member, or the stages when it names none.
             return (null, Unprocessable(FromThermo(ex, request.Stages ?? []), ex.Reason).Problem);
         }
+    }
+
+    // One scenario on the same rule snapshot: its request built and bound, recycle applied, evaluated; any refusal keyed by
+    // the scenario's path (an override's field under scenarios[i].override, anything else under scenarios[i]).
+    private ScenarioOutcome RunScenario(EvaluationRequest request, ScenarioInput scenario, int index, RuleSetSnapshot rules, EvaluationContext context)
+    {
+        var path = ScenarioRequests.Path(index);
+        try
+        {
+            var scenarioRequest = ScenarioRequests.Build(request, scenario, index, _units);
+            var input = _binder.Bind(scenarioRequest, rules);
+            var changes = new List<string>();
+            changes.AddRange(ScenarioChanges.Describe(scenario));
+            if (scenario.Recycle is { } recycle)
+            {
+                Temperature? cooled = null;
+                if (recycle.CooledTo is { } c)
+                {
+                    cooled = _units.TryParseTemperature(c.Text, out var t, out var error)
+                        ? t
+                        : throw Invalid(path + ".recycle.cooledTo", $"'{c.Text}': {error!.Problem}");
+                }
+
+                (input, var note) = Recycle.Apply(input, recycle.Fraction!.Value, cooled, path + ".recycle");
+                changes.Add(note);
+            }
+
+            return new ScenarioOutcome(scenario.Name!, changes, Evaluate(input, context));
+        }
+        catch (RequestProblemException ex) when (!ex.Problem.Errors.Keys.All(k => k.StartsWith(path, StringComparison.Ordinal)))
+        {
+            throw new RequestProblemException(Rekey(ex.Problem, scenario, path));
+        }
+        catch (ThermoInputException ex)
+        {
+            var at = FromThermo(ex, request.Stages ?? []);
+            throw new RequestProblemException(Rekey(Unprocessable(at, ex.Reason).Problem, scenario, path));
+        }
+    }
+
+    private static RequestProblem Rekey(RequestProblem problem, ScenarioInput scenario, string path)
+    {
+        var onlyOverride = scenario is { Override: not null, HotDay: null, FouledCooler: null, CoolingWaterFailure: null, Recycle: null };
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        foreach (var (key, messages) in problem.Errors)
+        {
+            if (key.StartsWith(path, StringComparison.Ordinal))
+            {
+                errors[key] = messages;
+            }
+            else if (onlyOverride)
+            {
+                errors[path + ".override." + key] = messages;
+            }
+            else
+            {
+                errors[path] = [.. errors.GetValueOrDefault(path, []), .. messages.Select(m => $"In this scenario, {key}: {m}")];
+            }
+        }
+
+        return problem with { Errors = errors };
     }
 
     private static EvaluationResult Evaluate(EvaluationInput input, EvaluationContext context)
@@ -137,7 +220,7 @@ public sealed class EvaluationPipeline
 
         // Liquid never reaches a compressor unflagged, whatever the method: the phase at suction (after any cooler and
         // its separator) decides whether the stage can be evaluated at all.
-        var separated = bound.Input.Intercooler is not null;
+        var separated = bound.Train.Intercooler is { IsBypassed: false };
         var phaseModel = StagePhases.Prepare(s.Gas);
         var suctionPhase = StagePhases.AtSuction(phaseModel, s.Gas, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, separated);
         facts = facts with { SuctionPhase = suctionPhase.Phase, SuctionSuperheat = suctionPhase.SuperheatAboveHydrocarbonDewPoint };
@@ -178,9 +261,15 @@ public sealed class EvaluationPipeline
         var envelope = FloodedStage.Envelope(
             StageCalibration.Envelope(new ThermoEnvelopeCalculator(s.Gas, conditions, realGas.Used ? realGas : null, bound.ValveLossPerValve), bound.Calibration, conditions),
             flooded);
-        var ruled = RuleEngine.EvaluateStage(input.Rules, facts, envelope);
+        var (ruled, widenings) = ModelUncertainty.Apply(
+            RuleEngine.EvaluateStage(input.Rules, facts, context.SkipStageEnvelopes ? null : envelope),
+            facts,
+            realGas.Used ? realGas.Method : GasModels.IdealGas,
+            flooded is null && bound.Calibration is not { Used: true },
+            input.Rules);
         var outcome = new StageOutcome(bound, s, facts, ruled.Verdict, ruled.Findings, ruled, suctionPhase)
         {
+            Widenings = widenings,
             DischargePhase = dischargePhase,
             RealGas = realGas,
             Flooded = flooded,
@@ -293,6 +382,16 @@ public sealed class EvaluationPipeline
         if (input.Stages.Any(s => s.EfficiencySource.Source == "rule-default"))
         {
             cautions.Add(Cautions.DefaultEfficiency);
+        }
+
+        if (evaluated.Any(s => s.Widenings.Count > 0))
+        {
+            cautions.Add(Cautions.ModelUncertainty);
+        }
+
+        if (input.Stages.Any(s => s.Train.Intercooler is { IsBypassed: true } || (s.Index > 0 && s.Train.Intercooler is null && s.Train.SuctionPressure is null)))
+        {
+            cautions.Add(Cautions.FedDirectly);
         }
 
         return cautions;

@@ -30,7 +30,7 @@ public sealed class EvaluationResult
         Id = id;
         EvaluatedAt = evaluatedAt;
         Input = input;
-        Verdict = verdict;
+        BaseVerdict = verdict;
         Method = method;
         Stages = stages;
         ServiceClasses = serviceClasses;
@@ -48,8 +48,29 @@ public sealed class EvaluationResult
     /// <summary>When it was evaluated (UTC).</summary>
     public DateTimeOffset EvaluatedAt { get; }
 
-    /// <summary>The overall verdict: the worst stage's.</summary>
-    public Verdict Verdict { get; }
+    /// <summary>The overall verdict: the worst stage's, in the base case and in every scenario.</summary>
+    public Verdict Verdict => Scenarios.Aggregate(BaseVerdict, (v, s) => (Verdict)Math.Max((int)v, (int)s.Result.BaseVerdict));
+
+    /// <summary>The base case's verdict (its stages' worst), without the scenarios.</summary>
+    public Verdict BaseVerdict { get; }
+
+    /// <summary>The scenarios evaluated beside the base case, in request order (empty when the request named none).</summary>
+    public IReadOnlyList<ScenarioOutcome> Scenarios { get; internal set; } = [];
+
+    /// <summary>
+    /// The scenario whose governing limit decides the answer (the worst verdict, then the smallest margin, the base case
+    /// first on a tie); null when the base case decides.
+    /// </summary>
+    public ScenarioOutcome? GoverningScenario =>
+        Scenarios
+            .Where(s => s.Result.Governing?.Governing?.Margin is not null)
+            .Select(s => (Scenario: (ScenarioOutcome?)s, Stage: s.Result.Governing!))
+            .Prepend((Scenario: null, Stage: Governing!))
+            .Where(c => c.Stage?.Governing?.Margin is not null)
+            .OrderByDescending(c => (int)c.Stage.Verdict)
+            .ThenBy(c => c.Stage.Governing!.Margin!.Value.SiValue)
+            .Select(c => c.Scenario)
+            .FirstOrDefault();
 
     /// <summary>The gas model that decided: one model's name, or <c>mixed</c>.</summary>
     public string Method { get; }
@@ -69,7 +90,7 @@ public sealed class EvaluationResult
     /// <summary>The stages' outcomes, in train order.</summary>
     public IReadOnlyList<StageOutcome> Stages { get; }
 
-    /// <summary>The stage whose governing limit decides the answer: the worst verdict, then the smallest margin; null when no stage has a governing limit.</summary>
+    /// <summary>The base case's stage whose governing limit decides it: the worst verdict, then the smallest margin; null when no stage has a governing limit.</summary>
     public StageOutcome? Governing { get; }
 
     /// <summary>The service classes in force on the first stage.</summary>
@@ -85,6 +106,29 @@ public sealed class EvaluationResult
     public GasMixture Feed => Input.Feed;
 
     internal EvaluationInput Input { get; }
+
+    /// <summary>The train's envelope (base case only), when a stage has a governing limit the pressures move.</summary>
+    internal TrainEnvelopeResult? TrainEnvelope { get; set; }
+}
+
+/// <summary>One scenario's outcome: its name, what was changed, and its evaluation (same rule snapshot as the base case).</summary>
+public sealed class ScenarioOutcome
+{
+    internal ScenarioOutcome(string name, IReadOnlyList<string> changes, EvaluationResult result)
+    {
+        Name = name;
+        Changes = changes;
+        Result = result;
+    }
+
+    /// <summary>The scenario's name as requested.</summary>
+    public string Name { get; }
+
+    /// <summary>What the scenario changed, in words (with the recycle's mixed suction temperature).</summary>
+    public IReadOnlyList<string> Changes { get; }
+
+    /// <summary>The scenario's evaluation: its stages, verdict and governing stage.</summary>
+    public EvaluationResult Result { get; }
 }
 
 /// <summary>One stage's outcome, in SI: the states, the temperatures of the model that decided, the findings and the envelope.</summary>
@@ -165,6 +209,8 @@ public sealed class StageOutcome
     internal IReadOnlyList<LimitEnvelope>? ByLimit { get; init; }
 
     internal IReadOnlyList<CurvePoint>? Curve { get; init; }
+
+    internal IReadOnlyDictionary<string, UncertaintyWidening> Widenings { get; init; } = new Dictionary<string, UncertaintyWidening>(StringComparer.Ordinal);
 }
 
 /// <summary>How far one violation-level temperature limit lets the stage's discharge pressure rise.</summary>

@@ -66,6 +66,12 @@ internal sealed class RequestBinder(UnitVocabulary units)
             var t1 = ParseTemperature(suction.Temperature!, path + ".suction.temperature");
             train = new TrainStage(discharge, efficiency, SuctionPressure: p1, SuctionTemperature: t1);
         }
+        else if (stage.FedDirectly == true)
+        {
+            // The cooler is bypassed or out of service: the gas keeps the previous discharge temperature and takes only the
+            // cooler's pressure drop, when one is given.
+            train = new TrainStage(discharge, efficiency, Intercooler: Intercooler.Bypassed(DropOf(stage.Intercooler?.PressureDrop, path)));
+        }
         else
         {
             train = new TrainStage(discharge, efficiency, Intercooler: CoolerOf(stage.Intercooler!, path));
@@ -88,22 +94,28 @@ internal sealed class RequestBinder(UnitVocabulary units)
             ValveLossOf(stage, rules));
     }
 
+    private PressureDrop DropOf(QuantityInput? dropText, string path)
+    {
+        if (dropText is null)
+        {
+            return PressureDrop.None;
+        }
+
+        try
+        {
+            return dropText.Parse(units, QuantityKind.Fraction, out var fraction, out _)
+                ? PressureDrop.OfUpstream(((Ratio)fraction!.Quantity).DecimalFractions)
+                : PressureDrop.Absolute((Pressure)Parse(dropText, QuantityKind.PressureDifference, path + ".intercooler.pressureDrop").Quantity);
+        }
+        catch (ThermoInputException ex)
+        {
+            throw Unprocessable(path + ".intercooler.pressureDrop", ex.Reason);
+        }
+    }
+
     private Intercooler CoolerOf(IntercoolerInput c, string path)
     {
-        var drop = PressureDrop.None;
-        if (c.PressureDrop is { } dropText)
-        {
-            try
-            {
-                drop = dropText.Parse(units, QuantityKind.Fraction, out var fraction, out _)
-                    ? PressureDrop.OfUpstream(((Ratio)fraction!.Quantity).DecimalFractions)
-                    : PressureDrop.Absolute((Pressure)Parse(dropText, QuantityKind.PressureDifference, path + ".intercooler.pressureDrop").Quantity);
-            }
-            catch (ThermoInputException ex)
-            {
-                throw Unprocessable(path + ".intercooler.pressureDrop", ex.Reason);
-            }
-        }
+        var drop = DropOf(c.PressureDrop, path);
 
         try
         {

@@ -26,6 +26,8 @@ public static class ResponseMapper
         var full = context.Detail == AnswerDetail.Full;
         var u = OutputUnitSystem.Named(result.Input.Request.OutputUnits);
         var feed = result.Feed;
+        var governingScenario = result.GoverningScenario;
+        var governing = Governing(governingScenario?.Result ?? result, u);
         return new EvaluationResponse
         {
             Id = result.Id,
@@ -35,7 +37,7 @@ public static class ResponseMapper
             EngineVersion = EvaluationPipeline.EngineVersion,
             Asset = result.Asset,
             Site = result.Site,
-            Governing = result.Governing is { Governing: { } g } gs ? new GoverningSummaryDto(gs.Index, g.RuleId, g.Margin is { } m ? u.Reading(m) : null) : null,
+            Governing = governing is null ? null : governing with { Scenario = governingScenario?.Name },
             BarometricPressure = result.Barometer is { } b ? u.PressureAbsolute(b) : null,
             Detail = full ? "full" : "compact",
             RuleSet = RuleSetDto.Of(result.Layers),
@@ -45,9 +47,26 @@ public static class ResponseMapper
                 result.ServiceClasses,
                 result.Input.Request.Gas?.Preset),
             Stages = result.Stages.Select(s => StageOf(s, result.Barometer, u, full)).ToArray(),
-            Cautions = result.Cautions,
+            Cautions = result.Scenarios.Count == 0 ? result.Cautions : result.Cautions.Concat(result.Scenarios.SelectMany(s => s.Result.Cautions)).Distinct(StringComparer.Ordinal).ToArray(),
+            BaseVerdict = result.Scenarios.Count == 0 ? null : Name(result.BaseVerdict),
+            Scenarios = result.Scenarios.Count == 0 ? null : result.Scenarios.Select(s => new ScenarioDto(
+                s.Name,
+                s.Changes,
+                Name(s.Result.BaseVerdict),
+                s.Result.Method,
+                Governing(s.Result, u),
+                s.Result.Stages.Select(st => StageOf(st, result.Barometer, u, full)).ToArray())).ToArray(),
+            TrainEnvelope = result.TrainEnvelope is { } te
+                ? new TrainEnvelopeDto(te.Split, BoundOf(te.MaxFinalDischarge, u), BoundOf(te.MinSuction, u))
+                : null,
         };
     }
+
+    private static GoverningSummaryDto? Governing(EvaluationResult result, OutputUnitSystem u) =>
+        result.Governing is { Governing: { } g } gs ? new GoverningSummaryDto(gs.Index, g.RuleId, g.Margin is { } m ? u.Reading(m) : null) : null;
+
+    private static TrainBoundDto BoundOf(TrainBound b, OutputUnitSystem u) =>
+        new(b.Value is { } p ? u.PressureAbsolute(p) : null, b.Status, b.Stage, b.RuleId);
 
     /// <summary>The contract's word for a verdict.</summary>
     public static string Name(Verdict verdict) => verdict switch
@@ -86,7 +105,10 @@ public static class ResponseMapper
             Suction = suction,
             Discharge = discharge,
             Efficiency = EfficiencyOf(o, u, full),
-            Findings = o.Findings.Select(f => FindingOf(f, u, full)).ToArray(),
+            Findings = o.Findings.Select(f => FindingOf(f, u, full) with
+            {
+                Uncertainty = o.Widenings.TryGetValue(f.RuleId, out var w) ? new UncertaintyDto(u.DifferenceKelvin(w.WidenedByKelvin), w.Note) : null,
+            }).ToArray(),
             NotChecked = o.NotChecked.Select(n => new NotCheckedDto(n.RuleId, n.MissingInputs, full ? n.Reason : null)).ToArray(),
             Phase = PhaseOf(o, u, full),
             Condensate = o.Solved.Condensate is { } c
@@ -249,7 +271,7 @@ public static class ResponseMapper
             _ => $"{what}: not computable — {note}",
         };
 
-        return $"Before {e.RuleId} ({e.Quantity.ToName()}) is reached, other stages held fixed. "
+        return $"Before {e.RuleId} ({e.Quantity.ToName()}) is reached, other stages held fixed (the answer's trainEnvelope moves the whole train). "
             + Describe("Discharge pressure", e.MaxDischargePressure.Status, e.MaxDischargePressure.Note) + " "
             + Describe("Suction temperature", e.MaxSuctionTemperature.Status, e.MaxSuctionTemperature.Note);
     }

@@ -27,6 +27,12 @@ public static class ContractValues
     /// <summary>Most stages a request may carry.</summary>
     public const int MaxStages = 12;
 
+    /// <summary>Most scenarios a request may carry.</summary>
+    public const int MaxScenarios = 16;
+
+    /// <summary>Accepted <c>trainEnvelopeSplit</c> values.</summary>
+    public static IReadOnlyList<string> TrainEnvelopeSplits { get; } = ["stated", "equal"];
+
     internal static string List(IReadOnlyList<string> values) => string.Join(", ", values.Select(v => "'" + v + "'"));
 }
 
@@ -60,6 +66,153 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
             .Must(s => s is null || s.Count <= ContractValues.MaxStages).WithMessage($"At most {ContractValues.MaxStages} stages.");
         RuleForEach(x => x.Stages).NotNull().WithMessage("A stage cannot be null.").SetValidator(new StageInputValidator(vocabulary));
         RuleFor(x => x).Custom((request, context) => CheckStageOrderAndPressureBasis(request, context, vocabulary));
+        RuleFor(x => x.TrainEnvelopeSplit)
+            .Must(v => v is null || ContractValues.TrainEnvelopeSplits.Contains(v))
+            .WithMessage($"Accepted values: {ContractValues.List(ContractValues.TrainEnvelopeSplits)}.");
+        RuleFor(x => x.Scenarios)
+            .Must(s => s is null || s.Count <= ContractValues.MaxScenarios).WithMessage($"At most {ContractValues.MaxScenarios} scenarios.");
+        RuleFor(x => x).Custom((request, context) => CheckScenarios(request, context, vocabulary));
+    }
+
+    // Each scenario: a unique name, at least one change, stages that exist, a recycle fraction in [0, 1), and an override
+    // whose merged request is itself valid (its errors keyed under scenarios[i].override).
+    private void CheckScenarios(EvaluationRequest request, ValidationContext<EvaluationRequest> context, UnitVocabulary units)
+    {
+        if (request.Scenarios is not { } scenarios || request.Stages is not { Count: > 0 } stages || stages.Any(s => s is null))
+        {
+            return;
+        }
+
+        var names = new HashSet<string>(StringComparer.Ordinal);
+        for (var i = 0; i < scenarios.Count; i++)
+        {
+            var path = string.Create(CultureInfo.InvariantCulture, $"scenarios[{i}]");
+            if (scenarios[i] is not { } s)
+            {
+                context.AddFailure(path, "A scenario cannot be null.");
+                continue;
+            }
+
+            if (s.Name is null || !System.Text.RegularExpressions.Regex.IsMatch(s.Name, @"^[a-z0-9](?:[a-z0-9\-]{0,62}[a-z0-9])?\z", System.Text.RegularExpressions.RegexOptions.None, TimeSpan.FromSeconds(1)))
+            {
+                context.AddFailure(path + ".name", "Give the scenario a name of lower-case letters, digits and hyphens (at most 64), e.g. \"hot-day\".");
+            }
+            else if (!names.Add(s.Name))
+            {
+                context.AddFailure(path + ".name", $"The name '{s.Name}' is used by an earlier scenario; names are unique.");
+            }
+
+            if (s is { Override: null, HotDay: null, FouledCooler: null, CoolingWaterFailure: null, Recycle: null })
+            {
+                context.AddFailure(path, "A scenario names at least one change: override, hotDay, fouledCooler, coolingWaterFailure or recycle.");
+            }
+
+            if (s.HotDay is { } hot)
+            {
+                if (hot.SuctionTemperatureRise is null && hot.CoolantTemperatureRise is null)
+                {
+                    context.AddFailure(path + ".hotDay", "Give suctionTemperatureRise and/or coolantTemperatureRise (differences, e.g. \"10 K\").");
+                }
+
+                Difference(hot.SuctionTemperatureRise, path + ".hotDay.suctionTemperatureRise");
+                Difference(hot.CoolantTemperatureRise, path + ".hotDay.coolantTemperatureRise");
+            }
+
+            if (s.FouledCooler is { } fouled)
+            {
+                if (fouled.ApproachRise is null)
+                {
+                    context.AddFailure(path + ".fouledCooler.approachRise", "Give the rise of the cooler's approach (a difference, e.g. \"8 K\").");
+                }
+
+                Difference(fouled.ApproachRise, path + ".fouledCooler.approachRise");
+                Stages(fouled.Stages, path + ".fouledCooler.stages");
+            }
+
+            if (s.CoolingWaterFailure is { } failure)
+            {
+                Stages(failure.Stages, path + ".coolingWaterFailure.stages");
+            }
+
+            if (s.Recycle is { } recycle)
+            {
+                if (recycle.Fraction is not { } x || !(x >= 0 && x < 1))
+                {
+                    context.AddFailure(path + ".recycle.fraction", "The recycled share of the first stage's suction flow is a fraction in [0, 1) (0.2 for 20 %).");
+                }
+
+                if (recycle.CooledTo is { } t && !units.TryParse(t.Text, QuantityKind.Temperature, out _, out var error))
+                {
+                    context.AddFailure(path + ".recycle.cooledTo", $"'{t.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+                }
+            }
+
+            if (s.Override is { } o)
+            {
+                CheckOverride(request, o, path + ".override", context);
+            }
+
+            void Difference(QuantityInput? q, string at)
+            {
+                if (q is not null && !units.TryParse(q.Text, QuantityKind.TemperatureDifference, out _, out var error))
+                {
+                    context.AddFailure(at, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+                }
+            }
+
+            void Stages(IReadOnlyList<int>? named, string at)
+            {
+                if (named is null)
+                {
+                    return;
+                }
+
+                for (var k = 0; k < named.Count; k++)
+                {
+                    var n = named[k];
+                    var itemPath = string.Create(CultureInfo.InvariantCulture, $"{at}[{k}]");
+                    if (n < 0 || n >= stages.Count)
+                    {
+                        context.AddFailure(itemPath, string.Create(CultureInfo.InvariantCulture, $"Stage {n} does not exist: the train has stages 0 to {stages.Count - 1}."));
+                    }
+                    else if (n == 0 || stages[n].Intercooler is null)
+                    {
+                        context.AddFailure(itemPath, string.Create(CultureInfo.InvariantCulture, $"Stage {n} has no intercooler before it (the first stage never has one)."));
+                    }
+                }
+            }
+        }
+    }
+
+    private void CheckOverride(EvaluationRequest request, EvaluationRequest o, string path, ValidationContext<EvaluationRequest> context)
+    {
+        foreach (var (field, given) in new[] { ("asset", o.Asset is not null), ("site", o.Site is not null), ("scenarios", o.Scenarios is not null), ("trainEnvelopeSplit", o.TrainEnvelopeSplit is not null) })
+        {
+            if (given)
+            {
+                context.AddFailure(path + "." + field, "A scenario is evaluated for the base request's asset and site, on the same rules; it cannot change " + field + ".");
+            }
+        }
+
+        if (o.Stages is { } patchStages && patchStages.Count > request.Stages!.Count)
+        {
+            context.AddFailure(path + ".stages", string.Create(CultureInfo.InvariantCulture,
+                $"The override names {patchStages.Count} stages but the train has {request.Stages.Count}: stage {request.Stages.Count} does not exist (an override changes stages; it does not add them)."));
+            return;
+        }
+
+        if (o.Asset is not null || o.Site is not null || o.Scenarios is not null)
+        {
+            return;
+        }
+
+        // The base request's own errors are reported at their own paths, not again under every override.
+        var own = Validate(Pipeline.ScenarioRequests.Merge(request, null)).Errors.Select(f => (f.PropertyName, f.ErrorMessage)).ToHashSet();
+        var merged = Pipeline.ScenarioRequests.Merge(request, o);
+        foreach (var failure in Validate(merged).Errors.Where(f => !own.Contains((f.PropertyName, f.ErrorMessage))))
+        {
+            context.AddFailure(path + "." + Pipeline.ContractPaths.FromValidator(failure.PropertyName), failure.ErrorMessage);
+        }
     }
 
     // Rules that need the stage index or the site: which stage gives a suction, and gauge pressures needing a barometer.
@@ -91,6 +244,19 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
                 {
                     context.AddFailure(path + ".intercooler", "The first stage takes its suction directly; an intercooler belongs to a later stage.");
                 }
+
+                if (stage.FedDirectly == true)
+                {
+                    context.AddFailure(path + ".fedDirectly", "The first stage has no previous stage to be fed by; fedDirectly belongs to a later stage (its cooler bypassed or out of service).");
+                }
+            }
+            else if (stage.FedDirectly == true && stage.Suction is not null)
+            {
+                context.AddFailure(path + ".fedDirectly", "A stage fed directly takes its suction from the previous stage's discharge; give no suction (an intercooler's pressure drop may be given).");
+            }
+            else if (stage.FedDirectly == true)
+            {
+                // Fed directly: the suction follows from the previous discharge (less any cooler pressure drop).
             }
             else if (stage.Suction is not null && stage.Intercooler is not null)
             {
@@ -98,7 +264,7 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
             }
             else if (stage.Suction is null && stage.Intercooler is null)
             {
-                context.AddFailure(path, "A later stage gives either an intercooler (its suction is the previous discharge through the cooler) or its own suction.");
+                context.AddFailure(path, "A later stage gives either an intercooler (its suction is the previous discharge through the cooler), its own suction, or fedDirectly: true (its cooler bypassed or out of service).");
             }
 
             if (!hasBarometer)
@@ -247,8 +413,6 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
         }).When(x => x.Suction is not null);
         RuleFor(x => x.Intercooler!).ChildRules(c =>
         {
-            c.RuleFor(x => x).Must(x => (x.OutletTemperature is not null) != (x.Approach is not null))
-                .WithName("outletTemperature").WithMessage("Give either the cooler's gas outlet temperature or an approach with a coolant temperature.");
             c.RuleFor(x => x.CoolantTemperature).NotNull().When(x => x.Approach is not null).WithMessage("An approach needs the coolant temperature.");
             c.RuleFor(x => x.OutletTemperature).Quantity(units, QuantityKind.Temperature).When(x => x.OutletTemperature is not null);
             c.RuleFor(x => x.Approach).Quantity(units, QuantityKind.TemperatureDifference).When(x => x.Approach is not null);
@@ -256,6 +420,11 @@ public sealed class StageInputValidator : AbstractValidator<StageInput>
             c.RuleFor(x => x.PressureDrop).Must(q => q is null || q.Parse(units, QuantityKind.PressureDifference, out _, out _) || q.Parse(units, QuantityKind.Fraction, out _, out _))
                 .WithMessage(q => $"'{q.PressureDrop?.Text}' is neither a pressure difference nor a percentage. Accepted units: {string.Join(", ", units.AcceptedTokens(QuantityKind.PressureDifference))}, or % of the upstream pressure.");
         }).When(x => x.Intercooler is not null);
+        // A cooler bypassed by a stage fed directly keeps only its pressure drop, so its temperatures are not required.
+        RuleFor(x => x.Intercooler!).ChildRules(c =>
+            c.RuleFor(x => x).Must(x => (x.OutletTemperature is not null) != (x.Approach is not null))
+                .WithName("outletTemperature").WithMessage("Give either the cooler's gas outlet temperature or an approach with a coolant temperature."))
+            .When(x => x.Intercooler is not null && x.FedDirectly != true);
         RuleFor(x => x.Discharge).NotNull().WithMessage("Give the discharge pressure with its basis (e.g. \"6.8 barg\").");
         RuleFor(x => x.Discharge!.Pressure).NotNull().WithMessage("Give the discharge pressure with its basis (e.g. \"6.8 barg\").")
             .Quantity(units, QuantityKind.Pressure, StateBases, StateBasisMessage).When(x => x.Discharge is not null);
