@@ -35,6 +35,23 @@ public class ServerModeTests(KeyedService service) : IClassFixture<KeyedService>
         var records = AuditFile.Records(Host.DatabasePath);
         Assert.Equal(before + 3, records.Count);
         Assert.All(ids, id => Assert.Contains(records, r => r.Id == id && r.Caller == "marlow-fen-change-gate"));
+
+        // Each case a server evaluated names its management-of-change report, and the report opens with the gate's key.
+        foreach (var c in doc.RootElement.GetProperty("cases").EnumerateArray())
+        {
+            var id = c.GetProperty("response").GetProperty("id").GetGuid();
+            Assert.Equal($"{Host.Url}/v1/evaluations/{id:D}/report", c.GetProperty("report").GetString());
+        }
+    }
+
+    [Fact]
+    public async Task Server_TextAndJUnitReports_NameEachCasesReport()
+    {
+        var text = await Gate.RunAsync(Host.GateEnvironment(), "check", "--server", Host.Url, Repo.Example("c-204b-design.json"));
+        Assert.True(text.ExitCode == 0, text.ToString());
+        Assert.Matches(@"/v1/evaluations/[0-9a-f-]{36}/report", text.Stdout);
+        var junit = await Gate.RunAsync(Host.GateEnvironment(), "check", "--server", Host.Url, "--format", "junit", Repo.Example("c-204b-design.json"));
+        Assert.Matches(@"/v1/evaluations/[0-9a-f-]{36}/report", junit.Stdout);
     }
 
     [Fact]

@@ -52,7 +52,9 @@ internal static class OpenApiSetup
             Version = "v1",
             Description = "Compressor discharge-temperature screening against versioned rules, every evaluation audited. "
                 + "Results are screening aids: the manufacturer's limits, the applicable design standard and local codes take precedence, "
-                + "and a licensed engineer must review any change.",
+                + "and a licensed engineer must review any change. "
+                + "Answers are compact by default (each finding once, under its stage; the top-level `governing` names the deciding limit by reference) "
+                + "and complete with `?detail=full`. Before the first release /v1 changed in place: the top-level `findings` list was dropped (see CHANGELOG.md).",
         });
         // Relative: the document is served by the service it describes, wherever that is deployed.
         options.AddServer(new OpenApiServer { Url = "/", Description = "The service serving this document." });
