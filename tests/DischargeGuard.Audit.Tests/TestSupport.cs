@@ -109,3 +109,33 @@ internal static class Sample
         };
     }
 }
+
+/// <summary>What every backend's migration from the schema before stage summaries must keep: the old records readable byte-identical with no stages, history answered, and the chain verifying before and after a record with stages.</summary>
+internal static class MigratedStoreChecks
+{
+    public static async Task OldRecordsReadBackAndTheChainExtendsAsync(IAuditStore store, IReadOnlyList<AuditRecord> records)
+    {
+        foreach (var record in records)
+        {
+            var read = await store.GetAsync(record.Id, CancellationToken.None);
+            Assert.Equal(record.Request, read!.Request);
+            Assert.Equal(record.Response, read.Response);
+            Assert.Equal(record.EvaluatedAt.UtcTicks, read.EvaluatedAt.UtcTicks);
+            Assert.Empty(read.Stages);
+        }
+
+        var history = await store.GetStageHistoryAsync(new AuditQuery { Asset = "C-204B" }, CancellationToken.None);
+        Assert.Equal(records.Reverse().Select(r => r.Id), history.Select(h => h.RecordId));
+        Assert.All(history, h => Assert.Empty(h.Stages));
+
+        // New records carry stages after the old ones, and the whole chain still verifies.
+        await store.AppendAsync(Sample.Record(at: Sample.Start.AddHours(1), asset: "C-204B") with
+        {
+            Stages = [new AuditStageSummary(0, AuditVerdict.Pass, null, null, 420, 431.5, 101_325, 400_000, null)],
+        }, CancellationToken.None);
+        var after = await store.VerifyChainAsync(CancellationToken.None);
+        Assert.True(after.Intact, after.FirstBreak?.Reason);
+        Assert.Equal(records.Count + 1, after.Records);
+        Assert.Empty((await store.CheckHealthAsync(CancellationToken.None)).MissingGuards);
+    }
+}
