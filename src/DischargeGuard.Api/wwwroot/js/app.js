@@ -3,6 +3,7 @@
 import { call, describeProblem, forgetKey, saveKey, savedKey } from "./api.js";
 import { addStage, buildRequest, clearFieldErrors, fillPageTemperatureUnits, parseComposition, removeLastStage, setCatalogues, showFieldErrors, wireFlow } from "./form.js";
 import { renderLimits } from "./limits.js";
+import { readScenarios, refreshScenarioStages, wireScenarios } from "./scenarios.js";
 import { localTime, renderEvaluation, renderNoVerdict } from "./render.js";
 
 const $ = (selector) => document.querySelector(selector);
@@ -388,7 +389,7 @@ async function evaluate(event) {
   clearFieldErrors();
   setStatus("Checking… no verdict yet.");
   try {
-    const request = buildRequest(selectedGas());
+    const request = buildRequest(selectedGas(), readScenarios());
     const outcome = await call("POST", "/v1/evaluations?curve=true&detail=full", request);
     body.replaceChildren();
     if (outcome.kind === "ok") {
@@ -430,12 +431,15 @@ async function start() {
   addStage();
   $("#add-stage").addEventListener("click", () => {
     const stage = addStage();
+    refreshScenarioStages();
     stage.querySelector('[data-id="suction-pressure"]').focus();
   });
   $("#remove-stage").addEventListener("click", () => {
     removeLastStage();
+    refreshScenarioStages();
     $("#add-stage").focus();
   });
+  wireScenarios();
   const output = $("#output-units");
   output.value = localStorage.getItem(OUTPUT_STORAGE) === "imperial" ? "imperial" : "metric";
   output.addEventListener("change", () => localStorage.setItem(OUTPUT_STORAGE, output.value));

@@ -262,8 +262,11 @@ export function fillPageTemperatureUnits() {
   }
 }
 
-/** The request body, as the contract (EvaluationRequest) spells it; quantities are "<number> <unit>" strings. */
-export function buildRequest(gas) {
+/**
+ * The request body, as the contract (EvaluationRequest) spells it; quantities are "<number> <unit>" strings.
+ * `scenarios` is the contract's scenario list (js/scenarios.js readScenarios()); empty or absent sends none.
+ */
+export function buildRequest(gas, scenarios) {
   const siteBasis = document.querySelector('input[name="site-basis"]:checked').value;
   const request = {
     asset: text($("#asset")) || undefined,
@@ -277,24 +280,28 @@ export function buildRequest(gas) {
     flow: flow(),
     outputUnits: $("#output-units").value,
     method: $("#method") ? $("#method").value || undefined : undefined,
-    // PENDING CONTRACT (issue 22): `scenarios` is being added to EvaluationRequest by another change; send it here
-    // (scenarios: readScenarios()) once the contract has it. The form's place for it is #scenarios-pending.
+    // The "what if" rows (js/scenarios.js), sent only when there is at least one.
+    scenarios: scenarios && scenarios.length ? scenarios : undefined,
     stages: stageElements().map((stage) => {
       const get = (id) => stage.querySelector(`[data-id="${id}"]`);
       const has = (id) => get(id) !== null;
       const efficiencyValue = text(get("efficiency"));
       const uncertaintyValue = text(get("uncertainty"));
       const unloaded = get("unloaded").value;
+      const fedDirectly = has("fed-directly") && get("fed-directly").checked;
       const cooled = has("ic-outlet") && (text(get("ic-outlet")) !== "" || text(get("ic-approach")) !== "");
       return prune({
         // An intercooler with an outlet temperature or an approach gives this stage's suction; it is not sent twice.
+        // Fed directly, the cooler's temperatures are not used (only its pressure drop), so they are not sent.
         intercooler: has("ic-outlet") ? {
-          outletTemperature: quantity(get("ic-outlet"), get("ic-outlet-unit")),
-          approach: text(get("ic-approach")) === "" ? undefined : `${text(get("ic-approach"))} K`,
-          coolantTemperature: quantity(get("ic-coolant"), get("ic-coolant-unit")),
+          outletTemperature: fedDirectly ? undefined : quantity(get("ic-outlet"), get("ic-outlet-unit")),
+          approach: fedDirectly || text(get("ic-approach")) === "" ? undefined : `${text(get("ic-approach"))} K`,
+          coolantTemperature: fedDirectly ? undefined : quantity(get("ic-coolant"), get("ic-coolant-unit")),
           pressureDrop: quantity(get("ic-drop"), get("ic-drop-unit")),
         } : undefined,
-        suction: cooled ? undefined : {
+        // A stage fed directly takes its suction from the stage before, so its own suction is not sent either.
+        fedDirectly: fedDirectly ? true : undefined,
+        suction: cooled || fedDirectly ? undefined : {
           pressure: quantity(get("suction-pressure"), get("suction-pressure-unit")),
           temperature: quantity(get("suction-temperature"), get("suction-temperature-unit")),
         },
@@ -313,8 +320,6 @@ export function buildRequest(gas) {
           dischargeMaterial: get("discharge-material").value || undefined,
           designTemperature: quantity(get("design-temperature"), get("design-temperature-unit")),
         },
-        // PENDING CONTRACT (issue 22): `fedDirectly` is being added to StageInput by another change; send it here once
-        // the contract has it. The form's place for it is the [data-pending-contract="fedDirectly"] element.
         calibration: {
           suction: {
             pressure: quantity(get("cal-suction-pressure"), get("cal-suction-pressure-unit")),

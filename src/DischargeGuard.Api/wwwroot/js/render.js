@@ -328,10 +328,17 @@ function stageSection(stage, count, chartWidth) {
  * the basis typed (barg stays barg), and the way to the printable record. Everything is the answer's own figures.
  */
 function answerFirst(body) {
-  const stages = body.stages || [];
   const ref = body.governing;
+  // When a scenario holds the worst limit, its own stages say what governs (the base case's stages are other figures).
+  const scenario = ref && ref.scenario ? (body.scenarios || []).find((s) => s.name === ref.scenario) : null;
+  const stages = (scenario ? scenario.stages : body.stages) || [];
   const stage = ref && stages[ref.stage] ? stages[ref.stage] : stages[0];
-  const where = stages.length > 1 && stage ? ` (stage ${stage.index + 1})` : "";
+  // With scenarios, the lines name the case they come from (in the term, so the first screen gains no line).
+  const hasScenarios = (body.scenarios || []).length > 0;
+  const parts = (caseWords) => [stages.length > 1 && stage ? `stage ${stage.index + 1}` : null, hasScenarios ? caseWords : null].filter(Boolean);
+  const within = (caseWords) => (parts(caseWords).length ? ` (${parts(caseWords).join(", ")})` : "");
+  const where = within(scenario ? `scenario ${scenario.name}` : "base case");
+  const same = within(scenario ? "that scenario" : "base case");
   const lines = h("dl", { class: "answer-lines" });
   const add = (term, value, key) => lines.append(h("div", { class: "answer-line", "data-answer": key }, h("dt", {}, term), h("dd", {}, value)));
   const governing = stage && stage.governing && ref && stage.governing.ruleId === ref.ruleId ? stage.governing : null;
@@ -340,15 +347,15 @@ function answerFirst(body) {
     const margin = ref.margin || governing.margin;
     add(`Governing limit${where}`, `${title} (${governing.ruleId})`, "governing");
     add("Limit and margin", margin
-      ? `${q(governing.limit)}; ${q({ value: Math.abs(margin.value), unit: margin.unit })} ${margin.value < 0 ? "beyond the limit" : "below it"}`
+      ? `${q(governing.limit)}; ${marginWords(margin)}`
       : q(governing.limit), "margin");
   } else {
     add("Governing limit", stage && stage.notEvaluated ? "none: the stage was not evaluated" : "none: no violation-level limit applied", "governing");
   }
 
-  add(`Estimated discharge temperature${where}`, stage && stage.dischargeTemperature ? q(stage.dischargeTemperature.estimated) : "not evaluated", "estimated");
+  add(`Estimated discharge temperature${same}`, stage && stage.dischargeTemperature ? q(stage.dischargeTemperature.estimated) : "not evaluated", "estimated");
   const envelope = stage && stage.envelope;
-  add("Highest allowed discharge pressure", envelope && (envelope.maxDischargePressureAsTyped || envelope.maxDischargePressure)
+  add(`Highest allowed discharge pressure${scenario ? " (that scenario)" : ""}`, envelope && (envelope.maxDischargePressureAsTyped || envelope.maxDischargePressure)
     ? (envelope.maxDischargePressureAsTyped ? q(envelope.maxDischargePressureAsTyped) : `${q(envelope.maxDischargePressure)} absolute`)
     : "not found (see the stage below)", "max-pressure");
   const section = h("section", { class: "answer-first", "aria-label": "The answer", "data-evaluation": body.id || "" }, lines);
@@ -360,6 +367,60 @@ function answerFirst(body) {
   return section;
 }
 
+/** Words for a margin: its size and which side of the limit. */
+function marginWords(margin) {
+  return `${q({ value: Math.abs(margin.value), unit: margin.unit })} ${margin.value < 0 ? "beyond the limit" : "below it"}`;
+}
+
+/** A margin in a table cell: its size and "beyond" or "below" the limit. */
+function shortMargin(margin) {
+  return `${q({ value: Math.abs(margin.value), unit: margin.unit })} ${margin.value < 0 ? "beyond" : "below"}`;
+}
+
+/**
+ * The scenarios in a short table: each one's verdict (under its name, so three columns fit a phone), governing rule
+ * (with its stage and limit) and margin, the base case first, and the case that holds the answer's governing limit marked in words. All from the answer.
+ */
+function scenarioTable(body) {
+  const scenarios = body.scenarios || [];
+  const ref = body.governing;
+  const governs = (name) => Boolean(ref && (ref.scenario || null) === name);
+  const verdictTag = (verdict) => h("span", { class: "scenario-verdict" }, tag(verdict, (VERDICTS[verdict] || VERDICTS.none).word));
+  const marker = (name) => (governs(name) ? h("strong", { class: "governs" }, " ▶ governs") : null);
+  const rowsBody = h("tbody", {});
+  const baseRef = ref && !ref.scenario ? ref : null;
+  const baseStage = baseRef ? (body.stages || [])[baseRef.stage] : null;
+  rowsBody.append(h("tr", { "data-scenario": "", "data-governing": String(governs(null)) },
+    h("th", { scope: "row" }, "Base case (as entered)", marker(null), verdictTag(body.baseVerdict || body.verdict)),
+    h("td", {}, baseRef ? `${baseRef.ruleId}, stage ${baseRef.stage + 1}` : "see Details below",
+      baseStage && baseStage.governing ? h("span", { class: "scenario-limit" }, `limit ${q(baseStage.governing.limit).replace(" ", "\u00a0")}`) : null),
+    h("td", {}, baseRef && baseRef.margin ? shortMargin(baseRef.margin) : "—")));
+  for (const scenario of scenarios) {
+    const g = scenario.governing;
+    const stage = g ? (scenario.stages || [])[g.stage] : null;
+    const limit = stage && stage.governing && stage.governing.ruleId === g.ruleId ? stage.governing.limit : null;
+    rowsBody.append(h("tr", { "data-scenario": scenario.name, "data-governing": String(governs(scenario.name)) },
+      h("th", { scope: "row" }, scenario.name, marker(scenario.name), verdictTag(scenario.verdict)),
+      h("td", { "data-value": "rule" }, g ? `${g.ruleId}, stage ${g.stage + 1}` : "none applied",
+        limit ? h("span", { class: "scenario-limit" }, `limit ${q(limit).replace(" ", "\u00a0")}`) : null),
+      h("td", { "data-value": "margin" }, g && g.margin ? shortMargin(g.margin) : "—")));
+  }
+
+  // What each scenario changed, in the service's words, under the table so the table stays narrow on a phone.
+  const changes = h("ul", { class: "scenario-changes" }, ...scenarios.map((scenario) => h("li", { "data-scenario": scenario.name },
+    h("strong", {}, `${scenario.name}: `), (scenario.changes || []).join(" "))));
+
+  const governing = ref && ref.scenario ? `scenario ${ref.scenario}` : "the base case";
+  return h("section", { class: "scenario-results", "aria-labelledby": "scenario-results-heading" },
+    h("h3", { id: "scenario-results-heading" }, "What if: scenarios"),
+    h("p", { class: "scenario-summary" }, `The verdict above is the worst of the base case and ${scenarios.length} scenario${scenarios.length === 1 ? "" : "s"}; ${governing} holds the governing limit. Scenarios are screening questions, not permission to run that way.`),
+    h("table", { class: "values scenario-table" },
+      h("caption", { class: "visually-hidden" }, "Each scenario's verdict, governing rule and margin"),
+      h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Case and verdict"), h("th", { scope: "col" }, "Rule that governs"), h("th", { scope: "col" }, "Margin"))),
+      rowsBody),
+    changes);
+}
+
 /** Fills the result body with a whole answer: the answer first, then the details of every stage, the record and the cautions. */
 export function renderEvaluation(body, container) {
   const stages = body.stages || [];
@@ -367,7 +428,12 @@ export function renderEvaluation(body, container) {
   const chartWidth = Math.max(300, container.clientWidth - 4);
   container.append(verdictBanner(body.verdict));
   container.append(answerFirst(body));
-  container.append(h("h3", { class: "details-heading" }, "Details"));
+  const hasScenarios = (body.scenarios || []).length > 0;
+  if (hasScenarios) {
+    container.append(scenarioTable(body));
+  }
+
+  container.append(h("h3", { class: "details-heading" }, hasScenarios ? "Details: the base case (as entered)" : "Details"));
   for (const stage of stages) {
     container.append(stageSection(stage, stages.length, chartWidth));
   }
