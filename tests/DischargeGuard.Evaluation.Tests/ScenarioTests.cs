@@ -115,6 +115,9 @@ public sealed class ScenarioTests
         // Cooling water lost: stage 2 takes stage 1's discharge temperature (first law, no heat removed).
         var t2 = (T1Kelvin * ArgonStageTemperatureRatio(2.5, 0.8)) - Celsius;
         AssertEx.Within(t2, response.Scenarios[1].Stages[1].Suction.Temperature.Value, 0.01, "cooling-water failure");
+
+        // The words count stages from 1, as people and the page do: the request's stages[1] is "stage 2".
+        Assert.Contains(response.Scenarios[0].Changes, c => c.Contains("before stage 2", StringComparison.Ordinal));
     }
 
     [Fact]

@@ -208,6 +208,7 @@ internal static class ScenarioChanges
         }
     }
 
+    // Words for people count stages from 1 (the request's stages[1] is "stage 2"), as the page and the reports do.
     private static string StagesText(IReadOnlyList<int>? stages) =>
-        stages is null ? "every cooled stage" : "stage" + (stages.Count == 1 ? " " : "s ") + string.Join(", ", stages.Select(i => i.ToString(CultureInfo.InvariantCulture)));
+        stages is null ? "every cooled stage" : "stage" + (stages.Count == 1 ? " " : "s ") + string.Join(", ", stages.Select(i => (i + 1).ToString(CultureInfo.InvariantCulture)));
 }
