@@ -1,3 +1,4 @@
+using System.Globalization;
 using UnitsNet;
 
 namespace DischargeGuard.Thermo;
@@ -54,7 +55,10 @@ public static class RealGasStageSolver
         ArgumentNullException.ThrowIfNull(gas);
         if (!TrySolveCore(gas, conditions, CompressionPath.DefaultToleranceKelvin, CompressionPath.DefaultMaxIterations, out var result))
         {
-            throw CompressionPath.OutsideRange(gas.IdealGas, nameof(StageConditions.DischargePressure));
+            throw ThermoErrors.OutOfRange(
+                nameof(StageConditions.DischargePressure),
+                null,
+                string.Create(CultureInfo.InvariantCulture, $"The discharge temperature would lie outside the model's valid range {gas.MinimumKelvin:0.##}–{gas.MaximumKelvin:0.##} K (the equation of state's range and the ideal-gas data's, whichever is narrower)."));
         }
 
         return result;

@@ -126,6 +126,20 @@ public class EvaluationPipelineGergTests
     }
 
     [Fact]
+    public void Gerg_WhenTheDischargeTemperatureIsAboveTheExtendedRange_IsUnprocessableOnMethodNamingThe700KLimit()
+    {
+        // N2 1 → 12 bar(a) from 50 °C, ηs 0.8: T2s ≈ 323 K · 12^(0.4/1.4) ≈ 657 K, T2 ≈ 323 + 334/0.8 ≈ 740 K, above
+        // GERG-2008's 700 K (hand calculation, k = 1.4). The message names the model's range, not the ideal-gas data's
+        // 200–6000 K, which would read as though the stage were inside it.
+        var problem = Refuse(Request(N2, "gerg-2008", "1 bara", "50 °C", "12 bara"));
+
+        Assert.Equal(ProblemKind.Unprocessable, problem.Kind);
+        var message = Assert.Single(problem.Errors["method"]);
+        Assert.Contains("–700 K", message, StringComparison.Ordinal);
+        Assert.DoesNotContain("6000", message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Gerg_WhenASpeciesIsNotAComponent_IsUnprocessableOnMethodNamingIt()
     {
         var problem = Refuse(Request(Ammonia, "gerg-2008", "2 bara", "20 °C", "8 bara"));

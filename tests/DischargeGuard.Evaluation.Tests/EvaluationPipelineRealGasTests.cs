@@ -148,6 +148,6 @@ public class EvaluationPipelineRealGasTests
             "estimatedUpperBound" => TemperatureQuantity.EstimatedUpperBound,
             _ => TemperatureQuantity.Estimated,
         };
-        AssertEx.Within(governing.Limit.Value, atEnvelope.TemperatureOf(quantity).DegreesCelsius, 0.05, "governing temperature at the envelope pressure");
+        AssertEx.Within(governing.Limit!.Value, atEnvelope.TemperatureOf(quantity).DegreesCelsius, 0.05, "governing temperature at the envelope pressure");
     }
 }

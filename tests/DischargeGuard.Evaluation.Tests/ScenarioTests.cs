@@ -197,6 +197,8 @@ public sealed class ScenarioTests
     [InlineData("fraction", "scenarios[0].recycle.fraction", "[0, 1)")]
     [InlineData("first", "scenarios[0].override.stages[0].fedDirectly", "first stage")]
     [InlineData("name", "scenarios[1].name", "earlier scenario")]
+    [InlineData("cooler-day", "scenarios[0].hotDay.suctionTemperatureRise", "0 K or more")]
+    [InlineData("cleaner", "scenarios[0].fouledCooler.approachRise", "0 K or more")]
     public void Validate_WhenAScenarioIsBad_RefusesKeyedByItsPath(string which, string path, string fragment)
     {
         ScenarioInput[] scenarios = which switch
@@ -204,6 +206,8 @@ public sealed class ScenarioTests
             "fouled" => [new ScenarioInput { Name = "fouled", FouledCooler = new FouledCoolerInput { Stages = [5], ApproachRise = Q("8 K") } }],
             "fraction" => [new ScenarioInput { Name = "recycle", Recycle = new RecycleInput { Fraction = 1.2 } }],
             "first" => [new ScenarioInput { Name = "direct", Override = new EvaluationRequest { Stages = [new StageInput { FedDirectly = true }] } }],
+            "cooler-day" => [new ScenarioInput { Name = "hot", HotDay = new HotDayInput { SuctionTemperatureRise = Q("-5 K") } }],
+            "cleaner" => [new ScenarioInput { Name = "fouled", FouledCooler = new FouledCoolerInput { Stages = [1], ApproachRise = Q("-3 K") } }],
             _ => [new ScenarioInput { Name = "a", Recycle = new RecycleInput { Fraction = 0.1 } }, new ScenarioInput { Name = "a", Recycle = new RecycleInput { Fraction = 0.2 } }],
         };
         AssertFailure(ArgonTrain(Argon("100 kPa(a)", "200 kPa(a)"), Argon(null, "400 kPa(a)")) with { Scenarios = scenarios }, path, fragment);

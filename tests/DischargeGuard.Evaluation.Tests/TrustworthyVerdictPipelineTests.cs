@@ -270,4 +270,55 @@ public sealed class TrustworthyVerdictPipelineTests
 
         Assert.True(refused.Count == 0, $"{refused.Count} refused:\n" + string.Join("\n", refused.Take(5)));
     }
+
+    [Fact]
+    public void ProhibitedCombination_GovernsTheStageAndTheAnswer_WhateverTheNumericMargins()
+    {
+        // Counter-example: ammonia with a standard FKM seal failed on R-SEAL-FKM-AMMONIA-AMINE (a rule with no number),
+        // while both the stage's and the answer's governing named R-API618-GEN with +35 K of margin: the words
+        // contradicted the verdict. A violation with no number decides the stage, so it governs, and no envelope is
+        // given because no operating point makes the combination acceptable.
+        var response = Evaluate(Request(new Dictionary<string, double> { ["NH3"] = 1 }, Stage("2 bara", "20 °C", "8 bara", lubricant: "pao-dab")));
+        var stage = response.Stages[0];
+
+        Assert.Equal("fail", response.Verdict);
+        Assert.Contains(stage.Findings, f => f.RuleId == "R-API618-GEN" && f.Margin!.Value > 0);
+        Assert.Equal("R-SEAL-FKM-AMMONIA-AMINE", stage.Governing!.RuleId);
+        Assert.Null(stage.Governing.Limit);
+        Assert.Null(stage.Governing.Margin);
+        Assert.Null(stage.Envelope);
+        Assert.Equal("R-SEAL-FKM-AMMONIA-AMINE", response.Governing!.RuleId);
+        Assert.Equal(0, response.Governing.Stage);
+        Assert.Null(response.Governing.Margin);
+    }
+
+    [Fact]
+    public void LiquidAtALaterStage_GovernsTheAnswer_NotTheFirstStagesMargin()
+    {
+        // Propane cooled to 30 °C at 12 bara after stage 1: its vapour pressure at 30 °C is about 10.8 bar (NIST Chemistry
+        // WebBook saturation table, from memory, verify), so the second stage's suction is liquid. Before the fix the
+        // answer failed while its governing named stage 1's passing limit with a positive margin.
+        var request = Request(new Dictionary<string, double> { ["C3H8"] = 1 }, Stage("3 bara", "20 °C", "12 bara")) with
+        {
+            Stages =
+            [
+                Stage("3 bara", "20 °C", "12 bara"),
+                new StageInput
+                {
+                    Intercooler = new IntercoolerInput { OutletTemperature = Q("30 °C") },
+                    Discharge = new DischargeInput { Pressure = Q("20 bara") },
+                    Efficiency = new EfficiencyInput { Isentropic = 0.80 },
+                    Equipment = new EquipmentInput { CompressorType = "recip-lubricated", Lubricant = "mineral-vdl", ValveMaterial = "peek", SealMaterial = "fkm" },
+                },
+            ],
+        };
+        var response = Evaluate(request);
+
+        Assert.Equal("fail", response.Verdict);
+        Assert.NotEqual("fail", response.Stages[0].Verdict);
+        Assert.Equal("R-SUCTION-LIQUID", response.Stages[1].Governing!.RuleId);
+        Assert.Equal(1, response.Governing!.Stage);
+        Assert.Equal("R-SUCTION-LIQUID", response.Governing.RuleId);
+        Assert.Null(response.Governing.Margin);
+    }
 }

@@ -15,6 +15,9 @@ internal static class EvaluationReport
 {
     private static readonly CultureInfo Invariant = CultureInfo.InvariantCulture;
 
+    // A governing rule with no number (a prohibited combination, liquid at the suction): no figure makes it acceptable.
+    private const string NoNumberWords = "no limit figure: the condition itself fails the stage, whatever the temperature (see its finding)";
+
     private static readonly Dictionary<string, string> VerdictWords = new(StringComparer.Ordinal)
     {
         ["pass"] = "PASS",
@@ -147,7 +150,7 @@ internal static class EvaluationReport
         var rule = Text(g, "ruleId") ?? string.Empty;
         var finding = Array(stage, "findings").FirstOrDefault(f => Text(f, "ruleId") == rule);
         var governing = stage.TryGetProperty("governing", out var sg) ? sg : default;
-        var limit = governing.ValueKind == JsonValueKind.Object && governing.TryGetProperty("limit", out var l) ? Q(l) : "—";
+        var limit = governing.ValueKind == JsonValueKind.Object && governing.TryGetProperty("limit", out var l) ? Q(l) : NoNumberWords;
         var margin = g.TryGetProperty("margin", out var m) ? m : default;
         var beyond = margin.ValueKind == JsonValueKind.Object && margin.GetProperty("value").GetDouble() < 0;
         h.Append("<table class=\"values\">\n");
@@ -306,7 +309,9 @@ internal static class EvaluationReport
         {
             var margin = g.TryGetProperty("margin", out var m) ? m : default;
             var words = margin.ValueKind == JsonValueKind.Object ? $"{Q(margin)} {(margin.GetProperty("value").GetDouble() < 0 ? "beyond the limit" : "below the limit")}" : "—";
-            Row(h, "Governing limit", $"{Title(s, Text(g, "ruleId"))} ({Text(g, "ruleId")}) {Q(g.GetProperty("limit"))} on the {Text(g, "quantity")} temperature; margin {words}");
+            Row(h, "Governing limit", g.TryGetProperty("limit", out var gl)
+                ? $"{Title(s, Text(g, "ruleId"))} ({Text(g, "ruleId")}) {Q(gl)} on the {Text(g, "quantity")} temperature; margin {words}"
+                : $"{Title(s, Text(g, "ruleId"))} ({Text(g, "ruleId")}): {NoNumberWords}");
         }
 
         if (s.TryGetProperty("envelope", out var envelope))

@@ -92,7 +92,7 @@ public static class TextReport
                 Format.Q(s.Discharge.PressureAbsolute),
                 t is null ? "not evaluated" : Format.Q(t.Isentropic),
                 t is null ? "liquid at suction" : $"{Format.Q(t.Estimated)} ({Format.N(t.EstimatedLowerBound.Value, "0.#")}–{Format.Q(t.EstimatedUpperBound)})",
-                s.Governing is { } g ? $"{g.RuleId} {Format.Q(g.Limit)} ({g.Quantity})" : "none applies",
+                s.Governing is { } g ? g.Limit is null ? $"{g.RuleId} (no number: fails as stated)" : $"{g.RuleId} {Format.Q(g.Limit)} ({g.Quantity})" : "none applies",
                 s.Governing?.Margin is { } margin ? Format.Q(margin) : "—",
                 Format.Verdict(s.Verdict));
         }

@@ -379,12 +379,16 @@ public sealed record SpecificWorkDto(QuantityDto Isentropic, QuantityDto Actual)
 /// <param name="WaterMoleFractionAfter">Water mole fraction of the saturated gas the stage sees.</param>
 public sealed record CondensateDto(double MassFractionOfInlet, QuantityDto? Rate, double WaterMoleFractionAfter);
 
-/// <summary>The governing finding.</summary>
+/// <summary>
+/// The governing finding: a violation with no number where one fires (a prohibited combination, liquid at the suction;
+/// then <c>limit</c> and <c>margin</c> are absent and the finding's message says why), else the violation limit with the
+/// smallest margin.
+/// </summary>
 /// <param name="RuleId">Rule id.</param>
-/// <param name="Quantity">Quantity it checks.</param>
-/// <param name="Limit">Its violation limit.</param>
-/// <param name="Margin">Limit minus value (negative: beyond the limit).</param>
-public sealed record GoverningDto(string RuleId, string Quantity, QuantityDto Limit, QuantityDto? Margin);
+/// <param name="Quantity">Quantity it checks (<c>combination</c> for a rule with no number).</param>
+/// <param name="Limit">Its violation limit; absent for a rule with no number.</param>
+/// <param name="Margin">Limit minus value (negative: beyond the limit); absent for a rule with no number.</param>
+public sealed record GoverningDto(string RuleId, string Quantity, QuantityDto? Limit, QuantityDto? Margin);
 
 /// <summary>The operating envelope before the governing limit.</summary>
 /// <param name="MaxDischargePressure">Highest absolute discharge pressure, when one exists.</param>

@@ -36,11 +36,15 @@ public sealed class EvaluationResult
         ServiceClasses = serviceClasses;
         Cautions = cautions;
         Governing = stages
-            .Where(s => s.Governing?.Margin is not null)
+            .Where(s => s.Governing is not null)
             .OrderByDescending(s => (int)s.Verdict)
-            .ThenBy(s => s.Governing!.Margin!.Value.SiValue)
+            .ThenBy(s => GoverningOrder(s.Governing!))
             .FirstOrDefault();
     }
+
+    // Among stages of equal verdict: a violation with no number (a prohibited combination, liquid at the suction) comes
+    // first, then the smallest margin. Kelvin and ratio margins are ordered by their SI values, as before.
+    private static double GoverningOrder(Finding governing) => governing.Margin?.SiValue ?? double.NegativeInfinity;
 
     /// <summary>The evaluation id (UUIDv7), shared by the answer and its audit record.</summary>
     public Guid Id { get; }
@@ -63,12 +67,12 @@ public sealed class EvaluationResult
     /// </summary>
     public ScenarioOutcome? GoverningScenario =>
         Scenarios
-            .Where(s => s.Result.Governing?.Governing?.Margin is not null)
+            .Where(s => s.Result.Governing?.Governing is not null)
             .Select(s => (Scenario: (ScenarioOutcome?)s, Stage: s.Result.Governing!))
             .Prepend((Scenario: null, Stage: Governing!))
-            .Where(c => c.Stage?.Governing?.Margin is not null)
+            .Where(c => c.Stage?.Governing is not null)
             .OrderByDescending(c => (int)c.Stage.Verdict)
-            .ThenBy(c => c.Stage.Governing!.Margin!.Value.SiValue)
+            .ThenBy(c => GoverningOrder(c.Stage.Governing!))
             .Select(c => c.Scenario)
             .FirstOrDefault();
 
@@ -172,8 +176,14 @@ public sealed class StageOutcome
     /// <summary>The measured discharge temperature the request stated.</summary>
     public Temperature? Measured => Facts.MeasuredDischarge;
 
-    /// <summary>The governing finding: the applicable violation limit with the smallest margin.</summary>
-    public Finding? Governing => Ruled?.Governing;
+    /// <summary>
+    /// The finding that decides the stage: a violation with no number where one fires (a prohibited combination, liquid
+    /// at the suction, which is all a stage that was not evaluated can have), else the applicable violation limit with
+    /// the smallest margin.
+    /// </summary>
+    public Finding? Governing => Ruled is { } ruled
+        ? ruled.Governing
+        : Findings.FirstOrDefault(f => f.Severity == Severity.Violation && f.Margin is null);
 
     /// <summary>Every finding of the stage, once.</summary>
     public IReadOnlyList<Finding> Findings { get; }

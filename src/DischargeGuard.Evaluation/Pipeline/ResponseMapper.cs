@@ -65,6 +65,10 @@ public static class ResponseMapper
     private static GoverningSummaryDto? Governing(EvaluationResult result, OutputUnitSystem u) =>
         result.Governing is { Governing: { } g } gs ? new GoverningSummaryDto(gs.Index, g.RuleId, g.Margin is { } m ? u.Reading(m) : null) : null;
 
+    private static GoverningDto? GoverningOf(StageOutcome o, OutputUnitSystem u) => o.Governing is { } g
+        ? new GoverningDto(g.RuleId, g.Quantity.ToName(), g.Limit is null ? null : LimitOf(g, u), g.Margin is { } m ? u.Reading(m) : null)
+        : null;
+
     private static TrainBoundDto BoundOf(TrainBound b, OutputUnitSystem u) =>
         new(b.Value is { } p ? u.PressureAbsolute(p) : null, b.Status, b.Stage, b.RuleId);
 
@@ -121,6 +125,7 @@ public static class ResponseMapper
             {
                 NotEvaluated = reason,
                 Properties = full ? new PropertiesDto(Math.Round(r.KSuction, 6), Math.Round(r.KDischarge, 6), 1.0, 1.0) : null,
+                Governing = GoverningOf(o, u),
             };
         }
 
@@ -161,9 +166,7 @@ public static class ResponseMapper
                     : new SpecificWorkDto(u.SpecificEnergy(r.SpecificIsentropicWork), u.SpecificEnergy(r.SpecificActualWork))
                 : null,
             Power = (used?.Power ?? r.Power) is { } power ? u.Power(power) : null,
-            Governing = o.Governing is { Limit: not null } g
-                ? new GoverningDto(g.RuleId, g.Quantity.ToName(), LimitOf(g, u)!, g.Margin is { } m ? u.Reading(m) : null)
-                : null,
+            Governing = GoverningOf(o, u),
             Envelope = EnvelopeOf(o, barometer, u, full),
             RealGas = full && o.RealGas is { } realGas ? RealGasOf(o, realGas, u) : null,
             Measured = facts.MeasuredDischarge is { } measured

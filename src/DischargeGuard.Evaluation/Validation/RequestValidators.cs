@@ -3,6 +3,7 @@ using DischargeGuard.Evaluation.Contract;
 using DischargeGuard.Rules.Units;
 using DischargeGuard.Thermo;
 using FluentValidation;
+using UnitsNet;
 
 namespace DischargeGuard.Evaluation.Validation;
 
@@ -154,9 +155,19 @@ public sealed class EvaluationRequestValidator : AbstractValidator<EvaluationReq
 
             void Difference(QuantityInput? q, string at)
             {
-                if (q is not null && !units.TryParse(q.Text, QuantityKind.TemperatureDifference, out _, out var error))
+                if (q is null)
+                {
+                    return;
+                }
+
+                if (!units.TryParse(q.Text, QuantityKind.TemperatureDifference, out var parsed, out var error))
                 {
                     context.AddFailure(at, $"'{q.Text}': {error!.Problem} Accepted units: {string.Join(", ", error.AcceptedTokens)}.");
+                }
+                else if (parsed!.Quantity is TemperatureDelta { Kelvins: < 0 })
+                {
+                    // A hot day and a fouled cooler are the harder cases: a negative rise would turn them into milder ones.
+                    context.AddFailure(at, $"'{q.Text}': a rise is 0 K or more (a scenario asks about the harder case; state a milder one with override).");
                 }
             }
 

@@ -165,7 +165,8 @@ public sealed record NotChecked(string RuleId, string Title, IReadOnlyList<strin
 /// <param name="Disabled">Rules a layer disabled.</param>
 /// <param name="ServiceClasses">Effective service classes (declared and detected).</param>
 /// <param name="DetectedServiceClasses">The service classes detected from the composition.</param>
-/// <param name="Governing">The violation-rule finding with the smallest margin.</param>
+/// <param name="Governing">The finding that decides the stage: a violation with no number (a prohibited combination, liquid at
+/// the suction) where one fires, else the violation-rule finding with the smallest margin.</param>
 /// <param name="Envelope">The envelope before the governing limit, when a calculator was given.</param>
 public sealed record StageResult(int StageIndex, Verdict Verdict, IReadOnlyList<Finding> Findings, IReadOnlyList<NotChecked> NotChecked,
     IReadOnlyList<DisabledRule> Disabled, IReadOnlyList<string> ServiceClasses, IReadOnlyList<string> DetectedServiceClasses, Finding? Governing, EnvelopeEstimate? Envelope);

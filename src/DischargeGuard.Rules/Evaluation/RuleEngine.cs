@@ -155,6 +155,13 @@ public static class RuleEngine
             }
         }
 
+        // A violation with no number (a prohibited combination, liquid at the suction) decides the stage whatever the
+        // margins of the numeric limits: it governs, and no operating point moves it, so no envelope is computed.
+        if (findings.FirstOrDefault(f => f.Severity == Severity.Violation && f.Margin is null) is { } decisive)
+        {
+            return new StageResult(stage.StageIndex, verdict, findings, notChecked ?? (IReadOnlyList<NotChecked>)[], rules.Disabled, classes, detected, decisive, null);
+        }
+
         EnvelopeEstimate? env = null;
         if (envelope is not null && governing is not null)
         {

@@ -88,8 +88,19 @@ function tag(kind, word) {
   return h("span", { class: `tag tag-${kind}` }, word);
 }
 
+// What the page says of a governing rule that has no number: no temperature or pressure makes the condition acceptable.
+const NO_NUMBER_WORDS = "none: the condition itself fails the stage, whatever the temperature (see its finding)";
+
 function governingBlock(stage) {
   const governing = stage.governing;
+  if (governing && !governing.limit) {
+    // A rule with no number (a prohibited combination, liquid at the suction) decides the stage outright.
+    const title = ((stage.findings || []).find((f) => f.ruleId === governing.ruleId) || {}).title;
+    return h("div", { class: "governing", "data-rule": governing.ruleId },
+      h("p", {}, h("strong", {}, "Governing: "), `${governing.ruleId}${title ? ` (${title})` : ""}`),
+      h("p", {}, h("strong", {}, "Margin: "), NO_NUMBER_WORDS));
+  }
+
   if (stage.notEvaluated) {
     return h("div", { class: "governing" }, h("p", {}, "No temperature limit governs: the stage was not evaluated (see above)."));
   }
@@ -346,9 +357,11 @@ function answerFirst(body) {
     const title = ((stage.findings || []).find((f) => f.ruleId === governing.ruleId) || {}).title || governing.ruleId;
     const margin = ref.margin || governing.margin;
     add(`Governing limit${where}`, `${title} (${governing.ruleId})`, "governing");
-    add("Limit and margin", margin
-      ? `${q(governing.limit)}; ${marginWords(margin)}`
-      : q(governing.limit), "margin");
+    add("Limit and margin", !governing.limit
+      ? NO_NUMBER_WORDS
+      : margin
+        ? `${q(governing.limit)}; ${marginWords(margin)}`
+        : q(governing.limit), "margin");
   } else {
     add("Governing limit", stage && stage.notEvaluated ? "none: the stage was not evaluated" : "none: no violation-level limit applied", "governing");
   }
