@@ -42,8 +42,9 @@ public sealed class CalibrationPipelineTests
     {
         // Hand calculation (argon, constant cp, k = 5/3): r = 3, T2s = 300·3^0.4 = 465.554 K; measured 500 K gives
         // ηs = 165.554/200 = 0.82777; (n−1)/n = ln(500/300)/ln 3 = 0.464974, ηp = 0.4/0.464974 = 0.86026;
-        // at r = 4 the same ηp gives T2 = 300·4^0.464974 = 571.56 K.
-        var response = Evaluate(Request("Ar", Stage("400 kPa(a)", Measured("500 K"))));
+        // at r = 4 the same ηp gives T2 = 300·4^0.464974 = 571.56 K. The hand calculation is the ideal gas's, so the ideal
+        // gas decides (under auto, Peng-Robinson would, its discharge being above GERG-2008's normal 450 K).
+        var response = Evaluate(Request("Ar", Stage("400 kPa(a)", Measured("500 K"))) with { Method = "ideal-gas" });
         var stage = response.Stages[0];
 
         Assert.Equal("calibration", stage.Efficiency.Source);
@@ -64,6 +65,48 @@ public sealed class CalibrationPipelineTests
         var stage = Evaluate(Request("Ar", Stage("300 kPa(a)", Measured("500 K")))).Stages[0];
 
         AssertEx.Within(500 - 273.15, stage.DischargeTemperature!.Estimated.Value, 0.05);
+    }
+
+    [Theory]
+    // Counter-example: CO2 30 → 75 bar(a) from 40 °C, measured 135 °C at that duty. The efficiency was fitted on the
+    // ideal gas and applied with the real-gas model that decides, so the measured duty came back 133.96 °C under
+    // GERG-2008 and 136.69 °C under Peng-Robinson. Consistency (no property data needed): at its own duty a calibration
+    // gives back its measurement, whichever model decides.
+    [InlineData("auto", "gerg-2008")]
+    [InlineData("gerg-2008", "gerg-2008")]
+    [InlineData("peng-robinson", "peng-robinson")]
+    [InlineData("ideal-gas", "ideal-gas")]
+    public void Calibration_AtItsOwnDuty_ReproducesTheMeasurementWhicheverModelDecides(string method, string decidedBy)
+    {
+        var duty = new CalibrationInput
+        {
+            Suction = new SuctionInput { Pressure = Q("30 bara"), Temperature = Q("40 °C") },
+            Discharge = new DischargeInput { Pressure = Q("75 bara") },
+            MeasuredDischargeTemperature = Q("135 °C"),
+        };
+        var request = new EvaluationRequest
+        {
+            Asset = "K-101A",
+            Site = new SiteInput { Id = Site, BarometricPressure = Q("98.6 kPa") },
+            Gas = new GasInput { Composition = new Dictionary<string, double> { ["CO2"] = 1 } },
+            Method = method,
+            Stages =
+            [
+                new StageInput
+                {
+                    Suction = new SuctionInput { Pressure = Q("30 bara"), Temperature = Q("40 °C") },
+                    Discharge = new DischargeInput { Pressure = Q("75 bara") },
+                    Equipment = new EquipmentInput { CompressorType = "recip-nonlube" },
+                    Calibration = duty,
+                },
+            ],
+        };
+        var stage = Evaluate(request).Stages[0];
+
+        Assert.Equal(decidedBy, stage.Method);
+        AssertEx.Within(135, stage.DischargeTemperature!.Estimated.Value, 0.01, "the measured duty comes back");
+        // The efficiency shown is the one the deciding model used, and the calibration block shows the same figure.
+        AssertEx.Within(stage.Efficiency.Polytropic, stage.Efficiency.Calibration!.ImpliedPolytropic!.Value, 1e-6, "implied = used");
     }
 
     [Fact]

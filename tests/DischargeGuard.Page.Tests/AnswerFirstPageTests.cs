@@ -71,6 +71,49 @@ public sealed partial class AnswerFirstPageTests(BrowserFixture browser)
         await page.AssertCleanAsync();
     }
 
+    [SkippableFact]
+    public async Task AnswerFirst_WhenARuleWithNoNumberGoverns_NamesItAndSaysNoLimitFigureOnThePageAndTheReport()
+    {
+        // Ammonia with a standard FKM seal: R-SEAL-FKM-AMMONIA-AMINE fails the stage with no number, while every
+        // temperature limit passes. The first screen names that rule as governing and says no figure makes it acceptable,
+        // never a passing limit's positive margin; the printable record says the same (and is served, not a 500).
+        browser.Require();
+        await using var host = PageHost.StartOpen();
+        await using var page = await OpenAsync(390, 844, host.BaseAddress);
+        const string body = """
+            {"asset": "C-311A", "site": {"id": "marlow-fen", "barometricPressure": "101.3 kPa"},
+             "gas": {"composition": {"NH3": 1}},
+             "stages": [{"suction": {"pressure": "2 bara", "temperature": "20 °C"}, "discharge": {"pressure": "8 bara"},
+               "efficiency": {"isentropic": 0.8},
+               "equipment": {"compressorType": "recip-lubricated", "lubricant": "pao-dab", "valveMaterial": "peek", "sealMaterial": "fkm"}}]}
+            """;
+        var posted = await page.Page.APIRequest.PostAsync(new Uri(host.BaseAddress, "/v1/evaluations").ToString(), new APIRequestContextOptions
+        {
+            Headers = new Dictionary<string, string> { ["Content-Type"] = "application/json" },
+            Data = body,
+        });
+        Assert.Equal(200, posted.Status);
+        using var answer = JsonDocument.Parse(await posted.TextAsync());
+        Assert.Equal("R-SEAL-FKM-AMMONIA-AMINE", answer.RootElement.GetProperty("governing").GetProperty("ruleId").GetString());
+        var id = answer.RootElement.GetProperty("id").GetString()!;
+
+        await page.Page.GotoAsync(new Uri(host.BaseAddress, $"/?evaluation={id}").ToString());
+        await page.At("#result-body > .verdict").WaitForAsync();
+        Assert.Equal("fail", await page.At("#result-body > .verdict").GetAttributeAsync("data-verdict"));
+        Assert.Contains("R-SEAL-FKM-AMMONIA-AMINE", await page.At("[data-answer='governing'] dd").InnerTextAsync(), StringComparison.Ordinal);
+        var margin = await page.At("[data-answer='margin'] dd").InnerTextAsync();
+        Assert.Contains("the condition itself fails the stage", margin, StringComparison.Ordinal);
+        Assert.DoesNotContain("below the limit", margin, StringComparison.Ordinal);
+        Assert.Equal(0, await OverflowAsync(page));
+        await page.AssertCleanAsync();
+
+        var report = await page.Page.APIRequest.GetAsync(new Uri(host.BaseAddress, $"/v1/evaluations/{id}/report").ToString());
+        Assert.Equal(200, report.Status);
+        var html = await report.TextAsync();
+        Assert.Contains("R-SEAL-FKM-AMMONIA-AMINE", html, StringComparison.Ordinal);
+        Assert.Contains("no limit figure", html, StringComparison.Ordinal);
+    }
+
     private static async Task AssertAnswerFirstAsync(PageSession page, JsonElement answer, string name, int width, int height)
     {
         var outside = await page.Page.EvaluateAsync<string[]>(

@@ -35,7 +35,7 @@ internal static class OpenApiVocabularies
 
     public static readonly Vocabulary Severity = new("Severity", "How serious a rule's outcome is. Rules are info, warning or violation; findings add pass (checked and inside the limit and its warning band).", Lower<Rules.Model.Severity>());
 
-    public static readonly Vocabulary MethodChoice = new("MethodChoice", "The gas model asked for: auto (default: GERG-2008 where it covers the gas and both states, else Peng-Robinson when the switch criteria call for a real gas, else the ideal gas), ideal-gas, peng-robinson (real-gas is its older alias) or gerg-2008.", ContractValues.Methods);
+    public static readonly Vocabulary MethodChoice = new("MethodChoice", "The gas model asked for: auto (default: GERG-2008 where it covers the gas and both states, else Peng-Robinson; the ideal gas only where Peng-Robinson cannot answer and the switch criteria do not call for a real gas), ideal-gas, peng-robinson (real-gas is its older alias) or gerg-2008.", ContractValues.Methods);
 
     public static readonly Vocabulary GasModel = new("GasModel", "The gas model an answer rests on: ideal-gas (cp(T) from NASA polynomials), peng-robinson or gerg-2008.", GasModelValues);
 

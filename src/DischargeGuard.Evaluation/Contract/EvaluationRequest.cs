@@ -18,7 +18,7 @@ public sealed record EvaluationRequest
     /// <summary>The gas: a preset, or a composition by mole or mass fraction.</summary>
     public GasInput? Gas { get; init; }
 
-    /// <summary>auto (default), ideal-gas, peng-robinson (alias real-gas) or gerg-2008: the gas model the answer rests on; auto picks GERG-2008 where it covers every species and both states lie in its normal range, else Peng-Robinson when the switch criteria call for a real gas, else the ideal gas.</summary>
+    /// <summary>auto (default), ideal-gas, peng-robinson (alias real-gas) or gerg-2008: the gas model the answer rests on; auto picks GERG-2008 where it covers every species and both states lie in its normal range, else Peng-Robinson (the ideal gas only where Peng-Robinson cannot answer and the switch criteria do not call for a real gas).</summary>
     public string? Method { get; init; }
 
     /// <summary>metric (default) or imperial.</summary>

@@ -16,6 +16,74 @@ namespace DischargeGuard.Evaluation.Pipeline;
 /// <param name="Note">How the fit is carried to the proposed duty.</param>
 internal sealed record StageCalibration(CalibrationFit Fit, bool Used, Temperature Measured, string Note)
 {
+    /// <summary>The measured duty's suction pressure, suction temperature and discharge pressure (absolute), for a refit by a real-gas model.</summary>
+    public (Pressure SuctionPressure, Temperature SuctionTemperature, Pressure DischargePressure)? Duty { get; init; }
+
+    /// <summary>
+    /// Where a real-gas model decides, the polytropic efficiency that reproduces the measured temperature at the measured
+    /// duty with that model (the binder's fit is ideal gas): a secant on ηp in (0, 1]. Null when the stage's estimate
+    /// does not come from an efficiency calibration, or when no ηp in (0, 1] reproduces the measurement with the model
+    /// (the ideal-gas fit is then kept, as the answer's note says).
+    /// </summary>
+    /// <param name="solve">The deciding model's stage solve.</param>
+    public RealGasCalibration? RefitWith(Func<StageConditions, RealGasStageResult?> solve)
+    {
+        if (!Used || Fit.Kind != CalibrationKind.Efficiency || Duty is not { } duty)
+        {
+            return null;
+        }
+
+        var measured = Measured.Kelvins;
+        RealGasStageResult? At(double eta) =>
+            eta is > 0 and <= 1 ? solve(new StageConditions(duty.SuctionPressure, duty.SuctionTemperature, duty.DischargePressure, StageEfficiency.Polytropic(eta))) : null;
+
+        // T2 falls as ηp rises; the ideal-gas fit is within a few per cent of the answer, so a secant from it converges in
+        // three to five solves. 1e-4 K is far inside the thermometer's own error.
+        var x0 = Math.Min(1, Fit.PolytropicEfficiency);
+        var x1 = Math.Min(1, x0 * 1.01);
+        if (x1 == x0)
+        {
+            x1 = x0 * 0.99;
+        }
+
+        if (At(x0) is not { } r0 || At(x1) is not { } r1)
+        {
+            return null;
+        }
+
+        var f0 = r0.EstimatedDischargeTemperature.Kelvins - measured;
+        var f1 = r1.EstimatedDischargeTemperature.Kelvins - measured;
+        for (var k = 0; k < 30; k++)
+        {
+            if (Math.Abs(f1) < 1e-4)
+            {
+                return new RealGasCalibration(x1, r1.IsentropicEfficiency, r1.IsentropicDischargeTemperature);
+            }
+
+            if (f1 == f0)
+            {
+                return null;
+            }
+
+            var x2 = x1 - (f1 * (x1 - x0) / (f1 - f0));
+            x2 = Math.Clamp(x2, 0.5 * x1, Math.Min(1, 1.5 * x1));
+            if (At(x2) is not { } r2)
+            {
+                return null;
+            }
+
+            (x0, f0) = (x1, f1);
+            (x1, f1, r1) = (x2, r2.EstimatedDischargeTemperature.Kelvins - measured, r2);
+            if (x1 >= 1 && f1 > 0)
+            {
+                // Even η = 1 (polytropic) leaves the model above the measurement: no efficiency reproduces it.
+                return null;
+            }
+        }
+
+        return null;
+    }
+
     /// <summary>True when the proposed duty's estimate comes from the apparent exponent rather than an efficiency.</summary>
     public bool UsesExponent => Used && Fit.Kind == CalibrationKind.ApparentExponent;
 
@@ -58,3 +126,9 @@ internal sealed record StageCalibration(CalibrationFit Fit, bool Used, Temperatu
         }
     }
 }
+
+/// <summary>A calibration refitted with the real-gas model that decides the stage.</summary>
+/// <param name="PolytropicEfficiency">The polytropic efficiency that reproduces the measurement with that model, dimensionless.</param>
+/// <param name="IsentropicEfficiency">The isentropic efficiency of the same path at the measured duty, dimensionless.</param>
+/// <param name="IsentropicAtMeasuredDuty">That model's η = 1 discharge temperature at the measured duty.</param>
+internal sealed record RealGasCalibration(double PolytropicEfficiency, double IsentropicEfficiency, Temperature IsentropicAtMeasuredDuty);

@@ -234,6 +234,31 @@ public sealed class EvaluationPipeline
         var realGas = idealDischarge is StagePhase.TwoPhase or StagePhase.Liquid
             ? RealGasStage.NotComputed("The real gas was not computed: the discharge state lies inside the two-phase region.")
             : RealGasChoice.Decide(s, conditions, input.Method, i, ex => FromThermo(ex, input.Request.Stages!, i), secondOpinion: context.Detail == AnswerDetail.Full);
+
+        // A calibration fitted on the ideal gas does not reproduce its own measurement under a real-gas model (about 1 K
+        // for CO2 at 30 → 75 bar): where a real gas decides, the efficiency is refitted with it and the stage re-solved.
+        RealGasCalibration? refit = null;
+        if (realGas.Used && bound.Calibration is { } calibration)
+        {
+            var decided = realGas;
+            refit = calibration.RefitWith(c =>
+            {
+                try
+                {
+                    return decided.SolveDeciding(c);
+                }
+                catch (ThermoInputException)
+                {
+                    return null;
+                }
+            });
+            if (refit is not null)
+            {
+                conditions = conditions with { Efficiency = StageEfficiency.Polytropic(refit.PolytropicEfficiency, conditions.Efficiency.Uncertainty) };
+                realGas = RealGasChoice.Decide(s, conditions, realGas.Method, i, ex => FromThermo(ex, input.Request.Stages!, i), secondOpinion: context.Detail == AnswerDetail.Full)
+                    with { Reason = realGas.Reason };
+            }
+        }
         if (realGas.Result is { } rgr)
         {
             facts = facts with { RealGasCorrection = TemperatureDelta.FromKelvins(Math.Abs(rgr.DifferenceFromIdealGas.Kelvins)) };
@@ -274,7 +299,8 @@ public sealed class EvaluationPipeline
             RealGas = realGas,
             Flooded = flooded,
             ByLimit = context.Detail == AnswerDetail.Full ? StageExtras.ByLimit(facts, ruled, envelope) : null,
-            Curve = context.IncludeCurve ? StageExtras.Curve(s, bound.Train.Efficiency, ruled, realGas.Used ? realGas : null) : null,
+            Curve = context.IncludeCurve ? StageExtras.Curve(s, conditions.Efficiency, ruled, realGas.Used ? realGas : null) : null,
+            RealGasCalibration = refit,
         };
         return (outcome, ruled.ServiceClasses);
     }

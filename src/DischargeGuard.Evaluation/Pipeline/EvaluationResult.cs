@@ -185,6 +185,9 @@ public sealed class StageOutcome
         ? ruled.Governing
         : Findings.FirstOrDefault(f => f.Severity == Severity.Violation && f.Margin is null);
 
+    /// <summary>The calibration refitted with the real-gas model that decided, where one did and the stage is calibrated.</summary>
+    internal RealGasCalibration? RealGasCalibration { get; init; }
+
     /// <summary>Every finding of the stage, once.</summary>
     public IReadOnlyList<Finding> Findings { get; }
 

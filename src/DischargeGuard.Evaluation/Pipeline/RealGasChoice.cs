@@ -20,7 +20,7 @@ internal static class GasModels
     /// <summary>Request value kept as an alias of <see cref="PengRobinson"/> (the name before GERG-2008 was added).</summary>
     public const string RealGasAlias = "real-gas";
 
-    /// <summary>Request value: choose per stage (GERG-2008 where it covers the gas and the states, else Peng-Robinson when the switch criteria call for a real gas, else the ideal gas).</summary>
+    /// <summary>Request value: choose per stage (GERG-2008 where it covers the gas and the states, else Peng-Robinson; the ideal gas only where Peng-Robinson cannot answer and its switch criteria do not call for a real gas).</summary>
     public const string Auto = "auto";
 
     /// <summary>The request's method with the alias resolved (null → auto).</summary>
@@ -107,11 +107,11 @@ internal static class RealGasChoice
         var missing = s.Gas.Components.Select(c => c.Species.Id).Where(id => !Gerg2008.IsComponent(id)).ToArray();
         if (missing.Length > 0)
         {
-            return $"GERG-2008 does not cover {string.Join(", ", missing)}, so it was not used;";
+            return $"GERG-2008 does not cover {string.Join(", ", missing)}, so it was not used.";
         }
 
         return string.Create(CultureInfo.InvariantCulture,
-            $"A state of this stage lies outside GERG-2008's normal range ({Gerg2008.NormalMinimumKelvin:0}–{Gerg2008.NormalMaximumKelvin:0} K, up to {Gerg2008.NormalMaximumPressurePascals / 1e6:0} MPa), so it was not used;");
+            $"A state of this stage lies outside GERG-2008's normal range ({Gerg2008.NormalMinimumKelvin:0}–{Gerg2008.NormalMaximumKelvin:0} K, up to {Gerg2008.NormalMaximumPressurePascals / 1e6:0} MPa), so it was not used.");
     }
 
     // GERG-2008 decides. required (method gerg-2008): outside the extended range, a species it does not cover, or a
@@ -185,8 +185,10 @@ internal static class RealGasChoice
         return new RealGasStage(GasModels.Gerg2008, reason, pr, mixture, result, GasModels.Gerg2008, prResult, assessment, note);
     }
 
-    // Peng-Robinson beside (or deciding) as before GERG-2008: "auto" uses it when the switch criteria call for a real gas,
-    // "peng-robinson" always, "ideal-gas" never; its answer is computed beside the ideal one whenever it can be.
+    // Peng-Robinson where GERG-2008 does not decide: "auto" and "peng-robinson" use it, "ideal-gas" never; its answer is
+    // computed beside the ideal one whenever it can be. Under "auto" the switch criteria are still assessed and reported
+    // (realGas.recommended, reasons); they decide only whether a Peng-Robinson failure is an error or a note beside the
+    // ideal gas.
     private static RealGasStage PengRobinsonOf(TrainStageResult s, StageConditions conditions, string method, int index, Func<ThermoInputException, string> mapMember, string reasonPrefix)
     {
         var mixture = RealGasMixture.Create(s.Gas);
@@ -194,9 +196,9 @@ internal static class RealGasChoice
         try
         {
             assessment = RealGasCriteria.Assess(mixture, s.Stage.SuctionTemperature, s.Stage.SuctionPressure, s.Stage.EstimatedDischargeTemperature, s.Stage.DischargePressure);
-            var use = method == GasModels.PengRobinson || (method == GasModels.Auto && assessment.RealGasRecommended);
+            var use = method is GasModels.PengRobinson or GasModels.Auto;
             var result = RealGasStageSolver.Solve(mixture, conditions);
-            return new RealGasStage(use ? GasModels.PengRobinson : GasModels.IdealGas, Reason(method, reasonPrefix, use), mixture, null, result, GasModels.PengRobinson, result, assessment, null);
+            return new RealGasStage(use ? GasModels.PengRobinson : GasModels.IdealGas, Reason(method, reasonPrefix, use, assessment), mixture, null, result, GasModels.PengRobinson, result, assessment, null);
         }
         catch (ThermoInputException ex)
         {
@@ -209,15 +211,18 @@ internal static class RealGasChoice
                     mapMember(ex), "Real gas (Peng-Robinson): " + ex.Reason);
             }
 
-            return new RealGasStage(GasModels.IdealGas, Reason(method, reasonPrefix, false), mixture, null, null, null, null, assessment, "The real-gas answer could not be computed: " + ex.Reason);
+            var why = method == GasModels.Auto
+                ? reasonPrefix + " Peng-Robinson could not answer (" + ex.Reason + "), and the switch criteria do not call for a real gas, so the ideal gas decides."
+                : reasonPrefix;
+            return new RealGasStage(GasModels.IdealGas, why, mixture, null, null, null, null, assessment, "The real-gas answer could not be computed: " + ex.Reason);
         }
     }
 
-    private static string Reason(string method, string prefix, bool used) => method != GasModels.Auto
+    private static string Reason(string method, string prefix, bool used, RealGasAssessment assessment) => method != GasModels.Auto || !used
         ? prefix
-        : prefix + (used
-            ? " the Peng-Robinson switch criteria call for a real gas (see reasons)."
-            : " the Peng-Robinson switch criteria do not call for a real gas, so the ideal gas decides.");
+        : prefix + (assessment.RealGasRecommended
+            ? " Peng-Robinson decides (its switch criteria call for a real gas, see reasons)."
+            : " Peng-Robinson decides (near the ideal gas here: its switch criteria do not call for a real gas).");
 
     private static RequestProblemException Method(string message) =>
         RequestProblemException.Field(ProblemKind.Unprocessable, "out-of-range", "The request is physically impossible or outside the data's valid range.", "method", message);

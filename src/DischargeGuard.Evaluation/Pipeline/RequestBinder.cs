@@ -423,7 +423,7 @@ internal sealed class RequestBinder(UnitVocabulary units)
             source = ("calibration", note);
         }
 
-        return new StageCalibration(fit, used, measured, note);
+        return new StageCalibration(fit, used, measured, note) { Duty = (p1, t1, p2) };
     }
 
     // Cooled: a jacket coolant temperature stated, or a machine whose injected oil or liquid removes heat.

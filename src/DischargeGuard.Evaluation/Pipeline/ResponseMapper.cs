@@ -217,18 +217,19 @@ public static class ResponseMapper
         }
 
         var fit = cal.Fit;
+        var refit = o.RealGasCalibration;
         return dto with
         {
             Calibration = new CalibrationDto(
                 fit.Kind == CalibrationKind.Efficiency ? "efficiency" : "apparent-exponent",
                 cal.Used,
                 u.Temperature(cal.Measured),
-                u.Temperature(fit.IsentropicAtMeasuredDuty),
-                fit.Kind == CalibrationKind.Efficiency ? Math.Round(fit.IsentropicEfficiency, 6) : null,
-                fit.Kind == CalibrationKind.Efficiency ? Math.Round(fit.PolytropicEfficiency, 6) : null,
+                u.Temperature(refit?.IsentropicAtMeasuredDuty ?? fit.IsentropicAtMeasuredDuty),
+                fit.Kind == CalibrationKind.Efficiency ? Math.Round(refit?.IsentropicEfficiency ?? fit.IsentropicEfficiency, 6) : null,
+                fit.Kind == CalibrationKind.Efficiency ? Math.Round(refit?.PolytropicEfficiency ?? fit.PolytropicEfficiency, 6) : null,
                 Math.Round(fit.Exponent, 6),
                 Math.Round(fit.ExponentRatio, 6),
-                cal.Note),
+                refit is null ? cal.Note : cal.Note + " Refitted with " + o.RealGas!.Method + ", the model that decides this stage, so the measured duty is reproduced by it."),
         };
     }
 
