@@ -36,6 +36,25 @@ public sealed class GergMethodEndpointTests(ServiceFactory factory) : IClassFixt
         Assert.True(stage.At("realGas.pengRobinson.estimated").ValueKind == System.Text.Json.JsonValueKind.Object);
     }
 
+    [Theory]
+    // The compact (default) answer says which model decided each stage and why, as the full one does.
+    [InlineData("auto", "{\"preset\": \"methane\"}", "gerg-2008", "normal range")]
+    [InlineData("auto", "{\"composition\": {\"NH3\": 1}}", "peng-robinson", "does not cover NH3")]
+    [InlineData("gerg-2008", "{\"preset\": \"methane\"}", "gerg-2008", "was requested")]
+    public async Task Evaluate_CompactAnswer_NamesTheDecidingModelAndWhy(string method, string gas, string model, string why)
+    {
+        var request = Methane("5 bara", "12 bara");
+        request["method"] = method;
+        request["gas"] = System.Text.Json.Nodes.JsonNode.Parse(gas);
+        using var response = await factory.EvaluateAsync(request);
+        var body = await Json.ReadAsync(response);
+
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.Equal("compact", body.At("detail").GetString());
+        Assert.Equal(model, body.At("stages[0].method").GetString());
+        Assert.Contains(why, body.At("stages[0].methodReason").GetString(), StringComparison.Ordinal);
+    }
+
     [Fact]
     public async Task Evaluate_WhenMethodIsGerg2008AboveItsExtendedRange_Is422OnMethod()
     {

@@ -209,8 +209,11 @@ public sealed record StageDto
     /// <summary>Rules that applied but could not be checked, with the missing input.</summary>
     public required IReadOnlyList<NotCheckedDto> NotChecked { get; init; }
 
-    /// <summary>ideal-gas, peng-robinson or gerg-2008: which model this stage's temperatures, work, envelope and curve come from (why: <c>realGas.methodReason</c>).</summary>
+    /// <summary>ideal-gas, peng-robinson or gerg-2008: which model this stage's temperatures, work, envelope and curve come from (why: <c>methodReason</c>).</summary>
     public string Method { get; init; } = "ideal-gas";
+
+    /// <summary>Why that model decided this stage (the request, GERG-2008's coverage and normal range, Peng-Robinson's switch criteria); absent for a stage that was not evaluated.</summary>
+    public string? MethodReason { get; init; }
 
     /// <summary>Both models' answers, their difference, the switch criteria and the defaulted k_ij pairs.</summary>
     public RealGasDto? RealGas { get; init; }

@@ -137,6 +137,7 @@ public static class ResponseMapper
         return stage with
         {
             Method = o.Method,
+            MethodReason = o.RealGas?.Reason,
             DischargeTemperature = new DischargeTemperatureDto(
                 u.Temperature(facts.Isentropic),
                 u.Temperature(facts.Estimated),
