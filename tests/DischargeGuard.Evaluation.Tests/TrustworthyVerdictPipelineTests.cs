@@ -1,5 +1,6 @@
 using System.Globalization;
 using DischargeGuard.Evaluation.Contract;
+using DischargeGuard.Evaluation.Pipeline;
 using DischargeGuard.Thermo;
 using UnitsNet;
 using static DischargeGuard.Evaluation.Tests.Scenario;
@@ -320,5 +321,42 @@ public sealed class TrustworthyVerdictPipelineTests
         Assert.Equal(1, response.Governing!.Stage);
         Assert.Equal("R-SUCTION-LIQUID", response.Governing.RuleId);
         Assert.Null(response.Governing.Margin);
+    }
+
+    [Fact]
+    public void OxygenAndWaterAlone_AfterACoolerDropsWater_IsEvaluatedNotAnInternalError()
+    {
+        // Counter-example found by the batch fuzz test: O2 and H2O alone, cooled between stages so water condenses. The
+        // dry-basis O2 fraction O2/(1 − H2O) came out a hair above 1 and the service answered 500. The dry basis of a gas
+        // that is O2 and water is exactly 1 (consistency, no property data).
+        var request = Request(new Dictionary<string, double> { ["H2O"] = 0.363636, ["O2"] = 0.636364 }, Stage("942.5531 psig", "333.4965 °C", "2492.495 psig"), "ideal-gas") with
+        {
+            Site = new SiteInput { Id = Site, BarometricPressure = Q("101.325 kPa") },
+            Stages =
+            [
+                new StageInput
+                {
+                    Suction = new SuctionInput { Pressure = Q("942.5531 psig"), Temperature = Q("333.4965 °C") },
+                    Discharge = new DischargeInput { Pressure = Q("2492.495 psig") },
+                    Efficiency = new EfficiencyInput { Polytropic = 1 },
+                },
+                new StageInput
+                {
+                    Intercooler = new IntercoolerInput { OutletTemperature = Q("137.6002 °C") },
+                    Discharge = new DischargeInput { Pressure = Q("17535.6409 psig") },
+                    Efficiency = new EfficiencyInput { Isentropic = 1 },
+                },
+            ],
+        };
+        var outcome = Run(request);
+
+        if (outcome.Response is { } response)
+        {
+            Assert.Contains("oxygen-rich", response.Gas.ServiceClasses);
+        }
+        else
+        {
+            Assert.Equal(ProblemKind.Unprocessable, outcome.Problem!.Kind);
+        }
     }
 }

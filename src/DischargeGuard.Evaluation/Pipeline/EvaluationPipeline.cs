@@ -325,6 +325,7 @@ public sealed class EvaluationPipeline
         var index = bound.Index;
         var equipment = bound.Input.Equipment;
         var r = s.Stage;
+        var composition = StageComposition.Of(s.Gas);
         return new StageFacts
         {
             StageIndex = index,
@@ -336,11 +337,11 @@ public sealed class EvaluationPipeline
             RingMaterialId = equipment?.RingMaterial,
             SpringMaterialId = equipment?.SpringMaterial,
             DischargeMaterial = equipment?.DischargeMaterial,
-            MoleFractions = StageComposition.Of(s.Gas),
+            MoleFractions = composition,
             DeclaredServiceClasses = input.DeclaredServiceClasses,
             GasMolarMass = s.Gas.MolarMass,
             // One basis for every oxygen class: the dry-basis fraction, whatever the humidity.
-            OxygenMoleFraction = Ratio.FromDecimalFractions(s.Gas.MoleFractionOf("O2") / (1 - s.Gas.WaterMoleFraction)),
+            OxygenMoleFraction = Ratio.FromDecimalFractions(ServiceClassDetector.DryFraction(composition, "O2") ?? 0),
             DischargeOxygenPartialPressure = Pressure.FromPascals(s.Gas.MoleFractionOf("O2") * r.DischargePressure.Pascals),
             SuctionTemperature = r.SuctionTemperature,
             SuctionPressure = r.SuctionPressure,

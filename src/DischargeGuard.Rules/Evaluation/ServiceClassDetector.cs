@@ -80,7 +80,9 @@ public static class ServiceClassDetector
 
         var x = moleFractions.TryGetValue(species, out var v) ? v : 0;
         var water = species == Water ? 0 : moleFractions.TryGetValue(Water, out var w) ? w : 0;
-        return water >= 1 ? 0 : x / (1 - water);
+        // Clamped to [0, 1]: after a cooler drops water, x/(1 − water) of a gas that is this species and water alone can
+        // round a hair above 1 (a 500 before this clamp); a gas of water alone has no dry part.
+        return water >= 1 ? 0 : Math.Clamp(x / (1 - water), 0, 1);
     }
 
     /// <summary>The partial pressure of a species at the given pressure (wet gas), Pa; null when either input is unknown.</summary>
